@@ -1,0 +1,62 @@
+"""The one exception hierarchy of the package.
+
+Every error a user can cause derives from :class:`WithstandError`; the CLI turns it into a
+one-line message and an exit code, the web app into a 4xx page or a JSON error.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+
+class WithstandError(Exception):
+    """Base of every error the package raises on purpose."""
+
+    exit_code = 2
+
+
+@dataclass(frozen=True)
+class FieldProblem:
+    """One thing wrong with one field: ``path`` like ``models[2].modes[1].max_input``."""
+
+    path: str
+    message: str
+
+    def __str__(self) -> str:
+        return f"{self.path}: {self.message}" if self.path else self.message
+
+
+class InvalidInput(WithstandError):
+    """Input that cannot be accepted; carries every problem found, each naming its field."""
+
+    def __init__(self, problems: list[FieldProblem] | FieldProblem | str, path: str = ""):
+        if isinstance(problems, str):
+            problems = [FieldProblem(path, problems)]
+        elif isinstance(problems, FieldProblem):
+            problems = [problems]
+        self.problems: list[FieldProblem] = list(problems)
+        super().__init__("; ".join(str(p) for p in self.problems))
+
+    def prefixed(self, prefix: str) -> "InvalidInput":
+        """The same problems with ``prefix`` put in front of each path."""
+        out = []
+        for p in self.problems:
+            if not p.path:
+                out.append(FieldProblem(prefix, p.message))
+            elif p.path.startswith("["):
+                out.append(FieldProblem(prefix + p.path, p.message))
+            else:
+                out.append(FieldProblem(f"{prefix}.{p.path}" if prefix else p.path, p.message))
+        return InvalidInput(out)
+
+
+class NotFound(WithstandError):
+    """A named unit, model, user or hold that does not exist."""
+
+
+class NotAllowed(WithstandError):
+    """The user's role may not do this."""
+
+
+class DatabaseNotReady(WithstandError):
+    """The database is missing or not migrated to the latest revision."""
