@@ -62,33 +62,33 @@ def parse_quantity(value, dim: Dimension, field: str = "", *, default_unit: str 
     """
     if value is None or (isinstance(value, str) and not value.strip()):
         raise InvalidInput(f"is empty; give {dim.article} {dim.name} such as "
-                           f"'{_example(dim)}'", field)
+                           f"'{example_text(dim)}'", field)
     if isinstance(value, bool):
         raise InvalidInput(f"'{value}' is not {dim.article} {dim.name}", field)
     if isinstance(value, (int, float)):
         if default_unit is None:
             raise InvalidInput(f"'{value}' has no unit; write it with one, such as "
-                               f"'{_example(dim)}'", field)
+                               f"'{example_text(dim)}'", field)
         text = f"{value!r} {default_unit}"
         shown = str(value)
     elif isinstance(value, str):
         text = _normalise(value)
         shown = value.strip()
     else:
-        raise InvalidInput(f"must be text such as '{_example(dim)}', not {type(value).__name__}",
+        raise InvalidInput(f"must be text such as '{example_text(dim)}', not {type(value).__name__}",
                            field)
     try:
         q = ureg.Quantity(text)
     except Exception:
         raise InvalidInput(f"'{shown}' is not a quantity this field understands; "
-                           f"write {dim.article} {dim.name} such as '{_example(dim)}'", field) \
+                           f"write {dim.article} {dim.name} such as '{example_text(dim)}'", field) \
             from None
     if not isinstance(q, ureg.Quantity):
         q = ureg.Quantity(q, "")
     if q.dimensionless and not isinstance(value, (int, float)):
         if default_unit is None:
             raise InvalidInput(f"'{shown}' has no unit; write it with one, such as "
-                               f"'{_example(dim)}'", field)
+                               f"'{example_text(dim)}'", field)
         q = ureg.Quantity(q.magnitude, default_unit)
     if q.dimensionality != _dimensionality(dim):
         raise InvalidInput(f"'{shown}' is {_describe(q.dimensionality)}; this field needs "
@@ -109,7 +109,7 @@ _EXAMPLES = {"voltage": "600 V", "current": "10 A", "resistance": "10 Mohm",
              "length": "2000 m", "frequency": "50 Hz", "I²t": "300 A^2*s"}
 
 
-def _example(dim: Dimension) -> str:
+def example_text(dim: Dimension) -> str:
     return _EXAMPLES[dim.name]
 
 

@@ -1,0 +1,478 @@
+"""The fleet file, ``withstand-fleet/1`` (JSON or YAML): sites, models and units.
+
+:func:`parse_fleet` validates a whole document and returns engine specs and unit records, or
+raises :class:`InvalidInput` listing every problem with its path. :func:`fleet_to_document`
+writes the same format back, precisely enough that export, import and export again give the
+same file.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from datetime import date
+from typing import Annotated, Any, Literal
+
+from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, ValidationError, field_validator
+
+from .. import units as u
+from ..engine import spec
+from ..errors import FieldProblem, InvalidInput
+from .common import (Capacitance, Current, Duration, Energy, I2t, Length, Power, Resistance,
+                     Voltage, path_of, problems_from, read_document, text_of)
+
+FORMAT = "withstand-fleet/1"
+
+# The dimension of each front-end parameter (SPEC §3), for parsing and for writing back.
+ELEMENT_PARAM_DIMS: dict[str, u.Dimension] = {
+    "resistance": u.RESISTANCE, "power": u.POWER, "pulse_energy": u.ENERGY,
+    "max_voltage": u.VOLTAGE, "hold_current": u.CURRENT, "trip_current": u.CURRENT,
+    "max_current": u.CURRENT, "trip_time": u.TIME, "trip_time_current": u.CURRENT,
+    "tripped_power": u.POWER, "varistor_voltage": u.VOLTAGE, "max_dc": u.VOLTAGE,
+    "max_ac": u.VOLTAGE, "clamp_voltage": u.VOLTAGE, "clamp_current": u.CURRENT,
+    "energy": u.ENERGY, "peak_current": u.CURRENT, "breakdown_voltage": u.VOLTAGE,
+    "peak_power": u.POWER, "sparkover_dc": u.VOLTAGE, "sparkover_impulse": u.VOLTAGE,
+    "arc_voltage": u.VOLTAGE, "holdover_voltage": u.VOLTAGE, "current": u.CURRENT,
+    "voltage": u.VOLTAGE, "voltage_dc": u.VOLTAGE, "breaking_capacity": u.CURRENT,
+    "i2t": u.I2T, "gap": u.LENGTH, "withstand": u.VOLTAGE,
+}
+
+
+class _Doc(BaseModel):
+    model_config = ConfigDict(extra="forbid", frozen=True)
+
+
+def _ratio(value: Any) -> Any:
+    """An attenuation as a bare ratio: 1000, "1000", or "1000:1"."""
+    if isinstance(value, str):
+        m = re.fullmatch(r"\s*([0-9.eE+-]+)\s*(?::\s*1\s*)?", value)
+        if not m:
+            raise ValueError(f"'{value}' is not a ratio; write it as 1000 or '1000:1'")
+        return float(m.group(1))
+    return value
+
+
+Ratio = Annotated[float, BeforeValidator(_ratio), Field(ge=1)]
+Name = Annotated[str, Field(min_length=1, max_length=120)]
+Key = Annotated[str, Field(min_length=1, max_length=64, pattern=r"^[A-Za-z0-9][A-Za-z0-9._-]*$")]
+
+
+class SiteDoc(_Doc):
+    name: Name
+    altitude: Length = 0.0
+
+
+class FuseDoc(_Doc):
+    current: Current | None = None
+    voltage: Voltage | None = None
+    voltage_dc: Voltage | None = None
+    breaking_capacity: Current | None = None
+    i2t: I2t | None = None
+
+    def spec(self) -> spec.Fuse:
+        return spec.Fuse(**self.model_dump())
+
+
+class RatingDoc(_Doc):
+    category: Literal["II", "III", "IV", "none"]
+    voltage: Voltage
+    transient: Voltage | None = None
+    max_altitude: Length | None = None
+
+    @field_validator("category", mode="before")
+    @classmethod
+    def _cat(cls, v):
+        # "CAT III" and "iii" are how people write it
+        if isinstance(v, str):
+            v = v.strip()
+            v = re.sub(r"(?i)^cat\s*", "", v)
+            return v if v == "none" else v.upper()
+        return v
+
+    @field_validator("voltage")
+    @classmethod
+    def _positive(cls, v):
+        if v <= 0:
+            raise ValueError("a rated voltage must be more than zero")
+        return v
+
+
+class ModeDoc(_Doc):
+    key: Key
+    label: str = ""
+    measures: Literal[spec.MEASURES]  # type: ignore[valid-type]
+    waveform: Literal[spec.WAVEFORMS] = "both"  # type: ignore[valid-type]
+    terminals: list[Name] = []
+    input_resistance: Resistance | None = None
+    input_capacitance: Capacitance | None = None
+    max_input: Voltage | None = None
+    max_current: Current | None = None
+    max_duration: Duration | None = None
+    discharge_energy: Energy | None = None
+    clamp: bool = False
+    fuse: FuseDoc | None = None
+    closes: list[str] = []
+
+
+class ElementDoc(BaseModel):
+    """An element: id, type, between, and the parameters its type takes (SPEC §3)."""
+
+    model_config = ConfigDict(extra="allow", frozen=True)
+    id: Key
+    type: Literal[spec.ELEMENT_TYPES]  # type: ignore[valid-type]
+    between: list[Name] = Field(min_length=2, max_length=2)
+
+
+class ModelDoc(_Doc):
+    key: Key
+    maker: str = ""
+    name: str = ""
+    kind: Literal[spec.KINDS]  # type: ignore[valid-type]
+    connectors: list[str] = []
+    integrated_leads: bool = False
+    max_altitude: Length = spec.DEFAULT_MAX_ALTITUDE
+    pollution_degree: Literal[1, 2, 3, 4] = spec.DEFAULT_POLLUTION_DEGREE
+    ratings: list[RatingDoc] = []
+    modes: list[ModeDoc] = []
+    front_end: list[ElementDoc] = []
+    connector: str | None = None
+    current_rating: Current | None = None
+    tip_exposure: Length | None = None
+    fuse: FuseDoc | None = None
+    attenuation: Ratio | None = None
+    required_load: Resistance | None = None
+    output_resistance: Resistance | None = None
+    min_voltage: Voltage | None = None
+    resistance: Resistance | None = None
+    energy: Energy | None = None
+    power: Power | None = None
+    max_voltage: Voltage | None = None
+
+
+class UnitDoc(_Doc):
+    tag: Key
+    model: Key
+    serial: str = ""
+    site: str | None = None
+    custodian: str = ""
+    status: Literal[spec.UNIT_STATUSES] = "in-service"  # type: ignore[valid-type]
+    verified_on: date | None = None
+    verification_due: date | None = None
+    notes: str = ""
+
+
+class FleetDoc(_Doc):
+    format: Literal["withstand-fleet/1"]
+    sites: list[SiteDoc] = []
+    models: list[ModelDoc] = []
+    units: list[UnitDoc] = []
+
+
+@dataclass(frozen=True)
+class SiteRecord:
+    name: str
+    altitude: float = 0.0
+
+
+@dataclass(frozen=True)
+class UnitRecord:
+    """A unit as the fleet file and the store hold it (more than the engine needs)."""
+
+    tag: str
+    model: str
+    serial: str = ""
+    site: str | None = None
+    custodian: str = ""
+    status: str = "in-service"
+    verified_on: date | None = None
+    verification_due: date | None = None
+    notes: str = ""
+
+
+@dataclass(frozen=True)
+class FleetContent:
+    sites: tuple[SiteRecord, ...]
+    models: tuple[spec.ModelSpec, ...]
+    units: tuple[UnitRecord, ...]
+
+
+def _element_spec(doc: ElementDoc, path: str, problems: list[FieldProblem]) -> spec.Element | None:
+    allowed = spec.ELEMENT_PARAMS[doc.type]
+    params = {}
+    for name, raw in (doc.model_extra or {}).items():
+        where = f"{path}.{name}"
+        if name not in allowed:
+            problems.append(FieldProblem(where, f"a {doc.type} has no parameter '{name}'; it "
+                                                f"takes {', '.join(allowed)}"))
+            continue
+        try:
+            params[name] = u.parse_quantity(raw, ELEMENT_PARAM_DIMS[name], where)
+        except InvalidInput as exc:
+            problems.extend(exc.problems)
+    if doc.type == "switch" and "gap" not in params and "withstand" not in params:
+        problems.append(FieldProblem(path, "a switch needs its contact gap or its withstand "
+                                           "voltage"))
+    try:
+        return spec.Element(doc.id, doc.type, tuple(doc.between), tuple(params.items()))
+    except spec.SpecError as exc:
+        problems.append(FieldProblem(path, str(exc)))
+        return None
+
+
+def _model_spec(doc: ModelDoc, path: str, problems: list[FieldProblem]) -> spec.ModelSpec | None:
+    before = len(problems)
+    elements = []
+    for i, e in enumerate(doc.front_end):
+        el = _element_spec(e, f"{path}.front_end[{i}]", problems)
+        if el is not None:
+            elements.append(el)
+    seen = set()
+    for i, e in enumerate(doc.front_end):
+        if e.id in seen:
+            problems.append(FieldProblem(f"{path}.front_end[{i}].id",
+                                         f"'{e.id}' is used by another element"))
+        seen.add(e.id)
+    modes = []
+    switches = {e.id for e in doc.front_end if e.type == "switch"}
+    mode_keys = set()
+    for i, m in enumerate(doc.modes):
+        mpath = f"{path}.modes[{i}]"
+        if m.key in mode_keys:
+            problems.append(FieldProblem(f"{mpath}.key", f"'{m.key}' is used by another mode"))
+        mode_keys.add(m.key)
+        for j, s in enumerate(m.closes):
+            if s not in switches:
+                problems.append(FieldProblem(f"{mpath}.closes[{j}]",
+                                             f"'{s}' is not a switch of this model's front end"))
+        if m.clamp and m.terminals:
+            problems.append(FieldProblem(f"{mpath}.terminals",
+                                         "a clamp-jaw mode has no terminals"))
+        if not m.clamp and (len(m.terminals) != 2 or m.terminals[0] == m.terminals[1]):
+            problems.append(FieldProblem(f"{mpath}.terminals",
+                                         "must name two different terminals, e.g. [V, COM]"))
+        if m.clamp and m.measures != "current":
+            problems.append(FieldProblem(f"{mpath}.clamp", "only a current mode can be a clamp"))
+        try:
+            modes.append(spec.Mode(
+                key=m.key, label=m.label, measures=m.measures, waveform=m.waveform,
+                terminals=tuple(m.terminals), input_resistance=m.input_resistance,
+                input_capacitance=m.input_capacitance, max_input=m.max_input,
+                max_current=m.max_current, max_duration=m.max_duration,
+                discharge_energy=m.discharge_energy, clamp=m.clamp,
+                fuse=m.fuse.spec() if m.fuse else None, closes=tuple(m.closes)))
+        except spec.SpecError:
+            pass  # reported above with its path
+    kind = doc.kind
+    if kind in spec.INSTRUMENT_KINDS and kind != "discharge-tool" and not doc.modes:
+        problems.append(FieldProblem(f"{path}.modes", f"a {kind} needs at least one mode"))
+    if kind == "hv-divider" and doc.attenuation is None:
+        problems.append(FieldProblem(f"{path}.attenuation", "a divider needs its attenuation"))
+    for i, r in enumerate(doc.ratings):
+        if r.category == "none" and r.transient is None:
+            # allowed, but the transient check will say "unknown": nothing to reject here
+            pass
+    if len(problems) > before:
+        return None
+    try:
+        return spec.ModelSpec(
+            key=doc.key, kind=kind, maker=doc.maker, name=doc.name,
+            ratings=tuple(spec.Rating(r.category, r.voltage, r.transient, r.max_altitude)
+                          for r in doc.ratings),
+            modes=tuple(modes), front_end=tuple(elements), connectors=tuple(doc.connectors),
+            integrated_leads=doc.integrated_leads, max_altitude=doc.max_altitude,
+            pollution_degree=doc.pollution_degree, connector=doc.connector,
+            current_rating=doc.current_rating, tip_exposure=doc.tip_exposure,
+            fuse=doc.fuse.spec() if doc.fuse else None, attenuation=doc.attenuation,
+            required_load=doc.required_load, output_resistance=doc.output_resistance,
+            min_voltage=doc.min_voltage, resistance=doc.resistance, energy=doc.energy,
+            power=doc.power, max_voltage=doc.max_voltage)
+    except spec.SpecError as exc:
+        problems.append(FieldProblem(path, str(exc)))
+        return None
+
+
+def parse_fleet(data: Any, *, known_models: set[str] = frozenset(),
+                known_sites: set[str] = frozenset()) -> FleetContent:
+    """Validate a whole fleet document; ``known_*`` are keys already in the database."""
+    if not isinstance(data, dict):
+        raise InvalidInput("a fleet file is a mapping with 'format: withstand-fleet/1' at the "
+                           "top")
+    if data.get("format") != FORMAT:
+        raise InvalidInput(f"must be '{FORMAT}', not {data.get('format')!r}", "format")
+    try:
+        doc = FleetDoc.model_validate(data)
+    except ValidationError as exc:
+        raise InvalidInput(problems_from(exc)) from None
+    problems: list[FieldProblem] = []
+    models = []
+    for i, m in enumerate(doc.models):
+        s = _model_spec(m, f"models[{i}]", problems)
+        if s is not None:
+            models.append(s)
+    _duplicates([m.key for m in doc.models], "models", "key", problems)
+    _duplicates([s.name for s in doc.sites], "sites", "name", problems)
+    _duplicates([x.tag for x in doc.units], "units", "tag", problems)
+    model_keys = {m.key for m in doc.models} | set(known_models)
+    site_names = {s.name for s in doc.sites} | set(known_sites)
+    for i, unit in enumerate(doc.units):
+        if unit.model not in model_keys:
+            problems.append(FieldProblem(f"units[{i}].model",
+                                         f"'{unit.model}' is not a model in this file or the "
+                                         "registry"))
+        if unit.site is not None and unit.site not in site_names:
+            problems.append(FieldProblem(f"units[{i}].site",
+                                         f"'{unit.site}' is not a site in this file or the "
+                                         "registry"))
+        if (unit.verified_on and unit.verification_due
+                and unit.verification_due < unit.verified_on):
+            problems.append(FieldProblem(f"units[{i}].verification_due",
+                                         "is before verified_on"))
+    if problems:
+        raise InvalidInput(problems)
+    return FleetContent(
+        sites=tuple(SiteRecord(s.name, s.altitude) for s in doc.sites),
+        models=tuple(models),
+        units=tuple(UnitRecord(**x.model_dump()) for x in doc.units))
+
+
+def _duplicates(values, section, field, problems):
+    seen = set()
+    for i, v in enumerate(values):
+        if v in seen:
+            problems.append(FieldProblem(f"{section}[{i}].{field}",
+                                         f"'{v}' appears twice in this file"))
+        seen.add(v)
+
+
+def load_fleet_file(path) -> FleetContent:
+    return parse_fleet(read_document(path))
+
+
+def fleet_from_file(path) -> spec.Fleet:
+    """The engine's view of a fleet file alone (models and units), e.g. for tests of plans."""
+    content = load_fleet_file(path)
+    return spec.Fleet(
+        models={m.key: m for m in content.models},
+        units=tuple(spec.UnitState(tag=x.tag, model=x.model, status=x.status, site=x.site,
+                                   verification_due=x.verification_due)
+                    for x in content.units))
+
+
+# -- writing back ------------------------------------------------------------------------------
+
+def _put(out: dict, name: str, value, dim: u.Dimension | None = None):
+    if value is None:
+        return
+    out[name] = text_of(value, dim) if dim is not None else value
+
+
+def fuse_to_document(f: spec.Fuse) -> dict:
+    out: dict = {}
+    for name, dim in (("current", u.CURRENT), ("voltage", u.VOLTAGE),
+                      ("voltage_dc", u.VOLTAGE), ("breaking_capacity", u.CURRENT),
+                      ("i2t", u.I2T)):
+        _put(out, name, getattr(f, name), dim)
+    return out
+
+
+def rating_to_document(r: spec.Rating) -> dict:
+    out: dict = {"category": r.category, "voltage": text_of(r.voltage, u.VOLTAGE)}
+    _put(out, "transient", r.transient, u.VOLTAGE)
+    _put(out, "max_altitude", r.max_altitude, u.LENGTH)
+    return out
+
+
+def mode_to_document(m: spec.Mode) -> dict:
+    out: dict = {"key": m.key, "label": m.label, "measures": m.measures}
+    if m.waveform != "both":
+        out["waveform"] = m.waveform
+    if m.terminals:
+        out["terminals"] = list(m.terminals)
+    for name, dim in (("input_resistance", u.RESISTANCE), ("input_capacitance", u.CAPACITANCE),
+                      ("max_input", u.VOLTAGE), ("max_current", u.CURRENT),
+                      ("max_duration", u.TIME), ("discharge_energy", u.ENERGY)):
+        _put(out, name, getattr(m, name), dim)
+    if m.clamp:
+        out["clamp"] = True
+    if m.fuse is not None:
+        out["fuse"] = fuse_to_document(m.fuse)
+    if m.closes:
+        out["closes"] = list(m.closes)
+    return out
+
+
+def element_to_document(e: spec.Element) -> dict:
+    out: dict = {"id": e.id, "type": e.type, "between": list(e.between)}
+    order = spec.ELEMENT_PARAMS[e.type]
+    for name, value in sorted(e.params, key=lambda p: order.index(p[0])):
+        out[name] = text_of(value, ELEMENT_PARAM_DIMS[name])
+    return out
+
+
+def model_to_document(m: spec.ModelSpec) -> dict:
+    out: dict = {"key": m.key, "maker": m.maker, "name": m.name, "kind": m.kind}
+    if m.connectors:
+        out["connectors"] = list(m.connectors)
+    if m.integrated_leads:
+        out["integrated_leads"] = True
+    if m.max_altitude != spec.DEFAULT_MAX_ALTITUDE:
+        out["max_altitude"] = text_of(m.max_altitude, u.LENGTH)
+    if m.pollution_degree != spec.DEFAULT_POLLUTION_DEGREE:
+        out["pollution_degree"] = m.pollution_degree
+    out["ratings"] = [rating_to_document(r) for r in m.ratings]
+    if m.modes:
+        out["modes"] = [mode_to_document(x) for x in m.modes]
+    if m.front_end:
+        out["front_end"] = [element_to_document(e) for e in m.front_end]
+    _put(out, "connector", m.connector)
+    for name, dim in (("current_rating", u.CURRENT), ("tip_exposure", u.LENGTH)):
+        _put(out, name, getattr(m, name), dim)
+    if m.fuse is not None:
+        out["fuse"] = fuse_to_document(m.fuse)
+    if m.attenuation is not None:
+        out["attenuation"] = f"{m.attenuation:.12g}:1"
+    for name, dim in (("required_load", u.RESISTANCE), ("output_resistance", u.RESISTANCE),
+                      ("min_voltage", u.VOLTAGE), ("resistance", u.RESISTANCE),
+                      ("energy", u.ENERGY), ("power", u.POWER), ("max_voltage", u.VOLTAGE)):
+        _put(out, name, getattr(m, name), dim)
+    return out
+
+
+def unit_to_document(x: UnitRecord) -> dict:
+    out: dict = {"tag": x.tag, "model": x.model}
+    if x.serial:
+        out["serial"] = x.serial
+    if x.site is not None:
+        out["site"] = x.site
+    if x.custodian:
+        out["custodian"] = x.custodian
+    out["status"] = x.status
+    if x.verified_on:
+        out["verified_on"] = x.verified_on.isoformat()
+    if x.verification_due:
+        out["verification_due"] = x.verification_due.isoformat()
+    if x.notes:
+        out["notes"] = x.notes
+    return out
+
+
+def fleet_to_document(content: FleetContent) -> dict:
+    return {
+        "format": FORMAT,
+        "sites": [{"name": s.name, "altitude": text_of(s.altitude, u.LENGTH)}
+                  for s in content.sites],
+        "models": [model_to_document(m) for m in content.models],
+        "units": [unit_to_document(x) for x in content.units],
+    }
+
+
+def fleet_json_schema() -> dict:
+    schema = FleetDoc.model_json_schema()
+    schema["$schema"] = "https://json-schema.org/draft/2020-12/schema"
+    schema["title"] = "withstand fleet file (withstand-fleet/1)"
+    return schema
+
+
+__all__ = ["FORMAT", "FleetContent", "SiteRecord", "UnitRecord", "parse_fleet",
+           "load_fleet_file", "fleet_from_file", "fleet_to_document", "model_to_document",
+           "fleet_json_schema", "path_of"]

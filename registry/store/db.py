@@ -1,0 +1,137 @@
+"""Connections: the engine for a database URL, SQLite's pragmas, migrations and their state."""
+
+from __future__ import annotations
+
+import contextlib
+import os
+from importlib import resources
+from pathlib import Path
+
+from alembic import command
+from alembic.config import Config
+from alembic.runtime.migration import MigrationContext
+from alembic.script import ScriptDirectory
+from sqlalchemy import create_engine, event
+from sqlalchemy.engine import Engine, make_url
+from sqlalchemy.orm import Session, sessionmaker
+
+from ..errors import DatabaseNotReady, InvalidInput
+
+SQLITE_BUSY_TIMEOUT_MS = 30_000  # writers wait this long for a lock before giving up
+
+
+def default_url(instance_path: str | os.PathLike) -> str:
+    return f"sqlite:///{Path(instance_path) / 'withstand.sqlite3'}"
+
+
+def _sqlite_pragmas(dbapi_connection, _record):
+    cur = dbapi_connection.cursor()
+    # WAL lets readers go on while one writer writes; foreign keys are off by default in SQLite.
+    cur.execute("PRAGMA journal_mode=WAL")
+    cur.execute("PRAGMA foreign_keys=ON")
+    cur.execute(f"PRAGMA busy_timeout={SQLITE_BUSY_TIMEOUT_MS}")
+    cur.close()
+
+
+def make_engine(url: str) -> Engine:
+    try:
+        parsed = make_url(url)
+    except Exception:
+        raise InvalidInput(f"'{url}' is not a database URL", "WITHSTAND_DATABASE_URL") from None
+    if parsed.get_backend_name() == "sqlite":
+        if parsed.database and parsed.database != ":memory:":
+            Path(parsed.database).parent.mkdir(parents=True, exist_ok=True)
+        engine = create_engine(parsed, connect_args={"timeout": SQLITE_BUSY_TIMEOUT_MS / 1000})
+        event.listen(engine, "connect", _sqlite_pragmas)
+        # pysqlite's own transaction handling defers BEGIN; let SQLAlchemy emit it so that
+        # `BEGIN IMMEDIATE` (used to serialise appends) works.
+        event.listen(engine, "connect", lambda c, _r: setattr(c, "isolation_level", None))
+        event.listen(engine, "begin", lambda conn: conn.exec_driver_sql(
+            "BEGIN IMMEDIATE" if conn.info.get("immediate") else "BEGIN"))
+        return engine
+    if parsed.get_backend_name() == "postgresql":
+        if parsed.get_driver_name() in ("psycopg2", "postgresql", ""):
+            parsed = parsed.set(drivername="postgresql+psycopg")
+        return create_engine(parsed, pool_pre_ping=True)
+    raise InvalidInput(f"'{parsed.get_backend_name()}' databases are not supported; use "
+                       "SQLite or PostgreSQL", "WITHSTAND_DATABASE_URL")
+
+
+def alembic_config(engine: Engine) -> Config:
+    cfg = Config()
+    cfg.set_main_option("script_location", str(resources.files("registry.migrations")))
+    cfg.attributes["engine"] = engine
+    return cfg
+
+
+def head_revision(engine: Engine) -> str:
+    return ScriptDirectory.from_config(alembic_config(engine)).get_current_head()
+
+
+def current_revision(engine: Engine) -> str | None:
+    try:
+        with engine.connect() as conn:
+            return MigrationContext.configure(conn).get_current_revision()
+    except Exception as exc:  # an unreachable server or an unreadable file
+        raise DatabaseNotReady(f"cannot open the database: {exc.__class__.__name__}: "
+                               f"{str(exc).splitlines()[0]}") from None
+
+
+def upgrade(engine: Engine, revision: str = "head") -> None:
+    command.upgrade(alembic_config(engine), revision)
+
+
+def downgrade(engine: Engine, revision: str = "base") -> None:
+    command.downgrade(alembic_config(engine), revision)
+
+
+def require_current(engine: Engine) -> None:
+    """Raise :class:`DatabaseNotReady` unless the database is at the latest migration."""
+    current = current_revision(engine)
+    if current is None:
+        raise DatabaseNotReady("the database has no tables yet; run `withstand init` to "
+                               "create it")
+    if current != head_revision(engine):
+        raise DatabaseNotReady(f"the database is at migration {current}, not the latest; "
+                               "run `withstand init` to upgrade it")
+
+
+class Database:
+    """One database: its engine and a session factory."""
+
+    def __init__(self, url: str):
+        self.url = url
+        self.engine = make_engine(url)
+        self._sessions = sessionmaker(self.engine, expire_on_commit=False)
+
+    @property
+    def is_sqlite(self) -> bool:
+        return self.engine.dialect.name == "sqlite"
+
+    def session(self) -> Session:
+        return self._sessions()
+
+    @contextlib.contextmanager
+    def transaction(self, *, immediate: bool = False):
+        """A session whose work commits on success and rolls back on any error.
+
+        ``immediate`` takes SQLite's write lock at the start (``BEGIN IMMEDIATE``), so that
+        concurrent writers queue on the busy timeout instead of reading a state that another
+        writer is about to change.
+        """
+        with contextlib.ExitStack() as stack:
+            if immediate and self.is_sqlite:
+                conn = stack.enter_context(self.engine.connect())
+                conn.info["immediate"] = True
+                session = stack.enter_context(Session(bind=conn, expire_on_commit=False))
+            else:
+                session = stack.enter_context(self._sessions())
+            try:
+                yield session
+                session.commit()
+            except BaseException:
+                session.rollback()
+                raise
+
+    def dispose(self) -> None:
+        self.engine.dispose()
