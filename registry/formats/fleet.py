@@ -299,22 +299,31 @@ def parse_fleet(data: Any, *, known_models: set[str] = frozenset(),
                            "top")
     if data.get("format") != FORMAT:
         raise InvalidInput(f"must be '{FORMAT}', not {data.get('format')!r}", "format")
-    try:
-        doc = FleetDoc.model_validate(data)
-    except ValidationError as exc:
-        raise InvalidInput(problems_from(exc)) from None
     problems: list[FieldProblem] = []
+    extra = sorted(set(data) - {"format", "sites", "models", "units"})
+    problems += [FieldProblem(k, "is not a field of this format") for k in extra]
+    # Each entry is validated alone, so that one bad model does not hide the next one's errors.
+    sites = _validate_list(data, "sites", SiteDoc, problems)
+    model_docs = _validate_list(data, "models", ModelDoc, problems)
+    unit_docs = _validate_list(data, "units", UnitDoc, problems)
     models = []
-    for i, m in enumerate(doc.models):
+    for i, m in enumerate(model_docs):
+        if m is None:
+            continue
         s = _model_spec(m, f"models[{i}]", problems)
         if s is not None:
             models.append(s)
-    _duplicates([m.key for m in doc.models], "models", "key", problems)
-    _duplicates([s.name for s in doc.sites], "sites", "name", problems)
-    _duplicates([x.tag for x in doc.units], "units", "tag", problems)
-    model_keys = {m.key for m in doc.models} | set(known_models)
-    site_names = {s.name for s in doc.sites} | set(known_sites)
-    for i, unit in enumerate(doc.units):
+    _duplicates([m and m.key for m in model_docs], "models", "key", problems)
+    _duplicates([s and s.name for s in sites], "sites", "name", problems)
+    _duplicates([x and x.tag for x in unit_docs], "units", "tag", problems)
+    # a model that failed validation is still named, so its units are not reported twice
+    raw_models = data.get("models") if isinstance(data.get("models"), list) else []
+    model_keys = ({m.get("key") for m in raw_models if isinstance(m, dict)}
+                  | set(known_models))
+    site_names = {s.name for s in sites if s} | set(known_sites)
+    for i, unit in enumerate(unit_docs):
+        if unit is None:
+            continue
         if unit.model not in model_keys:
             problems.append(FieldProblem(f"units[{i}].model",
                                          f"'{unit.model}' is not a model in this file or the "
@@ -330,14 +339,32 @@ def parse_fleet(data: Any, *, known_models: set[str] = frozenset(),
     if problems:
         raise InvalidInput(problems)
     return FleetContent(
-        sites=tuple(SiteRecord(s.name, s.altitude) for s in doc.sites),
+        sites=tuple(SiteRecord(s.name, s.altitude) for s in sites),
         models=tuple(models),
-        units=tuple(UnitRecord(**x.model_dump()) for x in doc.units))
+        units=tuple(UnitRecord(**x.model_dump()) for x in unit_docs))
+
+
+def _validate_list(data: dict, section: str, doc_type, problems: list[FieldProblem]) -> list:
+    """Each entry of ``data[section]`` validated alone; ``None`` where an entry is invalid."""
+    raw = data.get(section) or []
+    if not isinstance(raw, list):
+        problems.append(FieldProblem(section, "must be a list"))
+        return []
+    out = []
+    for i, entry in enumerate(raw):
+        try:
+            out.append(doc_type.model_validate(entry))
+        except ValidationError as exc:
+            problems.extend(problems_from(exc, (section, i)))
+            out.append(None)
+    return out
 
 
 def _duplicates(values, section, field, problems):
     seen = set()
     for i, v in enumerate(values):
+        if v is None:
+            continue
         if v in seen:
             problems.append(FieldProblem(f"{section}[{i}].{field}",
                                          f"'{v}' appears twice in this file"))

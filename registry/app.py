@@ -1,0 +1,56 @@
+"""The Flask application factory."""
+
+from __future__ import annotations
+
+from importlib import resources
+from pathlib import Path
+
+from flask import Flask
+
+from . import config as cfg
+from .extensions import csrf, db, login_manager
+
+
+def create_app(config: dict | None = None) -> Flask:
+    instance = cfg.instance_path()
+    app = Flask("registry", instance_path=str(instance), instance_relative_config=True,
+                template_folder=str(resources.files("registry.templates")),
+                static_folder=str(resources.files("registry") / "static"))
+    register_config(app, config or {})
+    register_extensions(app)
+    register_blueprints(app)
+    register_security(app)
+    return app
+
+
+def register_config(app: Flask, overrides: dict) -> None:
+    instance = Path(overrides.get("INSTANCE_PATH", app.instance_path))
+    app.config.update(
+        DATABASE_URL=overrides.get("DATABASE_URL") or cfg.database_url(instance),
+        SECRET_KEY=overrides.get("SECRET_KEY") or cfg.secret_key(instance),
+        SESSION_COOKIE_HTTPONLY=True,
+        SESSION_COOKIE_SAMESITE="Lax",
+        MAX_CONTENT_LENGTH=1024 * 1024,  # 1 MiB: plans and fleet files are far smaller
+        WTF_CSRF_TIME_LIMIT=None,
+        FLEET_PAGE_SIZE=50,
+    )
+    app.config.update({k: v for k, v in overrides.items() if k != "INSTANCE_PATH"})
+
+
+def register_extensions(app: Flask) -> None:
+    db.init_app(app)
+    csrf.init_app(app)
+    login_manager.init_app(app)
+    login_manager.login_view = "auth.login"
+    login_manager.login_message = "Log in to see the registry."
+
+
+def register_blueprints(app: Flask) -> None:
+    from .web import auth, fleet
+    app.register_blueprint(auth.bp)
+    app.register_blueprint(fleet.bp)
+
+
+def register_security(app: Flask) -> None:
+    from .web import security
+    security.init_app(app)

@@ -1,0 +1,44 @@
+"""Configuration from the environment and the instance folder.
+
+``WITHSTAND_DATABASE_URL`` selects the database (default: a SQLite file in the instance
+folder); ``WITHSTAND_SECRET_KEY`` the session key (default: one generated once and kept in the
+instance folder, so that sessions survive a restart without a key in the code);
+``WITHSTAND_INSTANCE`` the instance folder itself.
+"""
+
+from __future__ import annotations
+
+import os
+import secrets
+from pathlib import Path
+
+from .store.db import default_url
+
+
+def instance_path() -> Path:
+    env = os.environ.get("WITHSTAND_INSTANCE")
+    if env:
+        return Path(env).expanduser().resolve()
+    return Path.cwd() / "instance"
+
+
+def database_url(instance: Path | None = None) -> str:
+    return os.environ.get("WITHSTAND_DATABASE_URL") or default_url(instance or instance_path())
+
+
+def secret_key(instance: Path) -> str:
+    env = os.environ.get("WITHSTAND_SECRET_KEY")
+    if env:
+        return env
+    path = instance / "secret_key"
+    if not path.exists():
+        instance.mkdir(parents=True, exist_ok=True)
+        try:
+            # readable by the owner only; O_EXCL so that two first starts agree on one key
+            fd = os.open(path, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
+        except FileExistsError:
+            pass
+        else:
+            with os.fdopen(fd, "w") as f:
+                f.write(secrets.token_hex(32))
+    return path.read_text().strip()

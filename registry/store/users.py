@@ -1,0 +1,107 @@
+"""Logins and API tokens. Passwords are kept as slow salted hashes (scrypt, through
+Werkzeug); API tokens as SHA-256 digests, since a token is long and random already."""
+
+from __future__ import annotations
+
+import hashlib
+import re
+import secrets
+
+from sqlalchemy import select
+from sqlalchemy.orm import Session
+from werkzeug.security import check_password_hash, generate_password_hash
+
+from ..errors import InvalidInput, NotFound
+from . import models as m
+from .fleet import utcnow
+
+MIN_PASSWORD_LENGTH = 10
+USERNAME = re.compile(r"^[a-z0-9][a-z0-9._-]{1,63}$")
+
+
+def validate_username(name: str) -> str:
+    name = (name or "").strip()
+    if not USERNAME.match(name):
+        raise InvalidInput("must be 2 to 64 lower-case letters, digits, '.', '_' or '-', "
+                           "starting with a letter or digit", "username")
+    return name
+
+
+def validate_role(role: str) -> str:
+    if role not in m.ROLES:
+        raise InvalidInput(f"'{role}' is not a role; use {', '.join(m.ROLES)}", "role")
+    return role
+
+
+def validate_password(password: str) -> str:
+    if len(password or "") < MIN_PASSWORD_LENGTH:
+        raise InvalidInput(f"must be at least {MIN_PASSWORD_LENGTH} characters", "password")
+    return password
+
+
+def get_user(session: Session, username: str) -> m.User:
+    user = session.scalar(select(m.User).where(m.User.username == username))
+    if user is None:
+        raise NotFound(f"no user '{username}'")
+    return user
+
+
+def add_user(session: Session, username: str, role: str, password: str,
+             display_name: str = "") -> m.User:
+    username = validate_username(username)
+    validate_role(role)
+    validate_password(password)
+    if session.scalar(select(m.User.id).where(m.User.username == username)) is not None:
+        raise InvalidInput(f"'{username}' exists already", "username")
+    user = m.User(username=username, role=role, display_name=display_name or username,
+                  password_hash=generate_password_hash(password), active=True,
+                  created_at=utcnow())
+    session.add(user)
+    session.flush()
+    return user
+
+
+def set_password(user: m.User, password: str) -> None:
+    user.password_hash = generate_password_hash(validate_password(password))
+
+
+def authenticate(session: Session, username: str, password: str) -> m.User | None:
+    user = session.scalar(select(m.User).where(m.User.username == (username or "").strip()))
+    if user is None:
+        # spend the same time as a real check, so that timing does not tell who exists
+        check_password_hash(_DUMMY_HASH, password or "")
+        return None
+    if not user.active or not check_password_hash(user.password_hash, password or ""):
+        return None
+    return user
+
+
+_DUMMY_HASH = generate_password_hash("not-a-password")
+
+
+def token_digest(token: str) -> str:
+    return hashlib.sha256(token.encode("utf-8")).hexdigest()
+
+
+def issue_token(session: Session, user: m.User) -> str:
+    """A new API token for ``user``; only its digest is stored, so it is shown once."""
+    token = "wst_" + secrets.token_urlsafe(32)
+    session.add(m.ApiToken(user=user, digest=token_digest(token), created_at=utcnow()))
+    session.flush()
+    return token
+
+
+def revoke_tokens(session: Session, user: m.User) -> int:
+    now, count = utcnow(), 0
+    for t in user.tokens:
+        if t.revoked_at is None:
+            t.revoked_at = now
+            count += 1
+    return count
+
+
+def user_for_token(session: Session, token: str) -> m.User | None:
+    row = session.scalar(select(m.ApiToken).where(m.ApiToken.digest == token_digest(token)))
+    if row is None or row.revoked_at is not None or not row.user.active:
+        return None
+    return row.user
