@@ -1,0 +1,610 @@
+"""Checks 2 to 9 of SPEC §5, one function per check, each ``fn(ctx) -> list[Finding]``.
+
+Every function reads a :class:`~registry.engine.setups.SetupContext` (SI floats) and says, per
+item of the chain, what is required, what is available and whether it holds. Missing
+instrument data gives ``unknown``; a plan that lacks what a check needs gives ``not-run``
+naming the plan field. Never ``pass`` on a guess.
+"""
+
+from __future__ import annotations
+
+import math
+
+from ..standards import altitude as alt
+from ..standards import impulse, probe_tips
+from .findings import Finding, headroom
+from .quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, POWER, RESISTANCE, TIME, VOLTAGE,
+                       format_quantity as fq)
+from .setups import LOW_Z, SetupContext
+from .spec import DEFAULT_MAX_ALTITUDE, Fuse, ModelSpec, Rating
+
+SRC_CATEGORY = "IEC 61010-1:2010 (instruments), IEC 61010-031:2015 (probe assemblies): " \
+               "measurement category and rated voltage"
+SRC_ALTITUDE = "IEC 61010-1:2010 1.4 (rated up to 2000 m unless stated); " + alt.SOURCE
+SRC_MODE = "maker's rating for the mode (overload / max input), IEC 61010-2-033"
+SRC_MISUSE = "IEC 61010-2-033 reasonably foreseeable misuse (other modes, fused current inputs)"
+SRC_LOADING = "Ohm's law, voltage divider V*Zin/(Zin+Zs) (common practice, no source)"
+SRC_LOWZ = "P = V**2/R, maker's max_duration for the mode (common practice, no source)"
+SRC_DISCHARGE = "RC discharge: t = RC ln(V0/Vs), E = C(V0**2-Vs**2)/2 (circuit theory)"
+SRC_DIVIDER = "divider output as a Thevenin source Rout (common practice, no source)"
+
+READING_TOLERANCE = 0.01  # a reading more than 1 % low is a caution (SPEC §5.7)
+LOAD_TOLERANCE = 0.10     # a divider load more than 10 % off its required load (SPEC §5.7)
+DISCHARGE_TIME_LIMIT = 60.0  # s; a longer discharge is a caution (SPEC §5.9)
+DRAIN_FACTOR = 10.0       # R*C under ten times the duration drains appreciably (SPEC §5.9)
+
+
+def _f(check, status, subject, message, source, required="", available="", margin=None):
+    return Finding(check, status, subject, message, source, required, available, margin)
+
+
+def rating_text(r: Rating) -> str:
+    if r.category == "none":
+        return f"{fq(r.voltage, VOLTAGE)} (no category)"
+    return f"CAT {r.category} {fq(r.voltage, VOLTAGE)}"
+
+
+def _faces_circuit(ctx: SetupContext, item: ModelSpec) -> bool:
+    """Whether ``item`` is connected to the circuit itself; behind a divider or a current
+    clamp, the instrument is not."""
+    if item is ctx.instrument and (ctx.divider is not None or ctx.current_clamp is not None):
+        return False
+    return True
+
+
+# -- check 2: category and voltage ------------------------------------------------------------
+
+def category_requirement(ctx: SetupContext, item: ModelSpec) -> tuple[str | None, float]:
+    """(category required or None, voltage required) for ``item``. A mains circuit needs the
+    category and the higher of the working voltage and the voltage to earth; an isolated one
+    (or the instrument behind a divider) a voltage only."""
+    c = ctx.plan.circuit
+    if item is ctx.instrument and ctx.divider is not None:
+        return None, max(ctx.seen_voltage, ctx.seen_to_earth)
+    need = max(c.voltage, c.to_earth)
+    return (c.category if c.supply == "mains" else None), need
+
+
+def fitting_ratings(item: ModelSpec, category: str | None, need: float) -> list[Rating]:
+    """Ratings of ``item`` that cover the requirement. Neither a higher category at a lower
+    voltage nor a higher voltage at a lower category stands in for the other (SPEC §5.2)."""
+    out = []
+    for r in item.ratings:
+        if r.voltage < need:
+            continue
+        if category is not None and impulse.category_rank(r.category) < impulse.category_rank(category):
+            continue
+        out.append(r)
+    return out
+
+
+def check_category(ctx: SetupContext) -> list[Finding]:
+    out = []
+    for item in ctx.chain:
+        if item is ctx.instrument and ctx.current_clamp is not None:
+            out.append(_f("category", "pass", item.key,
+                          f"{item.key} is not connected to the circuit: it reads the output "
+                          f"of clamp {ctx.current_clamp.key}.", SRC_CATEGORY))
+            continue
+        cat, need = category_requirement(ctx, item)
+        required = (f"CAT {cat} " if cat else "") + fq(need, VOLTAGE)
+        if not item.ratings:
+            out.append(_f("category", "unknown", item.key,
+                          f"{item.key} has no rating recorded; its fitness for "
+                          f"{required} cannot be checked.", SRC_CATEGORY, required))
+            continue
+        fits = fitting_ratings(item, cat, need)
+        if fits:
+            best = max(fits, key=lambda r: r.voltage)
+            where = "at the divider's output" if (item is ctx.instrument and ctx.divider) else ""
+            out.append(_f("category", "pass", item.key,
+                          f"{item.key} is rated {rating_text(best)}, enough for {required}"
+                          f"{' ' + where if where else ''}.", SRC_CATEGORY, required,
+                          rating_text(best), headroom(best.voltage, need)))
+        else:
+            available = ", ".join(rating_text(r) for r in item.ratings)
+            if cat is not None:
+                why = (f"none of its ratings ({available}) is at least CAT {cat} and at least "
+                       f"{fq(need, VOLTAGE)} at the same time")
+            else:
+                why = f"its highest rating ({available}) is below {fq(need, VOLTAGE)}"
+            closest = max(item.ratings, key=lambda r: r.voltage)
+            out.append(_f("category", "fail", item.key,
+                          f"{item.key} must not be used here: {why}.", SRC_CATEGORY, required,
+                          available, _short(closest.voltage, need)))
+    return out
+
+
+def _short(have: float, need: float) -> float | None:
+    """A failed rating's margin: its (negative) headroom when the voltage falls short, else
+    ``None`` (the category fell short, which a number does not measure)."""
+    m = headroom(have, need)
+    return m if m < 0 else None
+
+
+def _touching_item(ctx: SetupContext) -> ModelSpec | None:
+    """The item whose exposed metal meets the circuit: the tip, else the leads, else an
+    instrument with integrated leads."""
+    if ctx.tip is not None:
+        return ctx.tip
+    if ctx.lead is not None:
+        return None if ctx.lead.kind == "current-clamp" else ctx.lead
+    if ctx.mode.clamp:
+        return None
+    return ctx.instrument if ctx.instrument.integrated_leads else None
+
+
+def check_tip(ctx: SetupContext) -> list[Finding]:
+    c = ctx.plan.circuit
+    item = _touching_item(ctx)
+    if item is None or c.supply != "mains":
+        return []
+    status = probe_tips.tip_status(item.tip_exposure, c.category)
+    limit = fq(probe_tips.PREFERRED_EXPOSURE, LENGTH)
+    if status == "pass" and c.category not in probe_tips.CAUTION_CATEGORIES:
+        return []
+    if status == "unknown":
+        msg = (f"The exposed metal at the tip of {item.key} is not recorded; on CAT "
+               f"{c.category} work it should be {limit} or less.")
+        return [_f("tip", "unknown", item.key, msg, probe_tips.SOURCE, f"<= {limit}")]
+    have = fq(item.tip_exposure, LENGTH)
+    if status == "pass":
+        msg = f"{item.key} leaves {have} of exposed metal at the tip ({limit} or less)."
+    elif item.tip_exposure > probe_tips.MAX_EXPOSURE:
+        msg = (f"{item.key} leaves {have} of exposed metal at the tip, more than the 4 mm "
+               f"limit; on CAT {c.category} work fit tip shrouds of {limit} or less.")
+    else:
+        msg = (f"{item.key} leaves {have} of exposed metal at the tip; on CAT {c.category} "
+               f"work {limit} or less is recommended (fit tip shrouds).")
+    return [_f("tip", status, item.key, msg, probe_tips.SOURCE, f"<= {limit}", have)]
+
+
+# -- check 3: transient -----------------------------------------------------------------------
+
+def withstand_of(item: ModelSpec) -> float | None:
+    """The highest impulse withstand (V peak) any rating of ``item`` stands for: the table's
+    value for a category rating, a stated ``transient`` where one is given."""
+    best = None
+    for r in item.ratings:
+        values = [v for v in (impulse.withstand_of_rating(r.category, r.voltage), r.transient)
+                  if v is not None]
+        if values and (best is None or max(values) > best):
+            best = max(values)
+    return best
+
+
+def check_transient(ctx: SetupContext) -> list[Finding]:
+    c = ctx.plan.circuit
+    expected = ctx.derived.transient
+    if expected is None:
+        field = "circuit.transient"
+        why = ("the voltage to earth is above the 1000 V row of the impulse table"
+               if c.supply == "mains" else "the plan gives no transient")
+        return [_f("transient", "not-run", ctx.instrument.key,
+                   f"Transient not checked: {why}; give {field} to check it.",
+                   impulse.SOURCE)]
+    out = []
+    for item in ctx.chain:
+        if item is ctx.instrument and ctx.current_clamp is not None:
+            continue
+        need = ctx.seen_transient if item is ctx.instrument else expected
+        required = f"{fq(need, VOLTAGE)} peak"
+        have = withstand_of(item)
+        if have is None:
+            out.append(_f("transient", "unknown", item.key,
+                          f"{item.key} states no impulse withstand (a 'none' rating without "
+                          f"a transient); {required} cannot be checked.", impulse.SOURCE,
+                          required))
+            continue
+        ok = have >= need
+        out.append(_f("transient", "pass" if ok else "fail", item.key,
+                      f"{item.key} withstands {fq(have, VOLTAGE)} peak; the circuit can "
+                      f"deliver {required}" + ("." if ok else ": it may flash over."),
+                      ctx.derived.transient_source, required, f"{fq(have, VOLTAGE)} peak",
+                      headroom(have, need)))
+    return out
+
+
+# -- check 4: altitude ------------------------------------------------------------------------
+
+def rating_altitude(item: ModelSpec, r: Rating) -> float:
+    if r.max_altitude is not None:
+        return r.max_altitude
+    return item.max_altitude if item.max_altitude is not None else DEFAULT_MAX_ALTITUDE
+
+
+def _factor_text(h: float, rated: float) -> str:
+    try:
+        f = alt.altitude_factor(h) / alt.altitude_factor(rated)
+    except alt.BeyondAltitudeTable:
+        return "the altitude is beyond any clearance correction"
+    extra = "" if alt.in_table(h) else ", extrapolated beyond the table"
+    return f"clearances would need to be {f:.2f} times larger (IEC 60664-1{extra})"
+
+
+def check_altitude(ctx: SetupContext) -> list[Finding]:
+    h = ctx.plan.altitude
+    out = []
+    for item in ctx.chain:
+        cat, need = category_requirement(ctx, item)
+        relevant = fitting_ratings(item, cat, need) or list(item.ratings)
+        if not relevant:
+            top = item.max_altitude
+            ok = h <= top
+            out.append(_f("altitude", "pass" if ok else "fail", item.key,
+                          f"{item.key} is for use up to {fq(top, LENGTH)}; the site is at "
+                          f"{fq(h, LENGTH)}" + ("." if ok else f"; {_factor_text(h, top)}."),
+                          SRC_ALTITUDE, fq(h, LENGTH), fq(top, LENGTH), headroom(top, h)))
+            continue
+        top_rating = max(relevant, key=lambda r: rating_altitude(item, r))
+        top = rating_altitude(item, top_rating)
+        if h <= top:
+            out.append(_f("altitude", "pass", item.key,
+                          f"{item.key}'s rating {rating_text(top_rating)} holds up to "
+                          f"{fq(top, LENGTH)}; the site is at {fq(h, LENGTH)}.", SRC_ALTITUDE,
+                          fq(h, LENGTH), fq(top, LENGTH), headroom(top, h)))
+        else:
+            out.append(_f("altitude", "fail", item.key,
+                          f"{item.key}'s rating {rating_text(top_rating)} holds only up to "
+                          f"{fq(top, LENGTH)}; at {fq(h, LENGTH)} it does not apply: "
+                          f"{_factor_text(h, top)}.", SRC_ALTITUDE, fq(h, LENGTH),
+                          fq(top, LENGTH), headroom(top, h)))
+    return out
+
+
+# -- check 5: mode input ----------------------------------------------------------------------
+
+def _limit(check, subject, what, have, need, dim, source, unit_note=""):
+    required = fq(need, dim)
+    if have is None:
+        return _f(check, "unknown", subject, f"{what}: the maker's limit is not recorded; "
+                  f"{required}{unit_note} cannot be checked.", source, required)
+    ok = have >= need
+    return _f(check, "pass" if ok else "fail", subject,
+              f"{what}: {fq(have, dim)} against {required}{unit_note}"
+              + ("." if ok else ", more than it is rated for."), source, required,
+              fq(have, dim), headroom(have, need))
+
+
+def check_mode_input(ctx: SetupContext) -> list[Finding]:
+    c, mode, inst = ctx.plan.circuit, ctx.mode, ctx.instrument
+    subject = f"{inst.key}/{mode.key}"
+    if ctx.plan.task == "measure-current":
+        clamp = ctx.current_clamp
+        if clamp is not None:
+            return [_limit("mode-input", clamp.key, f"Clamp {clamp.key} current rating",
+                           clamp.current_rating, c.current, CURRENT, SRC_MODE),
+                    _f("mode-input", "pass", subject, f"{inst.key} reads the clamp's output "
+                       f"in {mode.label}; it is not connected to the circuit.", SRC_MODE)]
+        return [_limit("mode-input", subject, f"{mode.label} maximum current",
+                       mode.max_current, c.current, CURRENT, SRC_MODE)]
+    seen = ctx.seen_voltage
+    if ctx.plan.task == "discharge":
+        seen = ctx.derived.peak_voltage / ctx.attenuation  # a capacitor holds the peak
+    note = " (behind the divider)" if ctx.divider is not None else ""
+    return [_limit("mode-input", subject, f"{mode.label} maximum input", mode.max_input,
+                   seen, VOLTAGE, SRC_MODE, note)]
+
+
+# -- check 6: reasonably foreseeable misuse ---------------------------------------------------
+
+def _fuse_findings(ctx: SetupContext, subject: str, label: str, fuses, status_bad: str):
+    """Fuses that a current input puts across the circuit: breaking capacity against the
+    prospective current, voltage (dc rating for dc) against the working voltage."""
+    c = ctx.plan.circuit
+    ipc = ctx.prospective_current
+    if ipc is None:
+        return [_f("misuse", "not-run", subject,
+                   f"{label} across the circuit not checked: the plan gives neither "
+                   "circuit.source_impedance nor circuit.prospective_current.", SRC_MISUSE)]
+    fuses = [(who, f) for who, f in fuses if f is not None]
+    if not fuses:
+        return [_f("misuse", "unknown", subject,
+                   f"{label}: no fuse is recorded; whether it survives being put across "
+                   f"{fq(c.voltage, VOLTAGE)} ({fq(ipc, CURRENT)} prospective) is not known.",
+                   SRC_MISUSE, fq(ipc, CURRENT))]
+    out = []
+    v_need = c.voltage
+    for who, fuse in fuses:
+        v_have = fuse.voltage_dc if c.waveform == "dc" else fuse.voltage
+        v_word = "dc voltage rating" if c.waveform == "dc" else "voltage rating"
+        problems, unknowns = [], []
+        if fuse.breaking_capacity is None:
+            unknowns.append("breaking capacity")
+        elif fuse.breaking_capacity < ipc:
+            problems.append(f"breaks only {fq(fuse.breaking_capacity, CURRENT)} of the "
+                            f"{fq(ipc, CURRENT)} prospective current")
+        if v_have is None:
+            unknowns.append(v_word)
+        elif v_have < v_need:
+            problems.append(f"its {v_word} {fq(v_have, VOLTAGE)} is below "
+                            f"{fq(v_need, VOLTAGE)}")
+        margins = [m for m in (
+            headroom(fuse.breaking_capacity, ipc) if fuse.breaking_capacity is not None
+            else None,
+            headroom(v_have, v_need) if v_have is not None else None) if m is not None]
+        margin = min(margins) if margins else None
+        required = f"{fq(ipc, CURRENT)}, {fq(v_need, VOLTAGE)}"
+        available = ", ".join(x for x in (fq(fuse.breaking_capacity, CURRENT),
+                                          fq(v_have, VOLTAGE)) if x)
+        if problems:
+            out.append(_f("misuse", status_bad, subject,
+                          f"{label}, put across the circuit, meets a fuse ({who}) that "
+                          + "; ".join(problems) + ": it may not clear the fault.", SRC_MISUSE,
+                          required, available, margin))
+        elif unknowns:
+            out.append(_f("misuse", "unknown", subject,
+                          f"{label}: the fuse ({who}) has no recorded "
+                          + " or ".join(unknowns) + ".", SRC_MISUSE, required, available,
+                          margin))
+        else:
+            out.append(_f("misuse", "pass", subject,
+                          f"{label}: the fuse ({who}) breaks "
+                          f"{fq(fuse.breaking_capacity, CURRENT)} at {fq(v_have, VOLTAGE)}, "
+                          f"enough for {fq(ipc, CURRENT)} at {fq(v_need, VOLTAGE)}.",
+                          SRC_MISUSE, required, available, margin))
+    return out
+
+
+def _chain_fuses(ctx: SetupContext, mode_fuse: Fuse | None):
+    items = [("in the meter", mode_fuse)]
+    items += [(f"in {a.key}", a.fuse) for a in ctx.accessories if a.fuse is not None]
+    return items
+
+
+def check_misuse(ctx: SetupContext) -> list[Finding]:
+    mode, inst = ctx.mode, ctx.instrument
+    if mode.clamp or ctx.current_clamp is not None or ctx.is_discharge_tool:
+        return []  # no terminals of the instrument touch the circuit
+    out = []
+    seen = ctx.seen_voltage
+    if ctx.plan.task == "measure-current" and mode.measures == "current":
+        out += _fuse_findings(ctx, f"{inst.key}/{mode.key}",
+                              f"The {mode.label} input ({'/'.join(mode.terminals)})",
+                              _chain_fuses(ctx, mode.fuse), "fail")
+    for other in inst.modes:
+        if other.key == mode.key or other.clamp:
+            continue
+        if set(other.terminals) != set(mode.terminals):
+            continue
+        subject = f"{inst.key}/{other.key}"
+        if other.measures == "current":
+            out += _fuse_findings(ctx, subject,
+                                  f"{other.label}, selected by mistake on the same terminals",
+                                  _chain_fuses(ctx, other.fuse), "caution")
+            continue
+        if other.max_input is None:
+            out.append(_f("misuse", "unknown", subject,
+                          f"{other.label} shares the terminals {'/'.join(mode.terminals)}; its "
+                          f"maximum input is not recorded, so selecting it by mistake on "
+                          f"{fq(seen, VOLTAGE)} cannot be checked.", SRC_MISUSE,
+                          fq(seen, VOLTAGE)))
+        elif other.max_input < seen:
+            out.append(_f("misuse", "caution", subject,
+                          f"Do not switch to {other.label} while connected: it shares the "
+                          f"terminals and takes only {fq(other.max_input, VOLTAGE)}, less "
+                          f"than {fq(seen, VOLTAGE)}.", SRC_MISUSE, fq(seen, VOLTAGE),
+                          fq(other.max_input, VOLTAGE), headroom(other.max_input, seen)))
+        else:
+            out.append(_f("misuse", "pass", subject,
+                          f"{other.label} on the same terminals takes "
+                          f"{fq(other.max_input, VOLTAGE)}, enough for {fq(seen, VOLTAGE)} "
+                          "if selected by mistake.", SRC_MISUSE, fq(seen, VOLTAGE),
+                          fq(other.max_input, VOLTAGE), headroom(other.max_input, seen)))
+    return out
+
+
+# -- check 7: loading -------------------------------------------------------------------------
+
+def reading_with_source(voltage: float, z_in: float, z_s: float) -> float:
+    """The voltage an input of ``z_in`` ohm shows on a source of ``voltage`` behind ``z_s``
+    ohm: V*Zin/(Zin+Zs) (voltage divider)."""
+    if math.isinf(z_in):
+        return voltage
+    return voltage * z_in / (z_in + z_s)
+
+
+def divider_error(z_load: float, required_load: float, r_out: float) -> float:
+    """Relative error of a divider calibrated into ``required_load`` but loaded with
+    ``z_load``, its output a Thevenin source of ``r_out``:
+    Zl*(RL+Rout) / (RL*(Zl+Rout)) - 1."""
+    return z_load * (required_load + r_out) / (required_load * (z_load + r_out)) - 1.0
+
+
+def check_loading(ctx: SetupContext) -> list[Finding]:
+    plan, mode, c = ctx.plan, ctx.mode, ctx.plan.circuit
+    if plan.task in ("measure-current", "discharge") or mode.clamp or ctx.current_clamp:
+        return []
+    out = []
+    front = ctx.divider if ctx.divider is not None else ctx.instrument
+    z_in = ctx.divider.resistance if ctx.divider is not None else mode.input_resistance
+    zs = ctx.source_impedance
+    subject = front.key if ctx.divider is not None else f"{ctx.instrument.key}/{mode.key}"
+    if zs is None:
+        out.append(_f("loading", "not-run", subject, "Loading not checked: the plan gives "
+                      "neither circuit.source_impedance nor circuit.prospective_current.",
+                      SRC_LOADING))
+    elif z_in is None:
+        out.append(_f("loading", "unknown", subject, f"The input resistance of {subject} is "
+                      "not recorded; the current it draws and its reading error are not "
+                      "known.", SRC_LOADING))
+    else:
+        v_in = reading_with_source(c.voltage, z_in, zs)
+        i = c.voltage / (z_in + zs)
+        p = i * i * z_in
+        low = 1.0 - v_in / c.voltage if c.voltage > 0 else 0.0
+        shows = v_in / ctx.attenuation
+        text = (f"{subject} ({fq(z_in, RESISTANCE)}) draws {fq(i, CURRENT)} and takes "
+                f"{fq(p, POWER)}; it will show {fq(shows, VOLTAGE)}")
+        if ctx.divider is not None:
+            text += f" (for {fq(v_in, VOLTAGE)} at the divider input)"
+        if low > READING_TOLERANCE:
+            out.append(_f("loading", "caution", subject, text + f", {low:.1%} low: the "
+                          "source impedance drags the reading down.", SRC_LOADING,
+                          f"<= {READING_TOLERANCE:.0%} low", f"{low:.2%} low"))
+        else:
+            out.append(_f("loading", "pass", subject, text + ".", SRC_LOADING,
+                          f"<= {READING_TOLERANCE:.0%} low", f"{low:.2%} low"))
+    d = ctx.divider
+    if d is not None:
+        out += _divider_load(ctx, d)
+    return out
+
+
+def _divider_load(ctx: SetupContext, d: ModelSpec) -> list[Finding]:
+    z = ctx.mode.input_resistance
+    subject = d.key
+    if d.required_load is None or z is None:
+        missing = "required load" if d.required_load is None else \
+            f"input resistance of {ctx.instrument.key}/{ctx.mode.key}"
+        return [_f("loading", "unknown", subject, f"The {missing} is not recorded; whether "
+                   f"{d.key} reads true into this input is not known.", SRC_DIVIDER)]
+    off = abs(z - d.required_load) / d.required_load
+    required, available = fq(d.required_load, RESISTANCE), fq(z, RESISTANCE)
+    if off <= LOAD_TOLERANCE:
+        return [_f("loading", "pass", subject, f"{d.key} is calibrated into {required}; the "
+                   f"input is {available}. It shows {fq(ctx.seen_voltage, VOLTAGE)} for "
+                   f"{fq(ctx.plan.circuit.voltage, VOLTAGE)}.", SRC_DIVIDER, required,
+                   available)]
+    if d.output_resistance is None:
+        return [_f("loading", "unknown", subject, f"{d.key} is calibrated into {required} but "
+                   f"the input is {available}; its output resistance is not recorded, so the "
+                   "error is not known.", SRC_DIVIDER, required, available)]
+    err = divider_error(z, d.required_load, d.output_resistance)
+    return [_f("loading", "caution", subject, f"{d.key} is calibrated into {required} but the "
+               f"input is {available}: the reading will be {abs(err):.1%} "
+               f"{'low' if err < 0 else 'high'} ({fq(ctx.seen_voltage * (1 + err), VOLTAGE)} "
+               f"for {fq(ctx.plan.circuit.voltage, VOLTAGE)}).", SRC_DIVIDER, required,
+               available)]
+
+
+# -- check 8: low-Z and duration --------------------------------------------------------------
+
+def input_power(voltage: float, resistance: float) -> float:
+    """P = V**2/R (W) into ``resistance`` ohm at ``voltage`` V."""
+    return voltage * voltage / resistance
+
+
+def check_duration(ctx: SetupContext) -> list[Finding]:
+    plan, mode = ctx.plan, ctx.mode
+    if plan.task == "discharge" or ctx.is_discharge_tool:
+        return []  # a draining capacitor is check 9's
+    r = mode.input_resistance
+    low_z = r is not None and r < LOW_Z and mode.measures != "current"
+    if not low_z and mode.max_duration is None:
+        return []
+    subject = f"{ctx.instrument.key}/{mode.key}"
+    parts = []
+    if low_z and ctx.current_clamp is None:
+        v = ctx.seen_voltage
+        if ctx.source_impedance is not None:
+            v = reading_with_source(v, r, ctx.source_impedance)
+        p = input_power(v, r)
+        parts.append(f"{mode.label} ({fq(r, RESISTANCE)}) draws {fq(v / r, CURRENT)} and "
+                     f"dissipates {fq(p, POWER)}, {fq(p * plan.duration, ENERGY)} over "
+                     f"{fq(plan.duration, TIME)}")
+    required = fq(plan.duration, TIME)
+    if mode.max_duration is None:
+        return [_f("low-z", "unknown", subject, "; ".join(parts) + "; the maker's time limit "
+                   "for this mode is not recorded.", SRC_LOWZ, required)]
+    ok = plan.duration <= mode.max_duration
+    parts.append(f"the mode is rated for {fq(mode.max_duration, TIME)} at a time and the plan "
+                 f"keeps it connected {required}")
+    msg = "; ".join(parts) + ("." if ok else ": disconnect sooner or use a high-impedance mode.")
+    return [_f("low-z", "pass" if ok else "fail", subject, msg[0].upper() + msg[1:], SRC_LOWZ,
+               required, fq(mode.max_duration, TIME), headroom(mode.max_duration, plan.duration))]
+
+
+# -- check 9: stored energy and discharge -----------------------------------------------------
+
+def time_constant(resistance: float, capacitance: float) -> float:
+    """tau = R*C (s)."""
+    return resistance * capacitance
+
+
+def discharge_time(resistance: float, capacitance: float, v0: float, v_safe: float) -> float:
+    """t = R*C*ln(V0/Vsafe) (s) for a capacitance to fall from ``v0`` to ``v_safe`` through
+    ``resistance``; 0 when it is already at or below the safe level."""
+    if v0 <= v_safe:
+        return 0.0
+    if v_safe <= 0:
+        return math.inf
+    return resistance * capacitance * math.log(v0 / v_safe)
+
+
+def absorbed_to(capacitance: float, v0: float, v_safe: float) -> float:
+    """E = C*(V0**2 - Vsafe**2)/2 (J) taken by the discharge path to reach ``v_safe``."""
+    return 0.5 * capacitance * max(v0 * v0 - v_safe * v_safe, 0.0)
+
+
+def absorbed_in(capacitance: float, v0: float, resistance: float, duration: float) -> float:
+    """E = C*V0**2/2 * (1 - exp(-2t/(RC))) (J) taken by ``resistance`` in ``duration``."""
+    tau = resistance * capacitance
+    return 0.5 * capacitance * v0 * v0 * (1.0 - math.exp(-2.0 * duration / tau))
+
+
+def check_discharge(ctx: SetupContext) -> list[Finding]:
+    plan, mode = ctx.plan, ctx.mode
+    if plan.task == "measure-current" or mode.clamp or ctx.current_clamp is not None:
+        return []
+    cap = ctx.capacitance
+    discharging = plan.task == "discharge"
+    if ctx.divider is not None:
+        path, subject, limit = ctx.divider, ctx.divider.key, ctx.divider.energy
+        r = ctx.divider.resistance
+    else:
+        path, subject = ctx.instrument, f"{ctx.instrument.key}/{mode.key}"
+        r = mode.input_resistance
+        limit = mode.discharge_energy
+        if ctx.is_discharge_tool and limit is None:
+            limit = ctx.instrument.energy
+    if cap is None:
+        return [_f("discharge", "not-run", subject, "Stored energy not checked: the plan "
+                   "gives neither circuit.capacitance nor circuit.stored_energy.",
+                   SRC_DISCHARGE)]
+    v0, vs = ctx.derived.peak_voltage, ctx.safe_level
+    if r is None:
+        return [_f("discharge", "unknown", subject, f"The input resistance of {subject} is "
+                   "not recorded; how it drains the capacitance is not known.", SRC_DISCHARGE)]
+    tau = time_constant(r, cap)
+    t_safe = discharge_time(r, cap, v0, vs)
+    low_z = r < LOW_Z
+    drains = discharging or low_z or tau < DRAIN_FACTOR * plan.duration
+    e = absorbed_to(cap, v0, vs) if discharging else absorbed_in(cap, v0, r, plan.duration)
+    facts = (f"through {fq(r, RESISTANCE)} the {fq(cap, CAPACITANCE)} at {fq(v0, VOLTAGE)} has "
+             f"tau {fq(tau, TIME)}, peak current {fq(v0 / r, CURRENT)}, peak power "
+             f"{fq(input_power(v0, r), POWER)}")
+    if discharging:
+        facts += f"; it reaches {fq(vs, VOLTAGE)} after {fq(t_safe, TIME)}"
+    facts += f"; the path absorbs {fq(e, ENERGY)}"
+    out = []
+    required = fq(e, ENERGY)
+    if limit is not None:
+        ok = e <= limit
+        out.append(_f("discharge", "pass" if ok else "fail", subject, facts[0].upper()
+                      + facts[1:] + f" against its {fq(limit, ENERGY)} limit"
+                      + ("." if ok else ": it would be overstressed."), SRC_DISCHARGE,
+                      required, fq(limit, ENERGY), headroom(limit, e)))
+    elif discharging or low_z:
+        out.append(_f("discharge", "unknown", subject, facts[0].upper() + facts[1:]
+                      + "; the energy it may absorb is not recorded.", SRC_DISCHARGE,
+                      required))
+    elif drains:
+        out.append(_f("discharge", "caution", subject, facts[0].upper() + facts[1:]
+                      + f": it drains the capacitance while connected (tau under "
+                      f"{DRAIN_FACTOR:g} x {fq(plan.duration, TIME)}), and the energy it may "
+                      "absorb is not recorded.", SRC_DISCHARGE, required))
+    else:
+        out.append(_f("discharge", "pass", subject, f"High-impedance input: tau "
+                      f"{fq(tau, TIME)} through {fq(r, RESISTANCE)}, it barely drains the "
+                      f"capacitance in {fq(plan.duration, TIME)}.", SRC_DISCHARGE))
+    if discharging and t_safe > DISCHARGE_TIME_LIMIT:
+        out.append(_f("discharge", "caution", subject, f"The discharge to {fq(vs, VOLTAGE)} "
+                      f"takes {fq(t_safe, TIME)}, more than {fq(DISCHARGE_TIME_LIMIT, TIME)}: "
+                      "hold the tool on and verify absence before touching.", SRC_DISCHARGE,
+                      f"<= {fq(DISCHARGE_TIME_LIMIT, TIME)}", fq(t_safe, TIME),
+                      headroom(DISCHARGE_TIME_LIMIT, t_safe)))
+    return out
+
+CHECKS = (check_category, check_tip, check_transient, check_altitude, check_mode_input,
+          check_misuse, check_loading, check_duration, check_discharge)
