@@ -1,0 +1,31 @@
+"""The JSON Schema files shipped in the package: generated from the validating models, kept in
+step with them, and accepting the demo files (checked with the jsonschema reference library)."""
+
+import json
+from importlib import resources
+
+import jsonschema
+import yaml
+
+from registry.demo import demo_fleet_path
+from registry.formats.fleet import fleet_json_schema
+
+
+def shipped(name):
+    return json.loads((resources.files("registry") / "schemas" / name).read_text())
+
+
+def test_fleet_schema_is_current():
+    # regenerate with: python -c "from registry.formats.fleet import fleet_json_schema ..."
+    assert shipped("fleet.schema.json") == json.loads(json.dumps(fleet_json_schema()))
+
+
+def test_demo_fleet_validates_against_shipped_schema():
+    doc = json.loads(json.dumps(yaml.safe_load(demo_fleet_path().read_text()), default=str))
+    jsonschema.validate(doc, shipped("fleet.schema.json"))
+
+
+def test_schema_rejects_a_bare_number_quantity():
+    doc = {"format": "withstand-fleet/1", "sites": [{"name": "Bench", "altitude": 40}]}
+    errors = list(jsonschema.Draft202012Validator(shipped("fleet.schema.json")).iter_errors(doc))
+    assert errors
