@@ -1,0 +1,370 @@
+"""The three scenarios of SPEC §5 check 10 on one netlist: steady, impulse, discharge.
+
+Each returns the solves it made, labelled by the state of the elements (PTCs cold or tripped,
+fuses intact or open, gas tubes fired or not), and what happened on the way (trips, their
+times). The limits are held against these in :mod:`registry.engine.network.limits`.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+from scipy.integrate import solve_ivp
+from scipy.optimize import brentq
+
+from .devices import ptc_trip_energy, ptc_trip_time
+from .netlist import OPEN_RESISTANCE, Netlist, NetworkError
+from .solver import COLD, Solution, State, solve
+
+SQRT2 = math.sqrt(2.0)
+
+
+@dataclass
+class Snapshot:
+    """One solve in one state: ``heat`` at the working voltage (rms for ac), ``peak`` at its
+    peak (the same solve for dc)."""
+
+    label: str
+    state: State
+    heat: Solution
+    peak: Solution
+
+
+@dataclass
+class Event:
+    element: str
+    text: str  # what happened, with numbers
+    time: float | None = None  # s
+    current: float | None = None  # A through it when it happened
+    cold_powers: dict[str, float] = field(default_factory=dict)  # W per element before it
+
+
+@dataclass
+class SteadyResult:
+    snapshots: list[Snapshot]
+    events: list[Event]
+    notes: list[tuple[str, str]]  # (element id, assumption)
+
+    @property
+    def final(self) -> Snapshot:
+        return self.snapshots[-1]
+
+
+# -- PTC in the tripped state -------------------------------------------------------------------
+
+def tripped_resistance(net: Netlist, state: State, ptc_id: str, vs: float, rs: float | None,
+                       power: float | None, cold: float) -> tuple[float, str]:
+    """The resistance at which a tripped PTC takes ``power`` (W), its datasheet
+    ``tripped_power``, from the circuit around it: the largest R with V(R)**2 / R = P (the
+    high-resistance branch, where a tripped PTC sits). Without a tripped power it is taken as
+    open, which gives it the whole voltage the rest of the circuit leaves (conservative for its
+    own voltage). Returns (R, remark)."""
+    if power is None or power <= 0:
+        return OPEN_RESISTANCE, "tripped_power not given: taken as open"
+    open_sol = solve(net, vs, rs, state.with_ptc(ptc_id, OPEN_RESISTANCE))
+    v_open = abs(open_sol.voltage[ptc_id])
+    r_hi = v_open ** 2 / power
+    if r_hi <= cold:
+        return cold, (f"the circuit cannot hold it tripped ({v_open:.4g} V open-circuit gives "
+                      "less than its tripped power): it resets and cycles; taken as cold")
+
+    def f(log_r: float) -> float:
+        r = math.exp(log_r)
+        v = abs(solve(net, vs, rs, state.with_ptc(ptc_id, r)).voltage[ptc_id])
+        return math.log(max(v, 1e-300) ** 2 / r / power)
+
+    lo = r_hi
+    for _ in range(200):
+        lo /= 4.0
+        if lo <= cold:
+            lo = cold
+            break
+        if f(math.log(lo)) > 0:
+            break
+    if f(math.log(lo)) <= 0:
+        return cold, ("the circuit cannot deliver its tripped power at any resistance above "
+                      "the cold one: it resets and cycles; taken as cold")
+    log_r = brentq(f, math.log(lo), math.log(r_hi), xtol=1e-12, rtol=1e-12)
+    return math.exp(log_r), ""
+
+
+def _settle_tubes(net: Netlist, state: State, vs: float, rs, key: str, notes) -> State:
+    """Fire each gas tube whose voltage exceeds its sparkover (``key``), as an arc voltage
+    source with the sign of that voltage; put out a fired one that carries no current the arc
+    voltage can hold (follow current of the wrong sign)."""
+    tubes = net.of_type("gas-tube")
+    if not tubes:
+        return state
+    for _ in range(2 * len(tubes) + 1):
+        sol = solve(net, vs, rs, state)
+        changed = False
+        for t in tubes:
+            spark = t.get(key)
+            if t.id in state.fired:
+                arc = dict(state.arcs)[t.id]
+                if sol.current[t.id] * arc <= 0:
+                    state = state.with_arc(t.id, None)
+                    changed = True
+            elif spark is not None and abs(sol.voltage[t.id]) > spark:
+                state = state.with_arc(t.id, math.copysign(t.get("arc_voltage") or 0.0,
+                                                           sol.voltage[t.id]))
+                changed = True
+        if not changed:
+            return state
+    return state
+
+
+def _tube_notes(net: Netlist, key: str) -> list[tuple[str, str]]:
+    out = []
+    for t in net.of_type("gas-tube"):
+        if t.get(key) is None:
+            out.append((t.id, f"no {key}: assumed not to fire (the rest of the front end then "
+                              "takes the whole stress)"))
+        elif t.get("arc_voltage") is None:
+            out.append((t.id, "no arc_voltage: taken as 0 V when fired"))
+    return out
+
+
+# -- 1. steady --------------------------------------------------------------------------------
+
+def steady(net: Netlist, voltage: float, waveform: str, rs: float | None,
+           duration: float) -> SteadyResult:
+    """The working voltage behind the source impedance: PTCs cold first; a PTC whose current
+    exceeds its trip current trips after the adiabatic trip time (if within ``duration``), a
+    fuse whose current exceeds its rating opens; solve again until nothing changes."""
+    v_heat = voltage
+    v_peak = voltage * SQRT2 if waveform == "ac" else voltage
+    notes = _tube_notes(net, "sparkover_dc")
+    state = _settle_tubes(net, COLD, v_peak, rs, "sparkover_dc", notes)
+
+    def snap(label, st):
+        heat = solve(net, v_heat, rs, st)
+        peak = solve(net, v_peak, rs, st) if v_peak != v_heat else heat
+        return Snapshot(label, st, heat, peak)
+
+    snapshots = [snap("cold", state)]
+    events: list[Event] = []
+    ptcs = net.of_type("ptc")
+    fuses = net.of_type("fuse")
+    considered: set[str] = set()
+    for _ in range(len(ptcs) + len(fuses) + 1):
+        now = snapshots[-1]
+        changes = []
+        for f in fuses:
+            if f.id in now.state.blown or f.id in considered:
+                continue
+            i = abs(now.heat.current[f.id])
+            rated = f.get("current")
+            if rated is not None and i > rated:
+                changes.append(("fuse", f, i, None))
+        for p in ptcs:
+            if p.id in considered or now.state.ptc_resistance(p.id) is not None:
+                continue
+            i = abs(now.heat.current[p.id])
+            threshold = p.get("trip_current") or p.get("hold_current")
+            if threshold is None or i <= threshold:
+                continue
+            r = p.get("resistance")
+            t_trip = None
+            if p.get("trip_time") is not None and p.get("trip_time_current") is not None:
+                t_trip = ptc_trip_time(i, r, ptc_trip_energy(r, p.get("trip_time"),
+                                                             p.get("trip_time_current")))
+            if t_trip is not None and t_trip > duration:
+                considered.add(p.id)
+                events.append(Event(p.id, f"carries {i:.4g} A, above its trip current, but "
+                                          f"would take {t_trip:.3g} s to trip, longer than the "
+                                          f"{duration:.3g} s connected: stays cold", t_trip, i))
+                continue
+            changes.append(("ptc", p, i, t_trip))
+        if not changes:
+            break
+        state = now.state
+        labels = []
+        cold_powers = {e.id: now.heat.power(e.id) for e in net.elements}
+        for kind, e, i, t in changes:
+            considered.add(e.id)
+            if kind == "fuse":
+                state = state.with_blown(e.id)
+                events.append(Event(e.id, f"carries {i:.4g} A, above its {e.get('current'):.4g}"
+                                          " A rating: opens", None, i, cold_powers))
+                labels.append(f"{e.id} open")
+            else:
+                r_t, remark = tripped_resistance(net, state, e.id, v_heat, rs,
+                                                 e.get("tripped_power"), e.get("resistance"))
+                if r_t == e.get("resistance"):
+                    events.append(Event(e.id, remark, t, i, cold_powers))
+                    continue
+                state = state.with_ptc(e.id, r_t)
+                when = f" after about {t:.3g} s" if t is not None else \
+                    " (no trip point given: trip time unknown)"
+                events.append(Event(e.id, f"carries {i:.4g} A, above its trip current: trips"
+                                          f"{when}" + (f"; {remark}" if remark else ""),
+                                    t, i, cold_powers))
+                labels.append(f"{e.id} tripped")
+        if state == now.state:
+            break
+        state = _settle_tubes(net, state, v_peak, rs, "sparkover_dc", notes)
+        snapshots.append(snap(", ".join(labels), state))
+    return SteadyResult(snapshots, events, notes)
+
+
+# -- 2. impulse -------------------------------------------------------------------------------
+
+@dataclass
+class ImpulseResult:
+    solution: Solution
+    state: State
+    notes: list[tuple[str, str]]
+
+
+def impulse(net: Netlist, peak: float, rg: float | None) -> ImpulseResult:
+    """The expected transient's peak behind the generator impedance, PTCs cold, solved at the
+    peak (the elements are taken as resistive at the 1.2/50 us wave's time scale)."""
+    notes = _tube_notes(net, "sparkover_impulse")
+    state = _settle_tubes(net, COLD, peak, rg, "sparkover_impulse", notes)
+    return ImpulseResult(solve(net, peak, rg, state), state, notes)
+
+
+# -- 3. discharge -----------------------------------------------------------------------------
+
+@dataclass
+class DischargeResult:
+    """A capacitor C charged to V0 discharged through the mode's path (V, A, J, s)."""
+
+    v0: float
+    capacitance: float
+    times: tuple[float, ...]
+    voltages: tuple[float, ...]  # capacitor voltage at ``times``
+    peak_current: float
+    time_to_safe: float | None  # None: not at the safe level within the duration
+    end_time: float
+    energy: dict[str, float]  # J per element over the discharge
+    peak_voltage: dict[str, float]  # largest |V| across each element
+    peak_element_current: dict[str, float]
+    peak_power: dict[str, float]
+    events: list[Event]
+    notes: list[tuple[str, str]]
+
+
+def discharge(net: Netlist, capacitance: float, v0: float, rs: float | None, v_safe: float,
+              duration: float) -> DischargeResult:
+    """Integrate C dV/dt = -I(V) in time with scipy's LSODA, the network solved at each step,
+    with each PTC heating adiabatically (its I**2 R integrated) until it reaches its trip energy
+    (I**2 R t at its datasheet trip point), then held at the resistance that takes its tripped
+    power at that moment (it cools far more slowly than a discharge lasts). Stops at the safe
+    level or at the end of ``duration`` (the setup is not connected longer)."""
+    ids = [e.id for e in net.elements]
+    ptcs = [p for p in net.of_type("ptc")]
+    trip_energy = {}
+    notes: list[tuple[str, str]] = []
+    for p in ptcs:
+        if p.get("trip_time") is not None and p.get("trip_time_current") is not None:
+            trip_energy[p.id] = ptc_trip_energy(p.get("resistance"), p.get("trip_time"),
+                                                p.get("trip_time_current"))
+        else:
+            notes.append((p.id, "no trip point (trip_time at trip_time_current): assumed not "
+                                "to trip during the discharge"))
+    heating = [p.id for p in ptcs if p.id in trip_energy]
+    n_e = len(ids)
+    state = COLD
+    last: list[Solution | None] = [None]
+
+    def network(v: float) -> Solution:
+        sol = solve(net, v, rs, state, guess=last[0])
+        last[0] = sol
+        return sol
+
+    def rhs(t, y):
+        sol = network(float(y[0]))
+        d = np.empty_like(y)
+        d[0] = -sol.source_current / capacitance
+        for k, id in enumerate(ids):
+            d[1 + k] = sol.power(id)
+        for k, id in enumerate(heating):
+            d[1 + n_e + k] = sol.power(id)
+        return d
+
+    def safe_event(t, y):
+        return y[0] - v_safe
+    safe_event.terminal = True
+    safe_event.direction = -1
+
+    def trip_event_for(k, id):
+        def ev(t, y):
+            return y[1 + n_e + k] - trip_energy[id]
+        ev.terminal = True
+        ev.direction = 1
+        return ev
+
+    y = np.zeros(1 + n_e + len(heating))
+    y[0] = v0
+    t0 = 0.0
+    times, volts = [0.0], [v0]
+    peak_v = {id: 0.0 for id in ids}
+    peak_i = {id: 0.0 for id in ids}
+    peak_p = {id: 0.0 for id in ids}
+    peak_current = 0.0
+    events: list[Event] = []
+    tripped: set[str] = set()
+    time_to_safe = None
+
+    def sample(v):
+        nonlocal peak_current
+        sol = solve(net, v, rs, state)
+        peak_current = max(peak_current, abs(sol.source_current))
+        for id in ids:
+            peak_v[id] = max(peak_v[id], abs(sol.voltage[id]))
+            peak_i[id] = max(peak_i[id], abs(sol.current[id]))
+            peak_p[id] = max(peak_p[id], sol.power(id))
+
+    if v0 <= v_safe:
+        return DischargeResult(v0, capacitance, (0.0,), (v0,), 0.0, 0.0, 0.0,
+                               {id: 0.0 for id in ids}, peak_v, peak_i, peak_p, [], notes)
+    while t0 < duration:
+        sample(float(y[0]))  # the largest stresses of a segment are at its start
+        evs = [safe_event] + [trip_event_for(k, id) if id not in tripped else None
+                              for k, id in enumerate(heating)]
+        live = [e for e in evs if e is not None]
+        scale = np.maximum(np.abs(y), 1.0)
+        res = solve_ivp(rhs, (t0, duration), y, method="LSODA", events=live, rtol=1e-7,
+                        atol=np.concatenate(([1e-7 * v0], 1e-9 * scale[1:])))
+        if res.status == -1:
+            raise NetworkError(f"the discharge integration failed: {res.message}")
+        times.extend(float(t) for t in res.t[1:])
+        volts.extend(float(v) for v in res.y[0, 1:])
+        y = res.y[:, -1].copy()
+        t0 = float(res.t[-1])
+        if res.status != 1:
+            break  # reached the end of the duration
+        if res.t_events[0].size:
+            time_to_safe = float(res.t_events[0][0])
+            break
+        # a PTC reached its trip energy
+        for ev_k, ev in enumerate(live[1:], start=1):
+            if res.t_events[ev_k].size:
+                k = next(k for k, e in enumerate(evs) if e is ev) - 1
+                id = heating[k]
+                tripped.add(id)
+                p = net.element(id)
+                sol = solve(net, float(y[0]), rs, state)
+                i = abs(sol.current[id])
+                r_t, remark = tripped_resistance(net, state, id, float(y[0]), rs,
+                                                 p.get("tripped_power"), p.get("resistance"))
+                state = state.with_ptc(id, r_t)
+                last[0] = None
+                events.append(Event(id, f"trips after {t0:.3g} s of the discharge at "
+                                        f"{y[0]:.4g} V ({i:.4g} A)" +
+                                        (f"; {remark}" if remark else ""), t0, i))
+    energy = {id: float(y[1 + k]) for k, id in enumerate(ids)}
+    return DischargeResult(v0, capacitance, tuple(times), tuple(volts), peak_current,
+                           time_to_safe, t0, energy, peak_v, peak_i, peak_p, events, notes)
+
+
+def small_signal_resistance(net: Netlist) -> float:
+    """Resistance (ohm) between the mode's terminals at a 1 V stiff test source, clamps
+    not conducting, PTCs cold, switches as the mode sets them: R = 1 V / I."""
+    sol = solve(net, 1.0, None, COLD)
+    i = sol.source_current
+    return math.inf if i <= 0 else 1.0 / i
