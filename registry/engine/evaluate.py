@@ -30,13 +30,26 @@ def findings_for(ctx: SetupContext, extra_checks: Sequence[ExtraCheck] = ()) -> 
     return tuple(out)
 
 
-def _unit_rank(unit: UnitState, plan: Plan, mode: str | None):
+def _unit_rank(unit: UnitState, plan: Plan, near: str | None):
     """Which of several units of one accessory model to hand out: a clean history first, then
-    one at the plan's site, then the latest verification due, then the tag."""
-    worries = len(check_history(unit, mode))
+    one at the plan's site, then one where the instrument is, then the latest verification
+    due, then the tag."""
+    worries = len(check_history(unit, None))
     due = unit.verification_due.toordinal() if unit.verification_due else 0
     at_site = 0 if (plan.site is not None and unit.site == plan.site) else 1
-    return (worries, at_site, -due, unit.tag)
+    by_instrument = 0 if (near is not None and unit.site == near) else 1
+    return (worries, at_site, by_instrument, -due, unit.tag)
+
+
+def _choice_key(s: SetupResult, site: str | None):
+    """Among one instrument unit's options for a mode: the SPEC §4 order, but with fewer
+    failing, then unknown, then caution findings first, so the accessories offered are the
+    ones that leave the fewest problems."""
+    count = {k: sum(1 for f in s.findings if f.status == k) for k in ("fail", "unknown",
+                                                                       "caution")}
+    rank = sort_key(s, site)
+    return (rank[0], count["fail"], count["unknown"], count["caution"], rank[1],
+            sum(1 for where in s.accessory_sites if where != site)) + rank[2:]
 
 
 def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = ()) -> Result:
@@ -77,7 +90,7 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
                 acc_units = []
                 for acc in ctx.accessories:
                     pool = [u for u in available.get(acc.key, []) if u.tag != unit.tag]
-                    acc_units.append(min(pool, key=lambda u: _unit_rank(u, plan, None)))
+                    acc_units.append(min(pool, key=lambda u: _unit_rank(u, plan, unit.site)))
                 findings = list(found) + check_history(unit, mode_key)
                 for u in acc_units:
                     findings += check_history(u, None)
@@ -87,9 +100,11 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
                     verdict=verdict_of(findings), margin=setup_margin(findings),
                     findings=tuple(findings), instrument_model=model.key,
                     accessory_models=tuple(a.key for a in ctx.accessories),
+                    accessory_sites=tuple(u.site for u in acc_units),
                     mode_label=ctx.mode.label, site=unit.site,
                     verification_due=unit.verification_due)
-                if best is None or sort_key(candidate, plan.site) < sort_key(best, plan.site):
+                if best is None or (_choice_key(candidate, plan.site)
+                                    < _choice_key(best, plan.site)):
                     best = candidate
             if best is not None:
                 setups.append(best)

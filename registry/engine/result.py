@@ -45,6 +45,7 @@ class SetupResult:
     findings: tuple[Finding, ...]
     instrument_model: str = ""
     accessory_models: tuple[str, ...] = ()
+    accessory_sites: tuple[str | None, ...] = ()
     mode_label: str = ""
     site: str | None = None
     verification_due: date | None = None

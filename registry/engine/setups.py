@@ -130,14 +130,19 @@ def _waveform_covers(mode: Mode, waveform: str) -> bool:
 def mode_fits(plan: Plan, instrument: ModelSpec, mode: Mode, lead: ModelSpec | None) -> bool:
     """Whether ``mode`` (with ``lead``) does the plan's task (SPEC §5.1)."""
     task = plan.task
+    if instrument.kind == "discharge-tool" and task != "discharge":
+        return False  # a discharge tool measures nothing
     clamp_accessory = lead is not None and lead.kind == "current-clamp"
     if task in VOLTAGE_TASKS:
         return (not clamp_accessory and not mode.clamp and mode.measures == "voltage"
                 and _waveform_covers(mode, plan.circuit.waveform))
     if task == "measure-current":
         if clamp_accessory:
-            # The clamp's output goes into a voltage or current input of the instrument.
-            return not mode.clamp and mode.measures in ("voltage", "current")
+            # A clamp accessory gives a voltage proportional to the current (no output type is
+            # recorded, and a voltage output is the usual one): it goes into a voltage input
+            # that covers the waveform. Common practice, no source.
+            return (not mode.clamp and mode.measures == "voltage"
+                    and _waveform_covers(mode, plan.circuit.waveform))
         return mode.measures == "current" and _waveform_covers(mode, plan.circuit.waveform)
     if task == "measure-resistance":
         return not clamp_accessory and mode.measures in ("resistance", "continuity")

@@ -1,0 +1,243 @@
+"""Job plans (``withstand-plan/1``, SPEC §4): read, validate, write back.
+
+Plans are validated like fleet files: every problem is collected, each names its field
+(``circuit.voltage``) and says what is wrong, and they are raised together as one
+:class:`~registry.errors.InvalidInput`.
+"""
+
+from __future__ import annotations
+
+import json
+from datetime import date
+from pathlib import Path
+
+import yaml
+
+from .engine.spec import (DEFAULT_DURATION, PLAN_WAVEFORMS, SUPPLIES, TASKS, Circuit, Plan,
+                          SpecError)
+from .errors import FieldProblem, InvalidInput
+from .units import (CAPACITANCE, CURRENT, ENERGY, FREQUENCY, LENGTH, RESISTANCE, TIME,
+                    VOLTAGE, format_quantity, parse_quantity)
+
+FORMAT = "withstand-plan/1"
+TOP_FIELDS = ("format", "title", "task", "circuit", "site", "duration", "discharge_to")
+CIRCUIT_QUANTITIES = {
+    "voltage": VOLTAGE, "voltage_to_earth": VOLTAGE, "frequency": FREQUENCY,
+    "transient": VOLTAGE, "source_impedance": RESISTANCE, "prospective_current": CURRENT,
+    "capacitance": CAPACITANCE, "stored_energy": ENERGY, "current": CURRENT,
+}
+CIRCUIT_FIELDS = ("supply", "category", "waveform") + tuple(CIRCUIT_QUANTITIES)
+SITE_FIELDS = ("name", "altitude", "wet")
+MAINS_CATEGORIES = ("II", "III", "IV")
+# Quantities that must be more than zero: a working voltage of 0 V is no job, and an impedance
+# or a frequency of zero means nothing physical.
+_POSITIVE = {"voltage", "frequency", "source_impedance", "prospective_current",
+             "capacitance", "stored_energy", "current", "transient"}
+
+
+class _Problems:
+    def __init__(self):
+        self.items: list[FieldProblem] = []
+
+    def add(self, path: str, message: str):
+        self.items.append(FieldProblem(path, message))
+
+    def quantity(self, data: dict, key: str, dim, path: str, *, positive=False):
+        if key not in data or data[key] is None:
+            return None
+        try:
+            return parse_quantity(data[key], dim, path, allow_zero=not positive)
+        except InvalidInput as e:
+            self.items.extend(e.problems)
+            return None
+
+    def unknown(self, data: dict, allowed, prefix: str):
+        for key in data:
+            if key not in allowed:
+                path = f"{prefix}.{key}" if prefix else str(key)
+                self.add(path, f"is not a field of a plan{' ' + prefix if prefix else ''}; "
+                         f"the fields are {', '.join(allowed)}")
+
+    def choice(self, data: dict, key: str, choices, path: str, required=True):
+        value = data.get(key)
+        if value is None:
+            if required:
+                self.add(path, f"is missing; give one of {', '.join(choices)}")
+            return None
+        if not isinstance(value, str) or value not in choices:
+            self.add(path, f"'{value}' is not one of {', '.join(choices)}")
+            return None
+        return value
+
+
+def parse_plan(data, on: date | None = None, *, sites: dict[str, float] | None = None) -> Plan:
+    """A :class:`Plan` from a plan document already read into Python (JSON or YAML).
+
+    ``on`` is the day of the job (for verification dates). ``sites`` maps the fleet's site
+    names to their altitudes (m), so a plan that names a known site may leave out the
+    altitude. Raises :class:`InvalidInput` with every problem found.
+    """
+    p = _Problems()
+    if not isinstance(data, dict):
+        raise InvalidInput("a plan must be a mapping of fields (format, task, circuit, ...)")
+    p.unknown(data, TOP_FIELDS, "")
+    fmt = data.get("format")
+    if fmt != FORMAT:
+        p.add("format", f"must be '{FORMAT}'" + ("" if fmt is None else f", not '{fmt}'"))
+    title = data.get("title") or ""
+    if not isinstance(title, str):
+        p.add("title", "must be text")
+        title = ""
+    task = p.choice(data, "task", TASKS, "task")
+
+    circuit_data = data.get("circuit")
+    c: dict = {}
+    if not isinstance(circuit_data, dict):
+        p.add("circuit", "is missing; give the circuit's supply, waveform and voltage"
+              if circuit_data is None else "must be a mapping of fields")
+        circuit_data = None
+    else:
+        p.unknown(circuit_data, CIRCUIT_FIELDS, "circuit")
+        c["supply"] = p.choice(circuit_data, "supply", SUPPLIES, "circuit.supply")
+        c["waveform"] = p.choice(circuit_data, "waveform", PLAN_WAVEFORMS, "circuit.waveform")
+        raw_cat = circuit_data.get("category")
+        if raw_cat is not None and not isinstance(raw_cat, str):
+            raw_cat = str(raw_cat)
+        c["category"] = raw_cat
+        for key, dim in CIRCUIT_QUANTITIES.items():
+            c[key] = p.quantity(circuit_data, key, dim, f"circuit.{key}",
+                                positive=key in _POSITIVE)
+        if "voltage" not in circuit_data or circuit_data.get("voltage") is None:
+            p.add("circuit.voltage", "is missing; give the highest working voltage between "
+                  "the probed points, such as '480 V'")
+        _circuit_rules(p, c, circuit_data, task)
+
+    site_name, altitude, wet = None, None, False
+    site = data.get("site")
+    if site is None:
+        p.add("site", "is missing; give the site's altitude (and name), such as "
+              "{name: North bench, altitude: 40 m}")
+    elif not isinstance(site, dict):
+        p.add("site", "must be a mapping of name, altitude and wet")
+    else:
+        p.unknown(site, SITE_FIELDS, "site")
+        site_name = site.get("name")
+        if site_name is not None and not isinstance(site_name, str):
+            p.add("site.name", "must be text")
+            site_name = None
+        altitude = p.quantity(site, "altitude", LENGTH, "site.altitude")
+        if site.get("altitude") is None:
+            if sites is not None and site_name in sites:
+                altitude = sites[site_name]
+            else:
+                p.add("site.altitude", "is missing; give the altitude of the job, such as "
+                      "'40 m'" + ("" if site_name is None or sites is None else
+                                  f" ('{site_name}' is not a site of the fleet)"))
+        wet = site.get("wet", False)
+        if not isinstance(wet, bool):
+            p.add("site.wet", "must be true or false")
+            wet = False
+
+    duration = p.quantity(data, "duration", TIME, "duration", positive=True)
+    discharge_to = p.quantity(data, "discharge_to", VOLTAGE, "discharge_to")
+    if discharge_to is not None and task is not None and task != "discharge":
+        p.add("discharge_to", "applies to discharge tasks only")
+    if (discharge_to is not None and c.get("voltage") is not None
+            and discharge_to >= c["voltage"]):
+        p.add("discharge_to", "must be below the circuit's voltage")
+
+    if p.items:
+        raise InvalidInput(p.items)
+    try:
+        circuit = Circuit(**c)
+        return Plan(task=task, circuit=circuit, title=title, site=site_name,
+                    altitude=altitude, wet=wet,
+                    duration=DEFAULT_DURATION if duration is None else duration,
+                    discharge_to=discharge_to, on=on)
+    except SpecError as e:  # the rules above should have caught it: say so plainly anyway
+        raise InvalidInput(str(e)) from None
+
+
+def _circuit_rules(p: _Problems, c: dict, raw: dict, task: str | None):
+    supply, cat = c.get("supply"), c.get("category")
+    if supply == "mains":
+        if cat is None:
+            p.add("circuit.category", "is missing; a mains circuit needs its measurement "
+                  "category (II, III or IV)")
+        elif cat not in MAINS_CATEGORIES:
+            p.add("circuit.category", f"'{cat}' is not one of II, III, IV")
+    elif supply == "isolated" and cat is not None:
+        p.add("circuit.category", "applies to mains circuits only; an isolated circuit has "
+              "no measurement category")
+    if c.get("waveform") == "dc" and raw.get("frequency") is not None:
+        p.add("circuit.frequency", "a dc circuit has no frequency")
+    if raw.get("source_impedance") is not None and raw.get("prospective_current") is not None:
+        p.add("circuit.prospective_current", "give source_impedance or prospective_current, "
+              "not both")
+    if raw.get("capacitance") is not None and raw.get("stored_energy") is not None:
+        p.add("circuit.stored_energy", "give capacitance or stored_energy, not both")
+    if task == "discharge" and raw.get("capacitance") is None \
+            and raw.get("stored_energy") is None:
+        p.add("circuit.capacitance", "a discharge task needs the capacitance (or "
+              "circuit.stored_energy)")
+    if task == "measure-current" and raw.get("current") is None:
+        p.add("circuit.current", "a measure-current task needs the current, such as '40 A'")
+    if task is not None and task != "measure-current" and raw.get("current") is not None:
+        p.add("circuit.current", "applies to measure-current tasks only")
+
+
+def read_plan_file(path) -> dict:
+    """The raw document of a plan file (YAML or JSON), or :class:`InvalidInput`."""
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except OSError as e:
+        raise InvalidInput(f"cannot read {path}: {e.strerror or e}") from None
+    try:
+        if path.suffix.lower() == ".json":
+            return json.loads(text)
+        return yaml.safe_load(text)
+    except (json.JSONDecodeError, yaml.YAMLError) as e:
+        raise InvalidInput(f"{path} is not valid {'JSON' if path.suffix.lower() == '.json' else 'YAML'}: "
+                           f"{str(e).splitlines()[0]}") from None
+
+
+def load_plan(path, on: date | None = None, *, sites: dict[str, float] | None = None) -> Plan:
+    """Read and validate a plan file (``.yaml``/``.yml`` or ``.json``)."""
+    return parse_plan(read_plan_file(path), on, sites=sites)
+
+
+def _q(value, dim) -> str | None:
+    return None if value is None else format_quantity(value, dim, digits=12)
+
+
+def plan_to_dict(plan: Plan) -> dict:
+    """The plan as a ``withstand-plan/1`` document with quantities as text, such that
+    ``parse_plan(plan_to_dict(plan), plan.on) == plan``."""
+    c = plan.circuit
+    circuit = {"supply": c.supply}
+    if c.category is not None:
+        circuit["category"] = c.category
+    circuit["waveform"] = c.waveform
+    for key, dim in CIRCUIT_QUANTITIES.items():
+        value = getattr(c, key)
+        if value is not None:
+            circuit[key] = _q(value, dim)
+    site = {}
+    if plan.site is not None:
+        site["name"] = plan.site
+    site["altitude"] = _q(plan.altitude, LENGTH)
+    site["wet"] = plan.wet
+    out = {"format": FORMAT}
+    if plan.title:
+        out["title"] = plan.title
+    out.update({"task": plan.task, "circuit": circuit, "site": site,
+                "duration": _q(plan.duration, TIME)})
+    if plan.discharge_to is not None:
+        out["discharge_to"] = _q(plan.discharge_to, VOLTAGE)
+    return out
+
+
+def dump_plan(plan: Plan) -> str:
+    """The plan as YAML text for a plan file."""
+    return yaml.safe_dump(plan_to_dict(plan), sort_keys=False, allow_unicode=True)

@@ -1,0 +1,137 @@
+"""The human text of a check result (what ``withstand check`` prints without ``--json``)."""
+
+from __future__ import annotations
+
+import math
+
+from .engine.quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, RESISTANCE, TIME, VOLTAGE,
+                              format_quantity as fq)
+from .engine.result import Result, SetupResult
+
+DEFAULT_LIMIT = 20  # setups shown without --all (SPEC §4)
+_MARK = {"pass": "ok", "caution": "CAUTION", "fail": "FAIL", "unknown": "UNKNOWN",
+         "not-run": "not run"}
+
+
+def exit_code(result: Result) -> int:
+    """0 when some setup is suitable or conditional, else 1 (SPEC §4)."""
+    return 0 if result.any_fit else 1
+
+
+def _margin(m: float | None) -> str:
+    if m is None:
+        return "-"
+    if math.isinf(m):
+        return "n/a" if m > 0 else "-inf"
+    return f"{m:+.0%}"
+
+
+def _reason(s: SetupResult) -> str:
+    f = s.deciding
+    if f is None:
+        return ""
+    return f.message
+
+
+def _table(rows: list[list[str]], headers: list[str], wrap_last: int = 70) -> list[str]:
+    widths = [max(len(h), *(len(r[i]) for r in rows)) if rows else len(h)
+              for i, h in enumerate(headers[:-1])]
+    def line(cells):
+        head = "  ".join(c.ljust(w) for c, w in zip(cells[:-1], widths))
+        return f"{head}  {cells[-1]}".rstrip()
+    out = [line(headers), line(["-" * w for w in widths] + ["-" * len(headers[-1])])]
+    indent = " " * (sum(widths) + 2 * len(widths))
+    for r in rows:
+        words, last, first = r[-1].split(), [], True
+        chunk = ""
+        for w in words:
+            if chunk and len(chunk) + 1 + len(w) > wrap_last:
+                last.append(chunk)
+                chunk = w
+            else:
+                chunk = f"{chunk} {w}" if chunk else w
+        last.append(chunk)
+        out.append(line(r[:-1] + [last[0]]))
+        out.extend(indent + x for x in last[1:])
+    return out
+
+
+def derived_lines(result: Result) -> list[str]:
+    plan, d, c = result.plan, result.derived, result.plan.circuit
+    supply = (f"mains CAT {c.category}" if c.supply == "mains" else "isolated")
+    volts = fq(c.voltage, VOLTAGE) + (" rms" if c.waveform == "ac" else " dc")
+    if c.to_earth != c.voltage:
+        volts += f", {fq(c.to_earth, VOLTAGE)} to earth"
+    out = [f"Plan: {plan.title or '(untitled)'}",
+           f"  task {plan.task}; {supply}, {volts}; site {plan.site or '-'} at "
+           f"{fq(plan.altitude, LENGTH)}{' (wet)' if plan.wet else ''}; connected "
+           f"{fq(plan.duration, TIME)}; on {result.on.isoformat() if result.on else '-'}"]
+    if d.transient is not None:
+        out.append(f"  expected transient   {fq(d.transient, VOLTAGE)} peak ({d.transient_source})")
+    else:
+        out.append(f"  expected transient   not known ({d.transient_source})")
+    if d.prospective_current is not None:
+        out.append(f"  prospective current  {fq(d.prospective_current, CURRENT)} "
+                   f"(source impedance {fq(d.source_impedance, RESISTANCE)})")
+    else:
+        out.append("  prospective current  not known (give circuit.source_impedance)")
+    if d.energy is not None:
+        out.append(f"  stored energy        {fq(d.energy, ENERGY)} in "
+                   f"{fq(d.capacitance, CAPACITANCE)} at {fq(d.peak_voltage, VOLTAGE)}")
+    else:
+        out.append("  stored energy        not given")
+    unit = " rms" if c.waveform == "ac" else " dc"
+    out.append(f"  hazardous live       above {fq(d.hazardous_live, VOLTAGE)}{unit}: the circuit "
+               f"{'IS' if d.hazardous else 'is not'} hazardous live ({d.hazardous_live_source})")
+    if plan.task == "discharge":
+        out.append(f"  safe level           {fq(d.safe_level, VOLTAGE)} ({d.safe_level_source})")
+    return out
+
+
+def explain_lines(result: Result, tag: str) -> list[str]:
+    setups = result.setups_for(tag)
+    out = [f"Findings for {tag}:"]
+    if not setups:
+        why = next((e.reason for e in result.excluded if e.unit == tag), None)
+        out.append(f"  {tag} is not offered for this plan"
+                   + (f": {why}." if why else ": no setup of it fits the task."))
+        return out
+    for s in setups:
+        acc = ", ".join(s.accessories) or "no accessories"
+        out.append("")
+        out.append(f"{s.instrument} {s.mode} ({s.mode_label}) with {acc}: {s.verdict.upper()}, "
+                   f"margin {_margin(s.margin)}")
+        for f in s.findings:
+            req = f" [needs {f.required}; has {f.available}]" if f.required or f.available else ""
+            out.append(f"  {_MARK[f.status]:8} {f.check:10} {f.subject}: {f.message}{req}")
+            out.append(f"  {'':8} {'':10} source: {f.source}")
+    return out
+
+
+def render_text(result: Result, *, show_all: bool = False, explain: str | None = None) -> str:
+    """The ranked table, the plan's derived values, then the cautions (and with ``explain``
+    every finding of that unit's setups)."""
+    lines = derived_lines(result)
+    lines.append("")
+    shown = result.setups if show_all else result.setups[:DEFAULT_LIMIT]
+    if not result.setups:
+        lines.append("No setup in the fleet fits this task.")
+    else:
+        rows = [[str(i), s.instrument, s.mode, ", ".join(s.accessories) or "-",
+                 s.verdict, _margin(s.margin), _reason(s)]
+                for i, s in enumerate(shown, 1)]
+        lines += _table(rows, ["#", "unit", "mode", "accessories", "verdict", "margin",
+                               "deciding reason"])
+        if len(shown) < len(result.setups):
+            lines.append(f"... {len(result.setups) - len(shown)} more setups (use --all)")
+    if result.excluded:
+        lines.append("")
+        lines.append("Not offered: " + ", ".join(f"{e.unit} ({e.reason})"
+                                                for e in result.excluded))
+    lines.append("")
+    lines.append("Cautions:")
+    lines += [f"  - {c}" for c in result.cautions]
+    if explain is not None:
+        lines.append("")
+        lines += explain_lines(result, explain)
+    return "\n".join(lines) + "\n"
