@@ -31,7 +31,8 @@ class ImportReport:
 
     def summary(self) -> str:
         return (f"{len(self.added)} added, {len(self.updated)} updated, {self.unchanged} "
-                f"unchanged, {len(self.changes)} field changes recorded")
+                f"unchanged ({len(self.changes)} field change"
+                f"{'' if len(self.changes) == 1 else 's'})")
 
 
 def _flatten(value, prefix: str = "") -> dict[str, str]:
