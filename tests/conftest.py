@@ -11,6 +11,7 @@ import pytest
 from registry.app import create_app
 from registry.demo import load_demo
 from registry.store import db as store_db
+from webtools import login  # noqa: F401  (re-exported for the fixture)
 
 PG_ADMIN_URL = os.environ.get("WITHSTAND_TEST_POSTGRES",
                               "postgresql+psycopg://postgres@127.0.0.1:5432/postgres")
@@ -91,10 +92,7 @@ def pg_url():
     admin.dispose()
 
 
-def login(client, username="steward", password="larkspur-steward"):
-    """Log in through the real form, CSRF token included."""
-    import re
-    page = client.get("/login").get_data(as_text=True)
-    token = re.search(r'name="csrf_token" value="([^"]+)"', page).group(1)
-    return client.post("/login", data={"username": username, "password": password,
-                                       "csrf_token": token})
+@pytest.fixture
+def login_as():
+    """``login_as(client, user, password)``: log in through the real form."""
+    return login

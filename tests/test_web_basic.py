@@ -2,7 +2,7 @@
 
 import re
 
-from conftest import login
+from webtools import login
 
 
 def test_pages_need_a_login(client, demo):
