@@ -1,10 +1,8 @@
-"""An invented lab's models for the engine tests (makers and models are made up)."""
+"""Builders of an invented lab's models for the engine tests (makers and models are made up)."""
 
 from __future__ import annotations
 
 from datetime import date
-
-import pytest
 
 from registry.engine.spec import (Circuit, Fleet, Fuse, Mode, ModelSpec, Plan, Rating,
                                   UnitState)
@@ -60,8 +58,3 @@ def panel_plan(**kw) -> Plan:
     kw.setdefault("site", "North bench")
     kw.setdefault("altitude", 40.0)
     return Plan(circuit=Circuit(**circuit), **kw)
-
-
-@pytest.fixture
-def job_day():
-    return JOB_DAY

@@ -1,0 +1,331 @@
+"""Worked examples for each check and each verdict (an invented lab; sources beside each)."""
+
+from datetime import date, datetime
+
+import pytest
+
+from registry.engine import checks
+from registry.engine.derived import derive
+from registry.engine.evaluate import evaluate
+from registry.engine.findings import Finding
+from registry.engine.setups import SetupContext
+from registry.engine.spec import (Circuit, Fuse, Mode, ModelSpec, PastEvent, Plan, Rating)
+
+from builders import DUE, JOB_DAY, fleet_of, leads, meter, panel_plan, unit
+
+
+def _only(result, tag, mode):
+    (s,) = [s for s in result.setups if s.instrument == tag and s.mode == mode]
+    return s
+
+
+def _by(setup, check, subject=None):
+    return [f for f in setup.findings if f.check == check
+            and (subject is None or f.subject == subject)]
+
+
+def test_cat_iii_meter_with_cat_iv_leads_fits_a_480_277_board():
+    # IEC 61010-1: CAT III 600 V covers a CAT III circuit at 480 V (to earth 277 V); the
+    # CAT IV 600 V / CAT III 1000 V leads cover it too; the 300 V row gives 4 kV, within the
+    # 6 kV a CAT III 600 V rating stands for (IEC 61010-2-030 Table 102).
+    fleet = fleet_of([meter(), leads()], [unit("M1", "mx-3"), unit("L1", "tl-4")])
+    s = _only(evaluate(panel_plan(), fleet), "M1", "vac")
+    assert s.verdict == "suitable"
+    assert s.accessories == ("L1",)
+    assert all(f.status == "pass" for f in _by(s, "category"))
+    (t,) = _by(s, "transient", "mx-3")
+    assert t.required == "4 kV peak" and t.available == "6 kV peak"
+
+
+def test_cat_ii_meter_does_not_fit_a_cat_iii_board():
+    # A higher voltage in a lower category does not stand in for the category (SPEC §5.2).
+    m = meter("mx-2", ratings=(Rating("II", 1000.0),))
+    fleet = fleet_of([m, leads()], [unit("M2", "mx-2"), unit("L1", "tl-4")])
+    s = _only(evaluate(panel_plan(), fleet), "M2", "vac")
+    assert s.verdict == "unsuitable"
+    (f,) = _by(s, "category", "mx-2")
+    assert f.status == "fail" and f.required == "CAT III 480 V"
+    assert s.deciding.check in ("category", "transient")
+
+
+def test_higher_category_at_lower_voltage_does_not_stand_in():
+    # CAT IV 300 V on a CAT III 480 V board: category enough, voltage not (SPEC §5.2).
+    m = meter("mx-4", ratings=(Rating("IV", 300.0),))
+    fleet = fleet_of([m, leads()], [unit("M4", "mx-4"), unit("L1", "tl-4")])
+    s = _only(evaluate(panel_plan(), fleet), "M4", "vac")
+    (f,) = _by(s, "category", "mx-4")
+    assert f.status == "fail" and f.margin == pytest.approx(300 / 480 - 1)
+
+
+def test_leads_of_a_lower_category_decide_the_chain():
+    m = meter("mx-9", ratings=(Rating("IV", 1000.0),))
+    cheap = leads("tl-2", ratings=(Rating("II", 1000.0),))
+    fleet = fleet_of([m, cheap], [unit("M9", "mx-9"), unit("L2", "tl-2")])
+    s = _only(evaluate(panel_plan(), fleet), "M9", "vac")
+    assert s.verdict == "unsuitable"
+    assert s.deciding.subject == "tl-2"
+    assert [f.status for f in _by(s, "category", "mx-9")] == ["pass"]
+
+
+def test_rating_above_the_sites_altitude_does_not_hold():
+    fleet = fleet_of([meter(), leads()], [unit("M1", "mx-3"), unit("L1", "tl-4")])
+    s = _only(evaluate(panel_plan(altitude=3000.0), fleet), "M1", "vac")
+    assert s.verdict == "unsuitable"
+    (f,) = _by(s, "altitude", "mx-3")
+    # IEC 60664-1 Table A.2: 1.14 at 3000 m against 1.00 at 2000 m
+    assert f.status == "fail" and "1.14 times" in f.message
+
+
+def test_rating_stated_for_high_altitude_holds():
+    m = meter("mx-h", ratings=(Rating("III", 600.0, max_altitude=5000.0),))
+    l = leads("tl-h", ratings=(Rating("IV", 600.0, max_altitude=5000.0),))
+    fleet = fleet_of([m, l], [unit("MH", "mx-h"), unit("LH", "tl-h")])
+    s = _only(evaluate(panel_plan(altitude=4500.0), fleet), "MH", "vac")
+    assert [f.status for f in _by(s, "altitude")] == ["pass", "pass"]
+    assert s.verdict == "suitable"
+
+
+def _current_plan(**circuit):
+    c = dict(voltage=400.0, voltage_to_earth=230.0, frequency=50.0, source_impedance=0.05,
+             current=5.0)
+    c.update(circuit)
+    return panel_plan(task="measure-current", circuit=c)
+
+
+def test_fuse_breaking_less_than_the_prospective_current_fails_a_current_task():
+    # 400 V / 0.05 ohm = 8 kA prospective; a 1.5 kA fuse cannot clear it (IEC 61010-2-033
+    # foreseeable misuse: the current input put across the circuit).
+    weak = Fuse(current=10.0, voltage=1000.0, voltage_dc=1000.0, breaking_capacity=1.5e3)
+    m = meter("mx-w", amp_fuse=weak)
+    fleet = fleet_of([m, leads()], [unit("MW", "mx-w"), unit("L1", "tl-4")])
+    s = _only(evaluate(_current_plan(), fleet), "MW", "amp")
+    assert s.verdict == "unsuitable"
+    (f,) = [f for f in _by(s, "misuse") if "in the meter" in f.message]
+    assert f.status == "fail" and "8 kA" in f.message
+
+
+def test_adequate_fuse_passes_and_low_voltage_fuse_fails_on_dc():
+    m = meter()  # 20 kA, 1000 V ac and dc
+    fleet = fleet_of([m, leads()], [unit("M1", "mx-3"), unit("L1", "tl-4")])
+    s = _only(evaluate(_current_plan(), fleet), "M1", "amp")
+    assert [f.status for f in _by(s, "misuse")] == ["pass"]
+    assert s.verdict == "suitable"
+    acfuse = Fuse(current=10.0, voltage=1000.0, voltage_dc=250.0, breaking_capacity=20e3)
+    m2 = meter("mx-d", amp_fuse=acfuse)
+    plan = Plan("measure-current", Circuit("isolated", "dc", 400.0, source_impedance=0.05,
+                                           current=5.0), altitude=40.0, on=JOB_DAY)
+    fleet = fleet_of([m2, leads()], [unit("MD", "mx-d"), unit("L1", "tl-4")])
+    s = _only(evaluate(plan, fleet), "MD", "amp")
+    assert s.verdict == "unsuitable" and "dc voltage rating" in s.deciding.message
+
+
+def test_current_mode_above_its_maximum_fails():
+    fleet = fleet_of([meter(), leads()], [unit("M1", "mx-3"), unit("L1", "tl-4")])
+    s = _only(evaluate(_current_plan(current=60.0), fleet), "M1", "amp")
+    (f,) = _by(s, "mode-input")
+    assert f.status == "fail" and f.required == "60 A" and f.available == "10 A"
+
+
+def test_other_mode_on_the_same_terminals_is_a_caution():
+    # SPEC §5.6: the low-Z mode (600 V) shares V/COM with DC volts (1000 V) on an 800 V link.
+    plan = Plan("measure-voltage", Circuit("isolated", "dc", 800.0), altitude=40.0,
+                on=JOB_DAY, site="North bench")
+    m = meter(ratings=(Rating("III", 1000.0),))
+    fleet = fleet_of([m, leads()], [unit("M1", "mx-3"), unit("L1", "tl-4")])
+    result = evaluate(plan, fleet)
+    s = _only(result, "M1", "vdc")
+    assert s.verdict == "conditional"
+    (f,) = [f for f in _by(s, "misuse") if f.status == "caution"]
+    assert "Low-Z volts" in f.message
+    assert _only(result, "M1", "lowz").verdict == "unsuitable"  # 600 V input on 800 V
+
+
+def test_missing_instrument_value_is_unknown_and_unverified():
+    m = meter(max_input=None)
+    fleet = fleet_of([m, leads()], [unit("M1", "mx-3"), unit("L1", "tl-4")])
+    s = _only(evaluate(panel_plan(), fleet), "M1", "vac")
+    assert [f.status for f in _by(s, "mode-input")] == ["unknown"]
+    assert s.verdict == "unverified"
+
+
+def test_isolated_transient_not_run_without_plan_value_and_unknown_without_withstand():
+    scope = ModelSpec("sc-1", "oscilloscope", ratings=(Rating("none", 300.0),),
+                      modes=(Mode("ch1", "Channel 1", "voltage", "both", ("CH1", "GND"),
+                                  input_resistance=1e6, max_input=300.0),),
+                      connectors=("bnc",))
+    probe = ModelSpec("pb-1", "test-leads", ratings=(Rating("none", 300.0, 2500.0),),
+                      connector="bnc")
+    fleet = fleet_of([scope, probe], [unit("S1", "sc-1"), unit("P1", "pb-1")])
+    plan = Plan("measure-voltage", Circuit("isolated", "dc", 48.0), altitude=0.0, on=JOB_DAY)
+    s = _only(evaluate(plan, fleet), "S1", "ch1")
+    assert [f.status for f in _by(s, "transient")] == ["not-run"]
+    assert "circuit.transient" in _by(s, "transient")[0].message
+    assert s.verdict == "suitable"
+    plan = Plan("measure-voltage", Circuit("isolated", "dc", 48.0, transient=1000.0),
+                altitude=0.0, on=JOB_DAY)
+    s = _only(evaluate(plan, fleet), "S1", "ch1")
+    assert {f.subject: f.status for f in _by(s, "transient")} == {"sc-1": "unknown",
+                                                                   "pb-1": "pass"}
+    assert s.verdict == "unverified"
+
+
+def test_loading_caution_on_a_soft_source():
+    # A 3 kohm low-Z input on a source behind 100 ohm reads 480*3000/3100 = 464.5 V: 3.2 % low.
+    fleet = fleet_of([meter(), leads()], [unit("M1", "mx-3"), unit("L1", "tl-4")])
+    s = _only(evaluate(panel_plan(circuit={"source_impedance": 100.0}), fleet), "M1", "lowz")
+    (f,) = _by(s, "loading")
+    assert f.status == "caution" and "464.5 V" in f.message and "3.2%" in f.message
+
+
+def test_divider_into_the_wrong_load_is_a_caution_with_its_error():
+    div = ModelSpec("dv-1", "hv-divider", ratings=(Rating("none", 40e3, 48e3),),
+                    connector="4mm", attenuation=1000.0, required_load=10e6,
+                    output_resistance=10e3, resistance=1e9, min_voltage=1e3)
+    m = meter()
+    fleet = fleet_of([m, div], [unit("M1", "mx-3"), unit("D1", "dv-1")])
+    plan = Plan("measure-voltage", Circuit("isolated", "dc", 20e3), altitude=40.0, on=JOB_DAY)
+    result = evaluate(plan, fleet)
+    ohm_into_1meg = _only(result, "M1", "vdc")
+    assert ohm_into_1meg.verdict == "suitable"
+    low = _only(result, "M1", "lowz")
+    (f,) = [f for f in _by(low, "loading", "dv-1") if "calibrated" in f.message]
+    # 3 kohm into a divider calibrated for 10 Mohm with 10 kohm output: 3e3*(1e7+1e4) /
+    # (1e7*(3e3+1e4)) - 1 = -76.9 %
+    assert f.status == "caution" and "76.9% low" in f.message
+    # a divider is not offered below its min_voltage
+    plan = Plan("measure-voltage", Circuit("isolated", "dc", 500.0), altitude=40.0, on=JOB_DAY)
+    assert all(s.accessories != ("D1",) for s in evaluate(plan, fleet).setups)
+
+
+def test_low_z_longer_than_its_limit_fails():
+    fleet = fleet_of([meter(), leads()], [unit("M1", "mx-3"), unit("L1", "tl-4")])
+    s = _only(evaluate(panel_plan(duration=120.0), fleet), "M1", "lowz")
+    (f,) = _by(s, "low-z")
+    assert f.status == "fail" and f.margin == pytest.approx(-0.5)
+
+
+def _tool(key="dt-1", r=1e3, energy=2e3):
+    return ModelSpec(key, "discharge-tool", ratings=(Rating("none", 1500.0, 8e3),),
+                     integrated_leads=True, resistance=r, energy=energy, power=400.0,
+                     max_voltage=1500.0)
+
+
+def _discharge_plan(**kw):
+    return Plan("discharge", Circuit("isolated", "dc", 800.0, capacitance=2e-3), altitude=40.0,
+                on=JOB_DAY, **kw)
+
+
+def test_discharge_tool_suitable_and_slow_stick_conditional():
+    fleet = fleet_of([_tool(), _tool("dt-25", r=100e3, energy=10e3)],
+                     [unit("T1", "dt-1"), unit("T2", "dt-25")])
+    result = evaluate(_discharge_plan(discharge_to=50.0), fleet)
+    fast, slow = _only(result, "T1", "discharge"), _only(result, "T2", "discharge")
+    assert fast.verdict == "suitable"
+    # t = 1e3 * 2e-3 * ln(800/50) = 5.545 s; E = 0.5*2e-3*(800^2-50^2) = 637.5 J
+    (f,) = _by(fast, "discharge")
+    assert "5.545 s" in f.message and "637.5 J" in f.message
+    assert slow.verdict == "conditional"  # 554.5 s, more than 60 s
+    assert result.setups[0].instrument == "T1"
+
+
+def test_discharge_beyond_the_tools_energy_fails():
+    fleet = fleet_of([_tool(energy=100.0)], [unit("T1", "dt-1")])
+    s = _only(evaluate(_discharge_plan(), fleet), "T1", "discharge")
+    assert s.verdict == "unsuitable" and s.deciding.check == "discharge"
+
+
+def test_low_z_input_draining_a_bank_without_a_limit_is_unknown():
+    fleet = fleet_of([meter(), leads()], [unit("M1", "mx-3"), unit("L1", "tl-4")])
+    plan = Plan("measure-voltage", Circuit("isolated", "dc", 400.0, capacitance=1e-3),
+                altitude=40.0, on=JOB_DAY)
+    result = evaluate(plan, fleet)
+    assert [f.status for f in _by(_only(result, "M1", "lowz"), "discharge")] == ["unknown"]
+    # the 10 Mohm input: tau 10 000 s, it passes with the time constant stated
+    (f,) = _by(_only(result, "M1", "vdc"), "discharge")
+    assert f.status == "pass" and "tau" in f.message
+
+
+def test_on_hold_overdue_away_retired_units_are_excluded_with_the_first_reason():
+    units = [unit("M1", "mx-3", status="on-hold"), unit("M2", "mx-3", open_hold=True),
+             unit("M3", "mx-3", verification_due=date(2026, 5, 31)),
+             unit("M4", "mx-3", status="retired", verification_due=date(2020, 1, 1)),
+             unit("M5", "mx-3", status="away"), unit("M6", "mx-3"),
+             unit("L1", "tl-4", verification_due=date(2026, 1, 1)), unit("L2", "tl-4")]
+    result = evaluate(panel_plan(), fleet_of([meter(), leads()], units))
+    reasons = {e.unit: e.reason for e in result.excluded}
+    assert reasons == {"M1": "on-hold", "M2": "on-hold", "M3": "verification-overdue",
+                       "M4": "retired", "M5": "away", "L1": "verification-overdue"}
+    assert {s.instrument for s in result.setups} == {"M6"}
+    assert all(s.accessories == ("L2",) for s in result.setups)
+
+
+def test_history_out_of_rating_event_and_worn_clamp_are_cautions():
+    worn = tuple(PastEvent("vac", "transient", True, datetime(2026, 1, d), clamp_conducted=True)
+                 for d in (2, 3, 4))
+    bad = (PastEvent("vac", "overvoltage", False, datetime(2026, 2, 1)),)
+    units = [unit("M1", "mx-3", history=bad), unit("M2", "mx-3", history=worn),
+             unit("M3", "mx-3"), unit("L1", "tl-4")]
+    result = evaluate(panel_plan(), fleet_of([meter(), leads()], units))
+    assert _only(result, "M1", "vac").verdict == "conditional"
+    assert _only(result, "M2", "vac").verdict == "conditional"
+    assert "clamped 3 transients" in _by(_only(result, "M2", "vac"), "history")[0].message
+    assert _only(result, "M3", "vac").verdict == "suitable"
+
+
+def test_ranking_verdict_then_margin_then_site_then_due():
+    wide = meter("mx-w", ratings=(Rating("III", 1000.0),), lowz=False)
+    narrow = meter("mx-n", ratings=(Rating("III", 600.0),), lowz=False)
+    units = [unit("N1", "mx-n"), unit("W1", "mx-w", site="Far yard"),
+             unit("W2", "mx-w", verification_due=date(2026, 9, 1)),
+             unit("W3", "mx-w", verification_due=date(2027, 9, 1)), unit("L1", "tl-4")]
+    result = evaluate(panel_plan(), fleet_of([wide, narrow, leads()], units))
+    order = [s.instrument for s in result.setups if s.mode == "vac"]
+    # mx-w has more headroom than mx-n (1000 V vs 600 V, and 8 kV vs 6 kV); among the mx-w
+    # units the plan's site first, then the later verification due.
+    assert order == ["W3", "W2", "W1", "N1"]
+    verdicts = [s.verdict for s in result.setups]
+    order_index = ["suitable", "conditional", "unverified", "unsuitable"]
+    assert verdicts == sorted(verdicts, key=order_index.index)
+
+
+def test_extra_checks_receive_the_context_and_add_findings():
+    seen = []
+
+    def front_end(ctx: SetupContext):
+        seen.append((ctx.instrument.key, ctx.mode.key, ctx.seen_voltage, ctx.expected_impulse,
+                     ctx.generator_impedance, ctx.prospective_current))
+        return [Finding("protection", "fail", "RV1", "varistor overstressed", "test")]
+
+    fleet = fleet_of([meter(), leads()], [unit("M1", "mx-3"), unit("M2", "mx-3"),
+                                          unit("L1", "tl-4")])
+    result = evaluate(panel_plan(), fleet, extra_checks=(front_end,))
+    assert all(s.verdict == "unsuitable" for s in result.setups)
+    assert ("mx-3", "vac", 480.0, 4000.0, 2.0, pytest.approx(24e3)) in seen
+    # evaluated once per model combination, not once per unit
+    assert len(seen) == len({(k, m) for k, m, *_ in seen})
+
+
+def test_json_has_the_result_format():
+    fleet = fleet_of([meter(), leads()], [unit("M1", "mx-3"), unit("L1", "tl-4"),
+                                          unit("M9", "mx-3", status="away")])
+    out = evaluate(panel_plan(), fleet).as_json()
+    assert out["format"] == "withstand-result/1"
+    assert set(out) == {"format", "plan", "setups", "excluded", "cautions"}
+    for key in ("transient", "energy", "prospective_current", "hazardous_live"):
+        assert key in out["plan"]
+    assert out["plan"]["transient"] == 4000.0
+    s = out["setups"][0]
+    assert set(s) == {"instrument", "mode", "accessories", "verdict", "margin", "findings"}
+    assert set(s["findings"][0]) >= {"check", "status", "subject", "required", "available",
+                                     "message", "source"}
+    assert out["excluded"] == [{"unit": "M9", "reason": "away"}]
+    assert any("qualified person" in c for c in out["cautions"])
+
+
+def test_cautions_state_hazards_plainly():
+    plan = Plan("verify-absence", Circuit("isolated", "dc", 800.0, capacitance=2e-3),
+                altitude=40.0, on=JOB_DAY)
+    result = evaluate(plan, fleet_of([meter(), leads()], [unit("M1", "mx-3")]))
+    text = " ".join(result.cautions)
+    assert "Prove the tester" in text and "protective equipment" in text
+    assert "640 J" in text and "shock" in text and "hazardous live" in text
