@@ -276,7 +276,8 @@ def drawing_marks(report: PathReport | None, closest: int = 3) -> dict[str, str]
         elif s.margin is not None and math.isfinite(s.margin):
             near.append((s.margin, id, s, where))
     for m, id, s, where in sorted(near)[:closest]:
-        marks[id] = f"{m:.0%} headroom: {s.required} of {s.available}, {where}"
+        room = f"{max(m, 0.0):.0%} headroom" if m < 1 else f"limit {m + 1:.3g} times"
+        marks[id] = f"{room}: {s.required} of {s.available}, {where}"
     return marks
 
 
