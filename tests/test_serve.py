@@ -59,3 +59,25 @@ def test_server_answers_and_logs_in(server):
                       "csrf_token": token}).encode()
     fleet = opener.open(server + "/login", data=body).read().decode()
     assert "NB-0001" in fleet and "Fleet" in fleet
+
+
+def test_demo_command_serves_a_fresh_demo(tmp_path):
+    env = dict(os.environ, WITHSTAND_INSTANCE=str(tmp_path / "instance"))
+    port = free_port()
+    proc = subprocess.Popen([str(WITHSTAND), "demo", "--port", str(port)], env=env,
+                            cwd=tmp_path, stdout=subprocess.PIPE, stderr=subprocess.STDOUT,
+                            text=True)
+    try:
+        for _ in range(150):
+            try:
+                page = urllib.request.urlopen(f"http://127.0.0.1:{port}/login", timeout=2)
+                break
+            except OSError:
+                assert proc.poll() is None, proc.stdout.read()
+                time.sleep(0.1)
+        assert page.status == 200
+        assert (tmp_path / "instance" / "demo.sqlite3").exists()
+    finally:
+        proc.terminate()
+        out = proc.communicate(timeout=10)[0]
+    assert "larkspur-steward" in out
