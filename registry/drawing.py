@@ -9,7 +9,6 @@ closed as the mode sets them. Marked elements get a symbol and a text label (not
 
 from __future__ import annotations
 
-from collections import deque
 
 import schemdraw
 import schemdraw.elements as elm
