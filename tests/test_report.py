@@ -1,0 +1,52 @@
+"""The text report and the exit code of a check."""
+
+from datetime import date
+
+from registry.engine.evaluate import evaluate
+from registry.engine.spec import Rating
+from registry.report import exit_code, render_text
+
+import sys
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parent / "engine"))
+from builders import fleet_of, leads, meter, panel_plan, unit  # noqa: E402
+
+
+def _result(n_meters=1, ratings=(Rating("III", 600.0),)):
+    units = [unit(f"M{i:02d}", "mx-3") for i in range(n_meters)] + [unit("L1", "tl-4"),
+                                                                     unit("X1", "mx-3",
+                                                                          status="away")]
+    return evaluate(panel_plan(), fleet_of([meter(ratings=ratings), leads()], units))
+
+
+def test_table_derived_values_and_cautions():
+    text = render_text(_result())
+    for words in ("unit", "mode", "accessories", "verdict", "margin", "deciding reason",
+                  "expected transient   4 kV peak", "prospective current  24 kA",
+                  "hazardous live", "Cautions:", "qualified person", "X1 (away)"):
+        assert words in text, words
+    assert text.index("expected transient") < text.index("deciding reason") < \
+        text.index("Cautions:")
+
+
+def test_only_twenty_setups_without_all():
+    result = _result(n_meters=12)  # 12 units x 2 modes = 24 setups
+    assert len(result.setups) == 24
+    text = render_text(result)
+    assert "4 more setups (use --all)" in text
+    assert "M11" in render_text(result, show_all=True)
+
+
+def test_explain_prints_every_finding_of_the_unit():
+    result = _result()
+    text = render_text(result, explain="M00")
+    for s in result.setups_for("M00"):
+        for f in s.findings:
+            assert f.message in text
+    assert "X1 is not offered for this plan: away." in render_text(result, explain="X1")
+
+
+def test_exit_code():
+    assert exit_code(_result()) == 0
+    assert exit_code(_result(ratings=(Rating("II", 600.0),))) == 1
