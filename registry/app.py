@@ -46,9 +46,13 @@ def register_extensions(app: Flask) -> None:
 
 
 def register_blueprints(app: Flask) -> None:
-    from .web import auth, fleet
-    app.register_blueprint(auth.bp)
-    app.register_blueprint(fleet.bp)
+    from .web import api, audit, auth, checks, dashboard, events, fleet, models, users
+    for module in (auth, fleet, dashboard, models, checks, events, audit, users, api):
+        app.register_blueprint(module.bp)
+
+    @app.context_processor
+    def navigation():
+        return {"nav_endpoints": app.view_functions}
 
 
 def register_security(app: Flask) -> None:

@@ -5,13 +5,16 @@ from __future__ import annotations
 import functools
 from dataclasses import dataclass
 
-from flask import (Blueprint, abort, flash, redirect, render_template, request, session,
-                   url_for)
+import math
+
+from flask import (Blueprint, abort, current_app, flash, redirect, render_template, request,
+                   session, url_for)
 from flask_login import UserMixin, current_user, login_required, login_user, logout_user
 
 from ..extensions import db, login_manager
 from ..store import models as m
 from ..store.users import authenticate
+from .throttle import LoginThrottle
 
 bp = Blueprint("auth", __name__)
 
@@ -68,21 +71,40 @@ def _safe_next(target: str | None) -> str:
     return url_for("fleet.index")
 
 
+def throttle() -> LoginThrottle:
+    return current_app.extensions.setdefault("withstand_throttle", LoginThrottle())
+
+
 @bp.route("/login", methods=["GET", "POST"])
 def login():
     error = None
+    status = 200
     username = ""
     if request.method == "POST":
         username = request.form.get("username", "")
-        user = authenticate(db.session, username, request.form.get("password", ""))
-        if user is None:
-            error = "That username and password do not match an active login."
+        address = request.remote_addr
+        wait = throttle().retry_after(username, address)
+        if wait > 0:
+            # refused before the password is even looked at, right or wrong
+            minutes = max(1, math.ceil(wait / 60))
+            error = (f"Too many failed attempts for this username; try again in {minutes} "
+                     f"minute{'' if minutes == 1 else 's'}.")
+            status = 429
         else:
-            session.clear()  # a new session on login: nothing from before carries over
-            login_user(signed_in(user))
-            return redirect(_safe_next(request.args.get("next")))
-    return render_template("auth/login.html", error=error, username=username), \
-        (401 if error else 200)
+            user = authenticate(db.session, username, request.form.get("password", ""))
+            if user is None:
+                throttle().failed(username, address)
+                error = "That username and password do not match an active login."
+                status = 401
+            else:
+                throttle().succeeded(username, address)
+                session.clear()  # a new session on login: nothing from before carries over
+                login_user(signed_in(user))
+                return redirect(_safe_next(request.args.get("next")))
+    response = render_template("auth/login.html", error=error, username=username), status
+    if status == 429:
+        return (*response, {"Retry-After": str(math.ceil(wait))})
+    return response
 
 
 @bp.route("/logout", methods=["POST"])

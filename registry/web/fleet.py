@@ -1,56 +1,109 @@
-"""The fleet list and the unit page."""
+"""The fleet list (search, filters, sorting, pages), the unit page and its QR label."""
 
 from __future__ import annotations
 
-from flask import Blueprint, abort, render_template, request
-from sqlalchemy import func, or_, select
-from sqlalchemy.orm import selectinload
+import io
 
-from ..engine.quantity import CAPACITANCE, CURRENT, LENGTH, RESISTANCE, TIME, VOLTAGE, ENERGY
-from ..engine.quantity import format_quantity
+import segno
+from flask import Blueprint, Response, abort, render_template, request, url_for
+from sqlalchemy import select
+
+from ..engine import spec
+from ..engine.quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, POWER, RESISTANCE, TIME,
+                               VOLTAGE, format_quantity)
 from ..extensions import db
 from ..store import models as m
+from ..store import queries
 from ..store.specs import model_spec
 from .auth import role_required
+from .forms import FieldErrors, quantity_or_none
 
 bp = Blueprint("fleet", __name__)
+
+_DIMS = {"V": VOLTAGE, "A": CURRENT, "ohm": RESISTANCE, "F": CAPACITANCE, "s": TIME,
+         "m": LENGTH, "J": ENERGY, "W": POWER}
 
 
 @bp.app_template_filter("q")
 def quantity_filter(value, dim: str):
-    dims = {"V": VOLTAGE, "A": CURRENT, "ohm": RESISTANCE, "F": CAPACITANCE, "s": TIME,
-            "m": LENGTH, "J": ENERGY}
-    return "—" if value is None else format_quantity(value, dims[dim])
+    return "—" if value is None else format_quantity(value, _DIMS[dim])
+
+
+@bp.app_template_filter("pct")
+def percent_filter(value):
+    if value is None:
+        return "—"
+    if value in (float("inf"), float("-inf")):
+        return "no limit" if value > 0 else "none"
+    return f"{value:+.0%}"
+
+
+def unit_or_404(tag: str) -> m.Unit:
+    row = db.session.scalar(select(m.Unit).where(m.Unit.tag == tag))
+    if row is None:
+        abort(404)
+    return row
+
+
+def fleet_query(args, errors: FieldErrors) -> tuple[queries.FleetQuery, dict]:
+    """The filters from a query string; ``typed`` keeps the text as typed for the form."""
+    typed = {k: args.get(k, "").strip() for k in
+             ("q", "kind", "site", "status", "category", "voltage", "due", "sort", "dir")}
+    voltage = quantity_or_none(typed["voltage"], VOLTAGE, "voltage", errors, default_unit="V")
+    if typed["category"] and typed["category"] not in queries.MAINS_CATEGORIES:
+        errors.add("category", f"'{typed['category']}' is not one of II, III, IV")
+    fq = queries.FleetQuery(
+        q=typed["q"], kind=typed["kind"], site=typed["site"], status=typed["status"],
+        category=typed["category"], voltage=voltage, due=typed["due"],
+        sort=typed["sort"] if typed["sort"] in queries.SORTS else "tag",
+        desc=typed["dir"] == "desc", page=max(args.get("page", 1, type=int) or 1, 1))
+    return fq, typed
 
 
 @bp.route("/")
 @role_required("viewer")
 def index():
-    query = request.args.get("q", "").strip()
-    status = request.args.get("status", "")
-    page = max(request.args.get("page", 1, type=int) or 1, 1)
-    size = 50
-    stmt = select(m.Unit).join(m.Unit.model).options(selectinload(m.Unit.model),
-                                                     selectinload(m.Unit.site))
-    if query:
-        like = f"%{query.lower()}%"
-        stmt = stmt.where(or_(func.lower(m.Unit.tag).like(like),
-                              func.lower(m.Unit.serial).like(like),
-                              func.lower(m.Model.name).like(like),
-                              func.lower(m.Model.key).like(like),
-                              func.lower(m.Model.maker).like(like)))
-    if status in ("in-service", "on-hold", "away", "retired"):
-        stmt = stmt.where(m.Unit.status == status)
-    total = db.session.scalar(select(func.count()).select_from(stmt.subquery()))
-    units = db.session.scalars(stmt.order_by(m.Unit.tag).limit(size).offset((page - 1) * size))
-    return render_template("fleet/index.html", units=list(units), query=query, status=status,
-                           page=page, pages=max((total + size - 1) // size, 1), total=total)
+    from flask import current_app
+    errors = FieldErrors()
+    fq, typed = fleet_query(request.args, errors)
+    fq.size = current_app.config.get("FLEET_PAGE_SIZE", 50)
+    result = queries.fleet_page(db.session, fq)
+
+    def link(**changes):
+        args = {k: v for k, v in typed.items() if v}
+        args.update({k: v for k, v in changes.items()})
+        return url_for("fleet.index", **{k: v for k, v in args.items() if v not in ("", None)})
+
+    return render_template("fleet/index.html", result=result, typed=typed, errors=errors,
+                           kinds=spec.KINDS, statuses=spec.UNIT_STATUSES,
+                           sites=queries.site_names(db.session), link=link,
+                           sort=fq.sort, desc=fq.desc), (400 if errors else 200)
 
 
 @bp.route("/units/<tag>")
 @role_required("viewer")
 def unit(tag: str):
-    row = db.session.scalar(select(m.Unit).where(m.Unit.tag == tag))
-    if row is None:
-        abort(404)
-    return render_template("fleet/unit.html", unit=row, model=model_spec(row.model))
+    row = unit_or_404(tag)
+    hold = next((h for h in row.holds if h.released_at is None), None)
+    return render_template("fleet/unit.html", unit=row, model=model_spec(row.model),
+                           timeline=queries.unit_timeline(db.session, row), hold=hold)
+
+
+def _qr(tag: str):
+    return segno.make(url_for("fleet.unit", tag=tag, _external=True), error="m")
+
+
+@bp.route("/units/<tag>/qr.svg")
+@role_required("viewer")
+def qr(tag: str):
+    unit_or_404(tag)
+    out = io.BytesIO()
+    _qr(tag).save(out, kind="svg", scale=4, border=2, xmldecl=False)
+    return Response(out.getvalue(), mimetype="image/svg+xml")
+
+
+@bp.route("/units/<tag>/label")
+@role_required("viewer")
+def label(tag: str):
+    row = unit_or_404(tag)
+    return render_template("fleet/label.html", unit=row)

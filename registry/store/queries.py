@@ -1,0 +1,213 @@
+"""Read-only queries the web pages and the API share: the fleet list with its filters, the
+dashboard's counts and coverage, and a unit's history as one timeline."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from datetime import date, datetime, timedelta
+
+from sqlalchemy import and_, exists, func, or_, select
+from sqlalchemy.orm import Session, selectinload
+
+from ..engine import spec
+from . import models as m
+
+MAINS_CATEGORIES = ("II", "III", "IV")
+# The rows of the coverage chart: the voltage rows of the impulse table that check 3 rounds up
+# to (SPEC §5.3), which are also the voltages ratings are usually stated at.
+COVERAGE_VOLTAGES = (150.0, 300.0, 600.0, 1000.0)
+SORTS = {
+    "tag": m.Unit.tag, "model": m.Model.key, "kind": m.Model.kind, "site": m.Site.name,
+    "status": m.Unit.status, "due": m.Unit.verification_due,
+}
+DUE_FILTERS = ("overdue", "30", "90")
+
+
+def categories_at_least(category: str) -> tuple[str, ...]:
+    """The mains categories that cover ``category``: CAT III is covered by III and IV."""
+    return MAINS_CATEGORIES[MAINS_CATEGORIES.index(category):]
+
+
+def _takes(category: str, voltage: float):
+    """SQL: the unit's model has one rating with a category at least ``category`` and a voltage
+    at least ``voltage``; a higher category at a lower voltage does not stand in (SPEC §5.2)."""
+    return exists().where(and_(m.Rating.model_id == m.Unit.model_id,
+                               m.Rating.category.in_(categories_at_least(category)),
+                               m.Rating.voltage >= voltage))
+
+
+@dataclass
+class FleetQuery:
+    q: str = ""
+    kind: str = ""
+    site: str = ""
+    status: str = ""
+    category: str = ""
+    voltage: float | None = None
+    due: str = ""
+    sort: str = "tag"
+    desc: bool = False
+    page: int = 1
+    size: int = 50
+
+
+@dataclass
+class FleetPage:
+    units: list
+    total: int
+    page: int
+    pages: int
+
+
+def fleet_page(session: Session, fq: FleetQuery, today: date | None = None) -> FleetPage:
+    today = today or date.today()
+    stmt = (select(m.Unit).join(m.Unit.model).outerjoin(m.Unit.site)
+            .options(selectinload(m.Unit.model).selectinload(m.Model.ratings),
+                     selectinload(m.Unit.site)))
+    if fq.q:
+        like = f"%{fq.q.lower()}%"
+        stmt = stmt.where(or_(func.lower(m.Unit.tag).like(like),
+                              func.lower(m.Unit.serial).like(like),
+                              func.lower(m.Model.name).like(like),
+                              func.lower(m.Model.key).like(like),
+                              func.lower(m.Model.maker).like(like)))
+    if fq.kind in spec.KINDS:
+        stmt = stmt.where(m.Model.kind == fq.kind)
+    if fq.site:
+        stmt = stmt.where(m.Site.name == fq.site)
+    if fq.status in spec.UNIT_STATUSES:
+        stmt = stmt.where(m.Unit.status == fq.status)
+    if fq.category in MAINS_CATEGORIES:
+        stmt = stmt.where(_takes(fq.category, fq.voltage or 0.0))
+    elif fq.voltage is not None:
+        # no category asked: any rating (a not-for-mains one too) of that voltage
+        stmt = stmt.where(exists().where(and_(m.Rating.model_id == m.Unit.model_id,
+                                              m.Rating.voltage >= fq.voltage)))
+    if fq.due == "overdue":
+        stmt = stmt.where(m.Unit.verification_due < today)
+    elif fq.due in DUE_FILTERS:
+        stmt = stmt.where(m.Unit.verification_due <= today + timedelta(days=int(fq.due)))
+    total = session.scalar(select(func.count()).select_from(stmt.subquery())) or 0
+    column = SORTS.get(fq.sort, m.Unit.tag)
+    order = [column.desc() if fq.desc else column.asc()]
+    if column is not m.Unit.tag:
+        order.append(m.Unit.tag.asc())
+    pages = max((total + fq.size - 1) // fq.size, 1)
+    page = min(max(fq.page, 1), pages)
+    units = list(session.scalars(stmt.order_by(*order).limit(fq.size)
+                                 .offset((page - 1) * fq.size)))
+    return FleetPage(units=units, total=total, page=page, pages=pages)
+
+
+def status_counts(session: Session) -> dict[str, int]:
+    rows = {s: n for s, n in session.execute(select(m.Unit.status, func.count())
+                                                .group_by(m.Unit.status))}
+    return {s: rows.get(s, 0) for s in spec.UNIT_STATUSES}
+
+
+def due_soon(session: Session, days: int = 30, today: date | None = None) -> list[m.Unit]:
+    """Units not retired whose verification falls due within ``days`` (or is overdue)."""
+    today = today or date.today()
+    return list(session.scalars(
+        select(m.Unit).where(m.Unit.status != "retired",
+                             m.Unit.verification_due.is_not(None),
+                             m.Unit.verification_due <= today + timedelta(days=days))
+        .order_by(m.Unit.verification_due, m.Unit.tag)
+        .options(selectinload(m.Unit.model), selectinload(m.Unit.site))))
+
+
+def open_holds(session: Session) -> list[m.Hold]:
+    return list(session.scalars(
+        select(m.Hold).where(m.Hold.released_at.is_(None)).order_by(m.Hold.opened_at.desc())
+        .options(selectinload(m.Hold.unit).selectinload(m.Unit.model),
+                 selectinload(m.Hold.event))))
+
+
+def recent_events(session: Session, limit: int = 10) -> list[m.Event]:
+    return list(session.scalars(
+        select(m.Event).order_by(m.Event.logged_at.desc(), m.Event.id.desc()).limit(limit)
+        .options(selectinload(m.Event.unit), selectinload(m.Event.logged_by))))
+
+
+def rating_takes(rating_category: str, rating_voltage: float, category: str,
+                 voltage: float) -> bool:
+    """One rating covers a mains category and voltage (SPEC §5.2), the same rule as
+    :func:`_takes`, for rows already loaded."""
+    return (rating_category in MAINS_CATEGORIES
+            and MAINS_CATEGORIES.index(rating_category) >= MAINS_CATEGORIES.index(category)
+            and rating_voltage >= voltage)
+
+
+@dataclass
+class Coverage:
+    voltages: tuple[float, ...]
+    categories: tuple[str, ...]
+    instruments: dict[tuple[str, float], int] = field(default_factory=dict)
+    accessories: dict[tuple[str, float], int] = field(default_factory=dict)
+
+    @property
+    def largest(self) -> int:
+        return max([1, *self.instruments.values(), *self.accessories.values()])
+
+
+def coverage(session: Session) -> Coverage:
+    """For each mains category and voltage row: how many in-service instruments, and how many
+    in-service accessories, have a rating that takes it."""
+    out = Coverage(COVERAGE_VOLTAGES, MAINS_CATEGORIES)
+    units = session.scalars(select(m.Unit).where(m.Unit.status == "in-service").options(
+        selectinload(m.Unit.model).selectinload(m.Model.ratings)))
+    for unit in units:
+        table = (out.instruments if unit.model.kind in spec.INSTRUMENT_KINDS
+                 else out.accessories)
+        for cat in MAINS_CATEGORIES:
+            for v in COVERAGE_VOLTAGES:
+                table.setdefault((cat, v), 0)
+                if any(rating_takes(r.category, r.voltage, cat, v) for r in unit.model.ratings):
+                    table[(cat, v)] += 1
+    for table in (out.instruments, out.accessories):
+        for cat in MAINS_CATEGORIES:
+            for v in COVERAGE_VOLTAGES:
+                table.setdefault((cat, v), 0)
+    return out
+
+
+@dataclass(frozen=True)
+class TimelineEntry:
+    at: datetime
+    kind: str  # event | hold-opened | hold-released | change
+    title: str
+    detail: str = ""
+    who: str = ""
+    row: object = None
+
+
+def unit_timeline(session: Session, unit: m.Unit) -> list[TimelineEntry]:
+    """The unit's events, holds and recorded changes, newest first."""
+    out: list[TimelineEntry] = []
+    for ev in session.scalars(select(m.Event).where(m.Event.unit_id == unit.id)
+                              .options(selectinload(m.Event.logged_by))):
+        out.append(TimelineEntry(ev.occurred_at, "event", f"Event: {ev.kind}",
+                                 who=ev.logged_by.display_name if ev.logged_by else "", row=ev))
+    for h in session.scalars(select(m.Hold).where(m.Hold.unit_id == unit.id)
+                             .options(selectinload(m.Hold.released_by))):
+        out.append(TimelineEntry(h.opened_at, "hold-opened", "Hold opened", h.reason, row=h))
+        if h.released_at is not None:
+            out.append(TimelineEntry(h.released_at, "hold-released",
+                                     f"Hold released: {h.result}", h.notes,
+                                     who=h.released_by.display_name if h.released_by else "",
+                                     row=h))
+    for c in session.scalars(select(m.Change).where(m.Change.entity == "unit",
+                                                    m.Change.entity_key == unit.tag)):
+        out.append(TimelineEntry(c.at, "change", f"Changed {c.field}",
+                                 f"{c.old if c.old is not None else '—'} → "
+                                 f"{c.new if c.new is not None else '—'}", who=c.actor, row=c))
+    out.sort(key=lambda e: (e.at, e.kind), reverse=True)
+    return out
+
+
+def site_names(session: Session) -> list[str]:
+    return list(session.scalars(select(m.Site.name).order_by(m.Site.name)))
+
+
+def site_altitudes(session: Session) -> dict[str, float]:
+    return {n: a for n, a in session.execute(select(m.Site.name, m.Site.altitude))}

@@ -1,0 +1,79 @@
+"""Audit: the workbook for a period and a site, and the state of the event chain."""
+
+from __future__ import annotations
+
+import tempfile
+from datetime import date
+from pathlib import Path
+
+from flask import Blueprint, Response, render_template, request
+
+from ..errors import InvalidInput
+from ..extensions import db
+from ..store import queries
+from ..store.events import verify_chain
+from .auth import role_required
+from .forms import FieldErrors
+
+bp = Blueprint("audit", __name__, url_prefix="/audit")
+
+XLSX = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet"
+
+
+def audit_args(args, errors: FieldErrors) -> tuple[date | None, str | None, dict]:
+    typed = {"since": args.get("since", "").strip(), "site": args.get("site", "").strip()}
+    since = None
+    if typed["since"]:
+        try:
+            since = date.fromisoformat(typed["since"])
+        except ValueError:
+            errors.add("since", f"'{typed['since']}' is not a date; write it as YYYY-MM-DD")
+    sites = queries.site_names(db.session)
+    if typed["site"] and typed["site"] not in sites:
+        errors.add("site", f"'{typed['site']}' is not a site of the fleet")
+    return since, typed["site"] or None, typed
+
+
+def workbook_bytes(since: date | None, site: str | None) -> bytes:
+    """The audit workbook, built by the store's exporter into a scratch file."""
+    from ..store.audit import export_audit
+    with tempfile.TemporaryDirectory() as tmp:
+        path = Path(tmp) / "audit.xlsx"
+        export_audit(db.database, str(path), since=since, site=site, on=None,
+                     source="web")
+        return path.read_bytes()
+
+
+def workbook_response(since: date | None, site: str | None) -> Response:
+    name = "withstand-audit" + (f"-{site}" if site else "") + (f"-since-{since}" if since else "")
+    name = "".join(ch if ch.isalnum() or ch in "-_." else "-" for ch in name)
+    return Response(workbook_bytes(since, site), mimetype=XLSX,
+                    headers={"Content-Disposition": f'attachment; filename="{name}.xlsx"'})
+
+
+@bp.route("/")
+@role_required("viewer")
+def index():
+    errors = FieldErrors()
+    _since, _site, typed = audit_args(request.args, errors)
+    return render_template("audit/index.html", typed=typed, errors=errors,
+                           sites=queries.site_names(db.session),
+                           chain=verify_chain(db.session))
+
+
+@bp.route("/workbook.xlsx")
+@role_required("viewer")
+def workbook():
+    errors = FieldErrors()
+    since, site, typed = audit_args(request.args, errors)
+    if errors:
+        return render_template("audit/index.html", typed=typed, errors=errors,
+                               sites=queries.site_names(db.session),
+                               chain=verify_chain(db.session)), 400
+    try:
+        return workbook_response(since, site)
+    except InvalidInput as exc:
+        errors.extend(exc.problems, {"since": "since", "site": "site"})
+        return render_template("audit/index.html", typed=typed, errors=errors,
+                               sites=queries.site_names(db.session),
+                               chain=verify_chain(db.session)), 400

@@ -1,0 +1,264 @@
+"""Check a job: the plan form, the ranked result, the discharge curve, the job card, and plan
+files saved and loaded.
+
+The check has no side effects, so the form is sent with GET and every result page (and its job
+card and plots) is a plain link that carries the plan as typed.
+"""
+
+from __future__ import annotations
+
+import math
+from datetime import date
+
+import yaml
+from flask import Blueprint, Response, abort, render_template, request, url_for
+
+from ..engine.spec import PLAN_WAVEFORMS, SUPPLIES, TASKS
+from ..errors import InvalidInput
+from ..extensions import db
+from ..formats.common import parse_text
+from ..plans import CIRCUIT_QUANTITIES, FORMAT
+from ..store import queries
+from ..store.checking import check_with_fleet
+from .auth import role_required
+from .forms import FieldErrors
+from .plots import DischargePath, discharge_svg, time_to
+
+bp = Blueprint("checks", __name__, url_prefix="/checks")
+
+QUANTITY_FIELDS = tuple(CIRCUIT_QUANTITIES)
+FIELDS = (("title", "task", "supply", "category", "waveform") + QUANTITY_FIELDS
+          + ("site", "altitude", "wet", "duration", "discharge_to", "on"))
+SHOWN = 20  # setups listed before "show all" (SPEC §4)
+MAX_PLOTS = 4
+# Where a plan path's problem is shown on the form.
+PATH_FIELDS = {"circuit": "voltage", "site": "altitude", "site.name": "site",
+               "site.altitude": "altitude", "site.wet": "wet", "format": "_form"}
+EXAMPLES = {"voltage": "480 V", "voltage_to_earth": "277 V", "frequency": "60 Hz",
+            "transient": "6 kV", "source_impedance": "0.02 ohm", "prospective_current": "12 kA",
+            "capacitance": "470 uF", "stored_energy": "50 J", "current": "40 A"}
+
+
+def fields_from(args) -> dict[str, str]:
+    return {k: (args.get(k) or "").strip() for k in FIELDS}
+
+
+def doc_from_fields(f: dict[str, str]) -> dict:
+    """A ``withstand-plan/1`` document of the form as typed (quantities stay text)."""
+    doc: dict = {"format": FORMAT}
+    if f["title"]:
+        doc["title"] = f["title"]
+    if f["task"]:
+        doc["task"] = f["task"]
+    circuit: dict = {}
+    for k in ("supply", "category", "waveform") + QUANTITY_FIELDS:
+        if f.get(k):
+            circuit[k] = f[k]
+    doc["circuit"] = circuit
+    site: dict = {}
+    if f["site"]:
+        site["name"] = f["site"]
+    if f["altitude"]:
+        site["altitude"] = f["altitude"]
+    site["wet"] = f["wet"] in ("1", "on", "true", "yes")
+    doc["site"] = site
+    for k in ("duration", "discharge_to"):
+        if f[k]:
+            doc[k] = f[k]
+    return doc
+
+
+def fields_from_doc(doc) -> dict[str, str]:
+    """The form's fields for a plan document read from a file (the reverse of the above)."""
+    f = {k: "" for k in FIELDS}
+    if not isinstance(doc, dict):
+        return f
+    text = lambda v: "" if v is None else (str(v).lower() if isinstance(v, bool) else str(v))
+    for k in ("title", "task", "duration", "discharge_to"):
+        f[k] = text(doc.get(k))
+    circuit = doc.get("circuit") if isinstance(doc.get("circuit"), dict) else {}
+    for k in ("supply", "category", "waveform") + QUANTITY_FIELDS:
+        f[k] = text(circuit.get(k))
+    site = doc.get("site") if isinstance(doc.get("site"), dict) else {}
+    f["site"] = text(site.get("name"))
+    f["altitude"] = text(site.get("altitude"))
+    f["wet"] = "1" if site.get("wet") is True else ""
+    return f
+
+
+def field_of(path: str) -> str:
+    if path in PATH_FIELDS:
+        return PATH_FIELDS[path]
+    if path.startswith("circuit."):
+        return path.split(".", 1)[1]
+    return path if path in FIELDS else "_form"
+
+
+def parse_on(text: str, errors: FieldErrors) -> date | None:
+    if not text:
+        return None
+    try:
+        return date.fromisoformat(text)
+    except ValueError:
+        errors.add("on", f"'{text}' is not a date; write it as YYYY-MM-DD")
+        return None
+
+
+def _form(fields, errors, status=200):
+    return render_template("checks/form.html", f=fields, errors=errors, tasks=TASKS,
+                           supplies=SUPPLIES, waveforms=PLAN_WAVEFORMS,
+                           sites=queries.site_names(db.session), examples=EXAMPLES), status
+
+
+def checked(fields: dict):
+    """(result, fleet, errors): the check of the typed plan, or the problems by field."""
+    errors = FieldErrors()
+    on = parse_on(fields["on"], errors)
+    try:
+        result, fleet = check_with_fleet(db.session, doc_from_fields(fields), on)
+    except InvalidInput as exc:
+        for p in exc.problems:
+            errors.add(field_of(p.path), p.message)
+        return None, None, errors
+    if errors:
+        return None, None, errors
+    return result, fleet, errors
+
+
+def discharge_paths(result, fleet) -> list[DischargePath]:
+    """The ranked setups whose path would drain the plan's capacitance: every setup of a
+    discharge task, else those with R*C under ten times the connection time (SPEC §5.9);
+    one plot per distinct resistance, at most MAX_PLOTS."""
+    c = result.derived.capacitance
+    if not c:
+        return []
+    out, seen = [], set()
+    for s in result.setups:
+        model = fleet.models[s.instrument_model]
+        if model.kind == "discharge-tool":
+            r = model.resistance
+        else:
+            mode = next((x for x in model.modes if x.key == s.mode), None)
+            r = mode.input_resistance if mode else None
+        if not r:
+            continue
+        if result.plan.task != "discharge" and r * c >= 10 * result.plan.duration:
+            continue
+        if r in seen:
+            continue
+        seen.add(r)
+        out.append(DischargePath(f"{s.instrument} {s.mode_label or s.mode} ({model.key})", r,
+                                 s.verdict))
+        if len(out) == MAX_PLOTS:
+            break
+    return out
+
+
+@bp.route("/")
+@role_required("viewer")
+def form():
+    fields = fields_from(request.args)
+    if not any(fields.values()):
+        fields.update({"task": "measure-voltage", "supply": "mains", "category": "III",
+                       "waveform": "ac", "duration": "60 s"})
+    return _form(fields, FieldErrors())
+
+
+@bp.route("/result")
+@role_required("viewer")
+def result():
+    fields = fields_from(request.args)
+    res, fleet, errors = checked(fields)
+    if res is None:
+        return _form(fields, errors, 400)
+    show_all = request.args.get("all") == "1"
+    paths = discharge_paths(res, fleet)
+    d = res.derived
+    plots = [{"path": p, "index": i,
+              "t_safe": time_to(d.safe_level, d.peak_voltage, p.resistance, d.capacitance)}
+             for i, p in enumerate(paths, 1)]
+    return render_template("checks/result.html", r=res, f=fields, show_all=show_all,
+                           setups=res.setups if show_all else res.setups[:SHOWN],
+                           shown=SHOWN, plots=plots, models=fleet.models,
+                           query=_query(fields))
+
+
+def _query(fields) -> dict:
+    return {k: v for k, v in fields.items() if v}
+
+
+@bp.route("/discharge.svg")
+@role_required("viewer")
+def discharge_plot():
+    fields = fields_from(request.args)
+    res, fleet, errors = checked(fields)
+    if res is None:
+        abort(400)
+    paths = discharge_paths(res, fleet)
+    index = request.args.get("path", 1, type=int)
+    if not paths or not 1 <= index <= len(paths):
+        abort(404)
+    d = res.derived
+    svg = discharge_svg(paths[index - 1], d.peak_voltage, d.capacitance, d.safe_level)
+    return Response(svg, mimetype="image/svg+xml")
+
+
+@bp.route("/card")
+@role_required("viewer")
+def card():
+    fields = fields_from(request.args)
+    res, fleet, errors = checked(fields)
+    if res is None:
+        return _form(fields, errors, 400)
+    index = request.args.get("setup", 1, type=int)
+    if not 1 <= index <= len(res.setups):
+        abort(404)
+    return render_template("checks/card.html", r=res, s=res.setups[index - 1], index=index,
+                           models=fleet.models, query=_query(fields), today=date.today())
+
+
+@bp.route("/plan.yaml")
+@role_required("viewer")
+def save_plan():
+    fields = fields_from(request.args)
+    res, _fleet, errors = checked(fields)
+    if res is None:
+        return _form(fields, errors, 400)
+    doc = doc_from_fields(fields)
+    text = yaml.safe_dump(doc, sort_keys=False, allow_unicode=True)
+    name = "".join(ch if ch.isalnum() else "-" for ch in (fields["title"] or "plan").lower())
+    name = "-".join(part for part in name.split("-") if part)[:60] or "plan"
+    return Response(text, mimetype="application/x-yaml",
+                    headers={"Content-Disposition": f'attachment; filename="{name}.yaml"'})
+
+
+@bp.route("/load", methods=["POST"])
+@role_required("viewer")
+def load_plan():
+    errors = FieldErrors()
+    upload = request.files.get("plan_file")
+    text = upload.read().decode("utf-8", "replace") if upload and upload.filename else \
+        request.form.get("plan_text", "")
+    if not text.strip():
+        errors.add("plan_file", "choose a plan file (YAML or JSON) to load")
+        return _form(fields_from({}), errors, 400)
+    try:
+        doc = parse_text(text)
+    except InvalidInput as exc:
+        for p in exc.problems:
+            errors.add("plan_file", p.message)
+        return _form(fields_from({}), errors, 400)
+    fields = fields_from_doc(doc)
+    try:
+        from ..plans import parse_plan
+        parse_plan(doc, None, sites=queries.site_altitudes(db.session))
+    except InvalidInput as exc:
+        for p in exc.problems:
+            errors.add(field_of(p.path), p.message)
+        return _form(fields, errors, 400)
+    return _form(fields, errors)
+
+
+@bp.app_template_filter("finite")
+def finite(value):
+    return value is not None and not (isinstance(value, float) and math.isinf(value))

@@ -1,0 +1,107 @@
+"""The discharge curve as a hand-built SVG: voltage against time through one path, with the
+safe level marked. Presentation attributes only (no style attribute, no script), so the page's
+content security policy holds inside the image too."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from xml.sax.saxutils import escape
+
+from ..engine.quantity import RESISTANCE, TIME, VOLTAGE, format_quantity as fq
+
+
+@dataclass(frozen=True)
+class DischargePath:
+    label: str  # e.g. "BL-0002 discharge (ks-dr1)"
+    resistance: float  # ohm
+    verdict: str
+
+
+def voltage_at(t: float, v0: float, resistance: float, capacitance: float) -> float:
+    """V(t) = V0 * exp(-t / (R*C)) (V): a capacitor discharging through a resistance (the
+    first-order RC solution, any circuits textbook)."""
+    return v0 * math.exp(-t / (resistance * capacitance))
+
+
+def time_to(v_safe: float, v0: float, resistance: float, capacitance: float) -> float:
+    """t = R*C*ln(V0/Vsafe) (s), the time to reach the safe level (SPEC §5.9)."""
+    if v_safe <= 0:
+        return math.inf
+    if v0 <= v_safe:
+        return 0.0
+    return resistance * capacitance * math.log(v0 / v_safe)
+
+
+def nice_step(span: float, ticks: int = 5) -> float:
+    """A round step (1, 2 or 5 times a power of ten) giving about ``ticks`` intervals."""
+    if span <= 0 or not math.isfinite(span):
+        return 1.0
+    raw = span / ticks
+    mag = 10 ** math.floor(math.log10(raw))
+    for f in (1, 2, 5, 10):
+        if raw <= f * mag:
+            return f * mag
+    return 10 * mag
+
+
+W, H = 640, 320
+LEFT, RIGHT, TOP, BOTTOM = 70, 20, 30, 50
+
+
+def discharge_svg(path: DischargePath, v0: float, capacitance: float, v_safe: float) -> str:
+    tau = path.resistance * capacitance
+    t_safe = time_to(v_safe, v0, path.resistance, capacitance)
+    t_max = 1.25 * t_safe if math.isfinite(t_safe) and t_safe > 0 else 5 * tau
+    pw, ph = W - LEFT - RIGHT, H - TOP - BOTTOM
+
+    def x(t):
+        return LEFT + pw * t / t_max
+
+    def y(v):
+        return TOP + ph * (1 - v / v0)
+
+    n = 200
+    points = " ".join(f"{x(t_max * i / n):.1f},{y(voltage_at(t_max * i / n, v0, path.resistance, capacitance)):.1f}"
+                      for i in range(n + 1))
+    out = [f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {W} {H}" width="{W}" '
+           f'height="{H}" role="img" font-family="sans-serif" font-size="12">',
+           f'<title>{escape(path.label)}: discharge from {escape(fq(v0, VOLTAGE))} through '
+           f'{escape(fq(path.resistance, RESISTANCE))}</title>',
+           f'<rect x="0" y="0" width="{W}" height="{H}" fill="#ffffff"/>']
+    step_t = nice_step(t_max)
+    t = 0.0
+    while t <= t_max + 1e-12:
+        out.append(f'<line x1="{x(t):.1f}" y1="{TOP}" x2="{x(t):.1f}" y2="{TOP + ph}" '
+                   f'stroke="#dde3e8"/>')
+        out.append(f'<text x="{x(t):.1f}" y="{TOP + ph + 16}" text-anchor="middle">'
+                   f'{escape(fq(t, TIME)) if t else "0"}</text>')
+        t += step_t
+    step_v = nice_step(v0)
+    v = 0.0
+    while v <= v0 + 1e-9:
+        out.append(f'<line x1="{LEFT}" y1="{y(v):.1f}" x2="{LEFT + pw}" y2="{y(v):.1f}" '
+                   f'stroke="#dde3e8"/>')
+        out.append(f'<text x="{LEFT - 6}" y="{y(v) + 4:.1f}" text-anchor="end">'
+                   f'{escape(fq(v, VOLTAGE)) if v else "0"}</text>')
+        v += step_v
+    out.append(f'<rect x="{LEFT}" y="{TOP}" width="{pw}" height="{ph}" fill="none" '
+               f'stroke="#5a6570"/>')
+    # the safe level: a dashed line, labelled in words (not by colour alone)
+    out.append(f'<line x1="{LEFT}" y1="{y(v_safe):.1f}" x2="{LEFT + pw}" y2="{y(v_safe):.1f}" '
+               f'stroke="#1d6b2f" stroke-width="2" stroke-dasharray="8 5" class="safe-level"/>')
+    out.append(f'<text x="{LEFT + pw - 4}" y="{y(v_safe) - 6:.1f}" text-anchor="end" '
+               f'fill="#1d6b2f">safe level {escape(fq(v_safe, VOLTAGE))}</text>')
+    out.append(f'<polyline points="{points}" fill="none" stroke="#1f5f8b" stroke-width="2.5" '
+               f'class="curve"/>')
+    if math.isfinite(t_safe):
+        out.append(f'<circle cx="{x(t_safe):.1f}" cy="{y(v_safe):.1f}" r="5" fill="#1d2329"/>')
+        out.append(f'<text x="{x(t_safe) + 8:.1f}" y="{y(v_safe) + 18:.1f}">reaches it after '
+                   f'{escape(fq(t_safe, TIME))}</text>')
+    out.append(f'<text x="{LEFT + pw / 2}" y="{H - 8}" text-anchor="middle">time</text>')
+    out.append(f'<text x="16" y="{TOP + ph / 2}" text-anchor="middle" '
+               f'transform="rotate(-90 16 {TOP + ph / 2})">voltage</text>')
+    out.append(f'<text x="{LEFT}" y="{TOP - 10}">{escape(path.label)}: '
+               f'{escape(fq(path.resistance, RESISTANCE))}, tau {escape(fq(tau, TIME))}</text>')
+    out.append("</svg>")
+    return "\n".join(out)

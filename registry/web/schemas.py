@@ -1,0 +1,80 @@
+"""Request documents of the web app and the API, as pydantic models: they validate what comes
+in and they are the source of the OpenAPI document, so the two cannot drift apart.
+
+The plan has its own validator (:mod:`registry.plans`) and its shipped JSON Schema
+(``registry/schemas/plan.schema.json``), which :func:`plan_schema` hands to the OpenAPI
+document with its internal references moved to the components.
+"""
+
+from __future__ import annotations
+
+import json
+from datetime import datetime
+from importlib import resources
+from typing import Annotated, Literal
+
+from pydantic import BaseModel, ConfigDict, Field, ValidationError
+
+from ..engine import spec
+from ..errors import InvalidInput
+from ..formats.common import Duration, Energy, Voltage, problems_from
+
+Tag = Annotated[str, Field(min_length=1, max_length=64)]
+Note = Annotated[str, Field(max_length=4000)]
+
+
+class _Request(BaseModel):
+    model_config = ConfigDict(extra="forbid", frozen=True)
+
+
+class EventRequest(_Request):
+    """An event to log (SPEC §6): quantities as text ("2 kV")."""
+
+    unit: Tag
+    kind: Literal[spec.EVENT_KINDS]  # type: ignore[valid-type]
+    mode: Annotated[str, Field(max_length=64)] | None = None
+    voltage: Voltage | None = None
+    energy: Energy | None = None
+    duration: Duration | None = None
+    symptoms: list[Literal[spec.SYMPTOMS]] = []  # type: ignore[valid-type]
+    note: Note = ""
+    at: datetime | None = Field(None, description="when it happened (ISO 8601); default now")
+
+
+class HoldRelease(_Request):
+    """Closing a unit's open hold after inspection; ``fail`` retires the unit."""
+
+    result: Literal[spec.INSPECTION_RESULTS]  # type: ignore[valid-type]
+    note: Note = ""
+
+
+def validated(model: type[BaseModel], data) -> BaseModel:
+    """``model`` from ``data`` or :class:`InvalidInput` naming each field."""
+    if not isinstance(data, dict):
+        raise InvalidInput("the body must be a JSON object")
+    try:
+        return model.model_validate(data)
+    except ValidationError as exc:
+        raise InvalidInput(problems_from(exc)) from None
+
+
+def plan_schema(prefix: str = "Plan_") -> tuple[dict, dict]:
+    """The shipped plan schema and its ``$defs``, with ``#/$defs/X`` references rewritten to
+    ``#/components/schemas/<prefix>X`` so they resolve inside an OpenAPI document."""
+    raw = json.loads((resources.files("registry") / "schemas" / "plan.schema.json").read_text())
+
+    def move(node):
+        if isinstance(node, dict):
+            out = {}
+            for k, v in node.items():
+                if k == "$ref" and isinstance(v, str) and v.startswith("#/$defs/"):
+                    out[k] = "#/components/schemas/" + prefix + v.removeprefix("#/$defs/")
+                elif k not in ("$schema", "$id", "$defs"):
+                    out[k] = move(v)
+            return out
+        if isinstance(node, list):
+            return [move(x) for x in node]
+        return node
+
+    defs = {prefix + k: move(v) for k, v in raw.get("$defs", {}).items()}
+    return move(raw), defs
