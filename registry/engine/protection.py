@@ -1,0 +1,49 @@
+"""Check 10 as the engine runs it: the front-end analysis of ``network`` for one setup.
+
+The setup's own mode is solved as it is used; every other mode on the same terminals is solved
+too, as reasonably foreseeable misuse (the idea of IEC 61010-2-033: a selector left on the
+wrong position), whose failures become cautions.
+"""
+
+from __future__ import annotations
+
+from .findings import Finding
+from .network import protection_path_findings
+from .setups import SetupContext
+
+
+def stresses_for(ctx: SetupContext) -> dict:
+    """The scenario values the instrument's front end faces in this setup.
+
+    Behind a divider the instrument sees the working voltage and the impulse divided by the
+    attenuation, from the divider's output resistance; the circuit's capacitance then drains
+    through the divider, not the instrument, so no discharge is solved.
+    """
+    divider = ctx.divider
+    if divider is not None:
+        return dict(working_voltage=ctx.seen_voltage, waveform=ctx.plan.circuit.waveform,
+                    source_impedance=divider.output_resistance,
+                    impulse_peak=ctx.seen_transient,
+                    generator_impedance=divider.output_resistance,
+                    capacitance=None, safe_voltage=ctx.safe_level, altitude=ctx.altitude,
+                    duration=ctx.plan.duration)
+    return dict(working_voltage=ctx.plan.circuit.voltage, waveform=ctx.plan.circuit.waveform,
+                source_impedance=ctx.source_impedance, impulse_peak=ctx.expected_impulse,
+                generator_impedance=ctx.generator_impedance, capacitance=ctx.capacitance,
+                safe_voltage=ctx.safe_level, altitude=ctx.altitude,
+                duration=ctx.plan.duration)
+
+
+def protection_path_check(ctx: SetupContext) -> list[Finding]:
+    """SPEC §5 check 10 for a setup; [] when the instrument's model has no front end."""
+    model = ctx.instrument
+    if not model.front_end or ctx.mode.clamp or ctx.current_clamp is not None:
+        return []
+    values = stresses_for(ctx)
+    out = protection_path_findings(model, ctx.mode, **values)
+    terminals = set(ctx.mode.terminals)
+    for other in model.modes:
+        if other.key == ctx.mode.key or other.clamp or set(other.terminals) != terminals:
+            continue
+        out.extend(protection_path_findings(model, other, misuse=True, **values))
+    return out
