@@ -164,13 +164,18 @@ def demo(port: int):
 @click.option("--by", "actor", default=None, help="Who is importing (a username).")
 @reports_errors
 def import_(file: Path, dry_run: bool, actor: str | None):
-    """Import a fleet file (JSON or YAML)."""
+    """Import a fleet file (JSON or YAML), or units from a spreadsheet (xlsx or csv)."""
     from .formats.common import read_document
     from .store.fleet import import_fleet
+    from .store.unit_sheet import import_unit_sheet, is_unit_sheet
     database = _env().database()
     user_id, actor = _actor(database, actor)
-    report = import_fleet(database, read_document(file), actor=actor, user_id=user_id,
-                          dry_run=dry_run)
+    if is_unit_sheet(file):
+        report = import_unit_sheet(database, file, actor=actor, user_id=user_id,
+                                   dry_run=dry_run)
+    else:
+        report = import_fleet(database, read_document(file), actor=actor, user_id=user_id,
+                              dry_run=dry_run)
     verb = "Would change" if dry_run else "Imported"
     click.echo(f"{verb} {file.name}: {report.summary()}.")
     for item in report.added:
@@ -207,6 +212,51 @@ def export(file: Path):
     dump_document(fleet_to_document(content), file)
     click.echo(f"Exported {len(content.models)} models and {len(content.units)} units to "
                f"{file}.")
+
+
+# -- job checks ----------------------------------------------------------------------------------
+
+@main.command()
+@click.argument("plan", type=click.Path(dir_okay=False, path_type=Path))
+@click.option("--json", "as_json", is_flag=True, help="Print the result as withstand-result/1.")
+@click.option("--all", "show_all", is_flag=True, help="Print every setup, not the first 20.")
+@click.option("--on", "on", default=None, metavar="DATE",
+              help="The day of the job (YYYY-MM-DD), for verification dates; default today.")
+@click.option("--explain", default=None, metavar="TAG",
+              help="Print every finding of this unit's setups.")
+@reports_errors
+def check(plan: Path, as_json: bool, show_all: bool, on: str | None, explain: str | None):
+    """Run a job plan against the fleet. Exit 0 if some setup fits, 1 if none does."""
+    import json as json_module
+
+    from .checking import check_registry, plan_from
+    from .plans import read_plan_file
+    from .report import exit_code, render_text
+    day = _date_option(on, "--on")
+    database = _env().database()
+    data = read_plan_file(plan)
+    with database.transaction() as session:
+        parsed = plan_from(data, session, day)
+        result = check_registry(parsed, session)
+    if explain and not any(s.instrument == explain or explain in s.accessories
+                           for s in result.setups) and \
+            not any(x.unit == explain for x in result.excluded):
+        raise InvalidInput(f"no unit '{explain}' in this result", "--explain")
+    if as_json:
+        click.echo(json_module.dumps(result.as_json(), indent=2, ensure_ascii=False))
+    else:
+        click.echo(render_text(result, show_all=show_all, explain=explain), nl=False)
+    sys.exit(exit_code(result))
+
+
+def _date_option(text: str | None, option: str):
+    if text is None:
+        return None
+    from datetime import date
+    try:
+        return date.fromisoformat(text)
+    except ValueError:
+        raise InvalidInput(f"'{text}' is not a date; write it as YYYY-MM-DD", option) from None
 
 
 # -- users ---------------------------------------------------------------------------------------
@@ -254,3 +304,172 @@ def user_token(name: str, revoke: bool):
         token = issue_token(session, account)
     click.echo(f"New API token for '{name}' ({account.role}); it is shown only once:")
     click.echo(token)
+
+
+# -- events, holds, audit, backup (issue 5) ------------------------------------------------------
+
+def _quantity_option(value: str | None, dim, option: str) -> float | None:
+    if value is None:
+        return None
+    from .units import parse_quantity
+    return parse_quantity(value, dim, option)
+
+
+def _parse_time(value: str | None, option: str = "--at"):
+    """ISO 8601 text as naive UTC; a time without an offset is local time."""
+    if value is None:
+        return None
+    from datetime import datetime, timezone
+    try:
+        t = datetime.fromisoformat(value.strip().replace("Z", "+00:00"))
+    except ValueError:
+        raise InvalidInput(f"'{value}' is not an ISO 8601 time such as 2026-03-01T14:30 or "
+                           "2026-03-01T14:30+01:00", option) from None
+    return t.astimezone(timezone.utc).replace(tzinfo=None)
+
+
+def _parse_date(value: str | None, option: str):
+    if value is None:
+        return None
+    from datetime import date
+    try:
+        return date.fromisoformat(value.strip())
+    except ValueError:
+        raise InvalidInput(f"'{value}' is not a date such as 2026-03-01", option) from None
+
+
+def _by(username: str | None) -> str:
+    username = username or os.environ.get("WITHSTAND_USER")
+    if not username:
+        raise InvalidInput("name the user doing this (a login), or set WITHSTAND_USER", "--by")
+    return username
+
+
+@main.group()
+def event():
+    """Overstress and damage events (append-only, hash-chained)."""
+
+
+@event.command("add")
+@click.option("--unit", "unit", required=True, help="The unit's tag.")
+@click.option("--kind", required=True, type=click.Choice(
+    ["overvoltage", "transient", "discharge", "fuse-open", "mechanical", "other"]))
+@click.option("--mode", default=None, help="The mode the unit was in (a mode key).")
+@click.option("--voltage", default=None,
+              help="Applied voltage, e.g. '1200 V' (rms or dc; the peak for a transient).")
+@click.option("--energy", default=None, help="Energy discharged, e.g. '40 J'.")
+@click.option("--duration", default=None, help="How long it lasted, e.g. '90 s'.")
+@click.option("--symptom", "symptoms", multiple=True,
+              help="arc, smell, heat, visible-damage, fuse-open, wrong-reading or none; "
+                   "repeat for several.")
+@click.option("--note", default="", help="What happened, in words.")
+@click.option("--by", "by", default=None, help="Who logs it (a technician or steward login; "
+                                               "default $WITHSTAND_USER).")
+@click.option("--at", "at", default=None,
+              help="When it happened, ISO 8601 (local time unless an offset is given); "
+                   "default now.")
+@reports_errors
+def event_add(unit, kind, mode, voltage, energy, duration, symptoms, note, by, at):
+    """Log an event; print whether it was within rating and whether a hold opened."""
+    from . import units as u
+    from .store.events import log_event
+    values = dict(voltage=_quantity_option(voltage, u.VOLTAGE, "--voltage"),
+                  energy=_quantity_option(energy, u.ENERGY, "--energy"),
+                  duration=_quantity_option(duration, u.TIME, "--duration"))
+    when = _parse_time(at)
+    database = _env().database()
+    try:
+        logged = log_event(database, unit=unit, kind=kind, by=_by(by), mode=mode,
+                           symptoms=symptoms, note=note, at=when, **values)
+    except InvalidInput as exc:  # name the options, as the user typed them
+        from .errors import FieldProblem
+        option = {"mode": "--mode", "kind": "--kind", "symptoms": "--symptom", "at": "--at",
+                  "voltage": "--voltage", "energy": "--energy", "duration": "--duration"}
+        raise InvalidInput([FieldProblem(option.get(p.path, p.path), p.message)
+                            for p in exc.problems]) from None
+    a = logged.assessment
+    verdict = {True: "within rating", False: "NOT within rating",
+               None: "not shown to be within rating (data missing)"}[a.within_rating]
+    click.echo(f"Event {logged.id} logged for {logged.unit}: {verdict}.")
+    for reason in a.reasons:
+        click.echo(f"  {reason}")
+    if a.clamp_conducted:
+        click.echo("  The transient exceeded the clamp's threshold: its clamp conducted.")
+    if logged.hold_id is not None:
+        click.echo(f"Hold {logged.hold_id} opened on {logged.unit} ({a.hold_reason}); it "
+                   "stays out of service until a steward releases it.")
+    elif logged.hold_note:
+        click.echo(f"No hold opened: {logged.hold_note} (it would have been: "
+                   f"{a.hold_reason}).")
+    else:
+        click.echo("No hold opened.")
+
+
+@main.group()
+def hold():
+    """Holds: units kept out of service until inspected."""
+
+
+@hold.command("release")
+@click.option("--unit", "unit", required=True, help="The unit's tag.")
+@click.option("--result", required=True, type=click.Choice(["pass", "repaired", "fail"]))
+@click.option("--by", "by", default=None, help="The steward releasing it (a login).")
+@click.option("--note", default="", help="The inspection note.")
+@reports_errors
+def hold_release(unit, result, by, note):
+    """Close a unit's open hold with the inspection result (fail retires the unit)."""
+    from .store.holds import release_hold
+    database = _env().database()
+    rel = release_hold(database, unit=unit, result=result, by=_by(by), note=note)
+    ids = ", ".join(str(i) for i in rel.holds)
+    click.echo(f"Released hold{'s' if len(rel.holds) > 1 else ''} {ids} on {rel.unit} "
+               f"({rel.result}); the unit is now {rel.status}.")
+
+
+@main.group()
+def audit():
+    """The audit workbook and the check of the event chain."""
+
+
+@audit.command("verify")
+@reports_errors
+def audit_verify():
+    """Recompute the event hash chain; exit 1 if it is broken."""
+    from .store.events import verify_chain
+    database = _env().database()
+    with database.transaction() as session:
+        state = verify_chain(session)
+    if state.ok:
+        click.echo(f"Event chain {state.summary()}.")
+        return
+    click.echo(f"Event chain {state.summary()}.")
+    sys.exit(1)
+
+
+@audit.command("export")
+@click.option("--out", "out", required=True,
+              help="FILE.xlsx for the workbook, or DIR/ for one CSV per sheet.")
+@click.option("--since", default=None, help="Events, holds and changes from this date on.")
+@click.option("--site", default=None, help="Only the units at this site.")
+@click.option("--on", "on", default=None, help="The day overdue is counted from; default "
+                                               "today.")
+@reports_errors
+def audit_export(out, since, site, on):
+    """The audit workbook (xlsx), or one CSV per sheet when --out ends in '/'."""
+    from .store.audit import export_audit
+    since_d, on_d = _parse_date(since, "--since"), _parse_date(on, "--on")
+    database = _env().database()
+    written = export_audit(database, out, since=since_d, site=site, on=on_d,
+                           source=_shown_url(_env().url))
+    click.echo(f"Wrote {written}.")
+
+
+@main.command()
+@click.argument("file", type=click.Path(dir_okay=False, path_type=Path))
+@reports_errors
+def backup(file: Path):
+    """An online, consistent copy of the database (SQLite); PostgreSQL: use pg_dump."""
+    from .store.backup import backup_database
+    database = _env().database()
+    report = backup_database(database, file)
+    click.echo(f"Backed up to {file}: {report}.")

@@ -1,0 +1,195 @@
+"""Logged events: the append-only, hash-chained record of what each unit went through.
+
+Every event row carries ``hash = SHA-256(canonical JSON of its content + prev_hash)``, where
+``prev_hash`` is the hash of the event before it (by id) and the first event's is
+:data:`GENESIS`. An edit of any hashed field changes that row's hash; a deletion or a
+reordering breaks the next row's ``prev_hash``. :func:`verify_chain` names the first broken
+link.
+
+Appends are serialised so that two writers cannot both chain onto the same last event: on
+SQLite the transaction takes the write lock at its start (``BEGIN IMMEDIATE``), on PostgreSQL
+it takes a transaction-level advisory lock.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import uuid
+from dataclasses import dataclass
+from datetime import datetime
+
+from sqlalchemy import select, text
+from sqlalchemy.orm import Session
+
+from ..engine import events as ev_engine
+from ..engine.events import Assessment, Stress
+from ..errors import InvalidInput, NotAllowed, NotFound
+from . import models as m
+from .db import Database
+from .fleet import utcnow
+from .specs import model_spec
+from .users import get_user
+
+GENESIS = "0" * 64
+# An arbitrary constant naming the event-chain lock among PostgreSQL advisory locks.
+CHAIN_LOCK_KEY = 0x77697468  # "with"
+LOGGING_ROLES = ("technician", "steward")
+FUTURE_SLACK_S = 300  # clocks differ; an event "in the future" by more than this is refused
+
+
+@dataclass(frozen=True)
+class LoggedEvent:
+    id: int
+    unit: str
+    assessment: Assessment
+    hold_id: int | None
+    hold_note: str  # why no hold opened although one was due, e.g. a retired unit
+
+
+def _iso(t: datetime | None) -> str | None:
+    return None if t is None else t.isoformat(timespec="microseconds")
+
+
+def canonical_content(row: m.Event) -> dict:
+    """The hashed fields of an event, as plain JSON values (ids, ISO times, SI floats)."""
+    return {
+        "id": row.id, "unit_id": row.unit_id, "occurred_at": _iso(row.occurred_at),
+        "logged_at": _iso(row.logged_at), "logged_by_id": row.logged_by_id,
+        "mode": row.mode_key, "kind": row.kind,
+        "voltage": None if row.voltage is None else float(row.voltage),
+        "energy": None if row.energy is None else float(row.energy),
+        "duration": None if row.duration is None else float(row.duration),
+        "symptoms": list(row.symptoms or []), "notes": row.notes or "",
+        "within_rating": row.within_rating, "clamp_conducted": bool(row.clamp_conducted),
+    }
+
+
+def event_hash(row: m.Event, prev_hash: str) -> str:
+    """SHA-256 (FIPS 180-4) over the canonical JSON (sorted keys, no spaces, UTF-8) of the
+    event's content with ``prev_hash`` included."""
+    doc = dict(canonical_content(row), prev_hash=prev_hash)
+    data = json.dumps(doc, sort_keys=True, separators=(",", ":"), ensure_ascii=False,
+                      allow_nan=False)
+    return hashlib.sha256(data.encode("utf-8")).hexdigest()
+
+
+def lock_chain(session: Session) -> None:
+    """Serialise appends on PostgreSQL (SQLite's BEGIN IMMEDIATE already did it)."""
+    if session.get_bind().dialect.name == "postgresql":
+        session.execute(text("SELECT pg_advisory_xact_lock(:k)"), {"k": CHAIN_LOCK_KEY})
+
+
+def last_hash(session: Session) -> str:
+    h = session.scalar(select(m.Event.hash).order_by(m.Event.id.desc()).limit(1))
+    return h or GENESIS
+
+
+def unit_by_tag(session: Session, tag: str) -> m.Unit:
+    unit = session.scalar(select(m.Unit).where(m.Unit.tag == tag))
+    if unit is None:
+        raise NotFound(f"no unit '{tag}'")
+    return unit
+
+
+def require_role(user: m.User, roles, action: str) -> None:
+    if not user.active:
+        raise NotAllowed(f"user '{user.username}' is not active")
+    if user.role not in roles:
+        raise NotAllowed(f"user '{user.username}' is a {user.role}; {action} needs a "
+                         f"{' or '.join(roles)}")
+
+
+def append_event(session: Session, row: m.Event) -> m.Event:
+    """Chain ``row`` onto the last event and insert it. The caller holds the chain lock (see
+    :func:`log_event`); the hash needs the row's id, so the row goes in with a placeholder
+    hash that only this transaction ever sees."""
+    lock_chain(session)
+    row.prev_hash = last_hash(session)
+    row.hash = "pending-" + uuid.uuid4().hex
+    session.add(row)
+    session.flush()
+    row.hash = event_hash(row, row.prev_hash)
+    session.flush()
+    return row
+
+
+def log_event(db: Database, *, unit: str, kind: str, by: str, mode: str | None = None,
+              voltage: float | None = None, energy: float | None = None,
+              duration: float | None = None, symptoms=(), note: str = "",
+              at: datetime | None = None) -> LoggedEvent:
+    """Validate and record one event (SI floats; ``at`` naive UTC, default now), opening a
+    hold when SPEC §3 says so. Nothing is written when anything is invalid."""
+    stress = Stress(kind, voltage, energy, duration)
+    with db.transaction(immediate=True) as session:
+        lock_chain(session)  # before reading anything the append depends on
+        user = get_user(session, by)
+        require_role(user, LOGGING_ROLES, "logging an event")
+        row_unit = unit_by_tag(session, unit)
+        assessment = ev_engine.assess(model_spec(row_unit.model), mode, stress, symptoms)
+        now = utcnow()
+        occurred = at or now
+        if (occurred - now).total_seconds() > FUTURE_SLACK_S:
+            raise InvalidInput(f"{occurred.isoformat(timespec='seconds')} UTC is in the future",
+                               "at")
+        row = append_event(session, m.Event(
+            unit_id=row_unit.id, occurred_at=occurred, logged_at=now, logged_by_id=user.id,
+            mode_key=mode, kind=kind, voltage=voltage, energy=energy, duration=duration,
+            symptoms=list(ev_engine.check_symptoms(symptoms)), notes=note or "",
+            within_rating=assessment.within_rating,
+            clamp_conducted=assessment.clamp_conducted))
+        hold_id, hold_note = None, ""
+        if assessment.hold:
+            if row_unit.status == "retired":
+                hold_note = "the unit is retired, so no hold was opened"
+            else:
+                from .holds import open_hold
+                hold = open_hold(session, row_unit, row, assessment.hold_reason, user)
+                hold_id = hold.id
+        return LoggedEvent(row.id, row_unit.tag, assessment, hold_id, hold_note)
+
+
+# -- verification ---------------------------------------------------------------------------
+
+@dataclass(frozen=True)
+class ChainState:
+    ok: bool
+    count: int  # events read
+    broken_at: int | None  # id of the first event whose link does not hold
+    problem: str  # what is wrong there; "" when ok
+    head: str  # hash of the last event (GENESIS when there is none)
+
+    def summary(self) -> str:
+        if self.ok:
+            return (f"intact: {self.count} event{'s' if self.count != 1 else ''}, head "
+                    f"{self.head[:16]}")
+        return f"broken at event {self.broken_at}: {self.problem}"
+
+
+def verify_chain(session: Session) -> ChainState:
+    """Recompute every event's hash in id order; the first event whose ``prev_hash`` is not
+    its predecessor's hash (a deletion or reordering before it) or whose content does not give
+    its hash (an edit) is the broken link."""
+    expected_prev, count, previous_id = GENESIS, 0, None
+    for row in session.scalars(select(m.Event).order_by(m.Event.id)).yield_per(500):
+        count += 1
+        if row.prev_hash != expected_prev:
+            before = (f"event {previous_id}" if previous_id is not None
+                      else "the start of the chain")
+            return ChainState(False, count, row.id,
+                              f"its prev_hash does not match the hash of {before}: an event "
+                              "was deleted, inserted or moved there", expected_prev)
+        if event_hash(row, row.prev_hash) != row.hash:
+            return ChainState(False, count, row.id,
+                              "its content does not match its hash: the row was edited",
+                              expected_prev)
+        expected_prev, previous_id = row.hash, row.id
+    return ChainState(True, count, None, "", expected_prev)
+
+
+def events_of(session: Session, tag: str) -> list[m.Event]:
+    return list(unit_by_tag(session, tag).events)
+
+
+__all__ = ["GENESIS", "ChainState", "LoggedEvent", "canonical_content", "event_hash",
+           "log_event", "verify_chain", "append_event"]
