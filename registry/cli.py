@@ -232,7 +232,7 @@ def check(plan: Path, as_json: bool, show_all: bool, on: str | None, explain: st
     from .checking import check_registry, plan_from
     from .plans import read_plan_file
     from .report import exit_code, render_text
-    day = _date_option(on, "--on")
+    day = _parse_date(on, "--on")
     database = _env().database()
     data = read_plan_file(plan)
     with database.transaction() as session:
@@ -247,16 +247,6 @@ def check(plan: Path, as_json: bool, show_all: bool, on: str | None, explain: st
     else:
         click.echo(render_text(result, show_all=show_all, explain=explain), nl=False)
     sys.exit(exit_code(result))
-
-
-def _date_option(text: str | None, option: str):
-    if text is None:
-        return None
-    from datetime import date
-    try:
-        return date.fromisoformat(text)
-    except ValueError:
-        raise InvalidInput(f"'{text}' is not a date; write it as YYYY-MM-DD", option) from None
 
 
 # -- users ---------------------------------------------------------------------------------------
@@ -306,7 +296,7 @@ def user_token(name: str, revoke: bool):
     click.echo(token)
 
 
-# -- events, holds, audit, backup (issue 5) ------------------------------------------------------
+# -- events, holds, audit, backup ------------------------------------------------------
 
 def _quantity_option(value: str | None, dim, option: str) -> float | None:
     if value is None:
@@ -473,3 +463,60 @@ def backup(file: Path):
     database = _env().database()
     report = backup_database(database, file)
     click.echo(f"Backed up to {file}: {report}.")
+
+
+# -- models --------------------------------------------------------------------------------------
+
+@main.group("model")
+def model_group():
+    """Model specs."""
+
+
+@model_group.command("spice")
+@click.argument("key")
+@click.option("--mode", "mode_key", required=True, help="The mode whose switch states to use.")
+@click.option("--scenario", type=click.Choice(["steady", "discharge"]), default="steady",
+              show_default=True, help="A dc operating point, or a capacitor discharge in time.")
+@click.option("--voltage", default=None, help="Source voltage (default: the mode's max_input).")
+@click.option("--source-impedance", default=None, help="Source impedance, e.g. '2 ohm'.")
+@click.option("--capacitance", default=None, help="For --scenario discharge, e.g. '470 uF'.")
+@click.option("--duration", default=None, help="For --scenario discharge, e.g. '5 s'.")
+@click.option("--out", type=click.Path(dir_okay=False, path_type=Path), default=None,
+              help="Write the deck here instead of printing it.")
+@reports_errors
+def model_spice(key, mode_key, scenario, voltage, source_impedance, capacitance, duration, out):
+    """The model's front end in that mode as a SPICE deck, to check the solver with a
+    circuit simulator (e.g. `ngspice -b deck.cir`)."""
+    from . import units as u
+    from .engine.network.spice import spice_deck
+    from .errors import NotFound
+    from .store.specs import model_spec
+    database = _env().database()
+    with database.transaction() as session:
+        from sqlalchemy import select
+
+        from .store import models as m
+        row = session.scalar(select(m.Model).where(m.Model.key == key))
+        if row is None:
+            raise NotFound(f"no model '{key}'")
+        spec = model_spec(row)
+    mode = spec.mode(mode_key)
+    if mode is None:
+        raise InvalidInput(f"'{mode_key}' is not a mode of {key}; it has "
+                           f"{', '.join(x.key for x in spec.modes) or 'none'}", "--mode")
+    if not spec.front_end:
+        raise InvalidInput(f"model {key} has no front end to write", "KEY")
+    if scenario == "discharge" and capacitance is None:
+        raise InvalidInput("a discharge deck needs the capacitance", "--capacitance")
+    deck = spice_deck(spec, mode, scenario=scenario,
+                      voltage=_quantity_option(voltage, u.VOLTAGE, "--voltage"),
+                      source_impedance=_quantity_option(source_impedance, u.RESISTANCE,
+                                                        "--source-impedance"),
+                      capacitance=_quantity_option(capacitance, u.CAPACITANCE,
+                                                   "--capacitance"),
+                      duration=_quantity_option(duration, u.TIME, "--duration"))
+    if out is not None:
+        out.write_text(deck)
+        click.echo(f"Wrote the {scenario} deck of {key} in mode {mode_key} to {out}.")
+    else:
+        click.echo(deck, nl=False)
