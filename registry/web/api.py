@@ -233,8 +233,11 @@ def release(hold_id: int):
         raise NotFound(f"no hold {hold_id}")
     if hold.released_at is not None:
         raise ApiError(409, f"hold {hold_id} was released already")
-    done = release_hold(db.database, unit=hold.unit.tag, result=req.result,
-                        by=g.api_user.username, note=req.note, hold_id=hold_id)
+    from .events import end_read
+    tag, username = hold.unit.tag, g.api_user.username
+    end_read()
+    done = release_hold(db.database, unit=tag, result=req.result,
+                        by=username, note=req.note, hold_id=hold_id)
     db.session.expire_all()
     return {"unit": done.unit, "holds": list(done.holds), "result": done.result,
             "status": done.status}
@@ -258,11 +261,33 @@ def openapi():
     return openapi_document()
 
 
+def _text_defaults(node):
+    """Quantity fields are text in the documents, but pydantic reports their defaults as the
+    SI float (``max_altitude: 2000.0``); OpenAPI requires a default to fit its schema, so it is
+    written as the text the field takes ("2 km")."""
+    if isinstance(node, list):
+        return [_text_defaults(x) for x in node]
+    if not isinstance(node, dict):
+        return node
+    out = {k: _text_defaults(v) for k, v in node.items()}
+    default = out.get("default")
+    if out.get("type") == "string" and isinstance(default, (int, float)) \
+            and not isinstance(default, bool):
+        description = out.get("description", "")
+        dim = next((d for d in u.DIMENSIONS if description.startswith(f"{d.article} {d.name}")),
+                   None)
+        if dim is not None:
+            out["default"] = u.format_quantity(float(default), dim)
+        else:
+            out.pop("default")
+    return out
+
+
 def openapi_document() -> dict:
     _, defs = models_json_schema([(ModelDoc, "validation"), (UnitDoc, "validation"),
                                   (EventRequest, "validation"), (HoldRelease, "validation")],
                                  ref_template="#/components/schemas/{model}")
-    schemas = dict(defs.get("$defs", {}))
+    schemas = {k: _text_defaults(v) for k, v in defs.get("$defs", {}).items()}
     schemas["Plan"], plan_defs = plan_schema()
     schemas.update(plan_defs)
     schemas["Error"] = {"type": "object", "required": ["error"], "properties": {"error": {

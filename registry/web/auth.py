@@ -108,6 +108,7 @@ def login():
 
 
 @bp.route("/logout", methods=["POST"])
+@role_required("viewer")  # any login; without one there is nothing to log out of
 def logout():
     logout_user()
     session.clear()

@@ -35,7 +35,14 @@ def naive_utc(t: datetime | None) -> datetime | None:
     return t.astimezone(timezone.utc).replace(tzinfo=None)
 
 
+def end_read() -> None:
+    """End the request session's read transaction before the store writes in its own: on
+    SQLite a snapshot left open would make the writer's lock upgrade fail."""
+    db.session.rollback()
+
+
 def record(req: EventRequest, username: str):
+    end_read()
     return log_event(db.database, unit=req.unit, kind=req.kind, by=username, mode=req.mode,
                      voltage=req.voltage, energy=req.energy, duration=req.duration,
                      symptoms=req.symptoms, note=req.note, at=naive_utc(req.at))
@@ -116,8 +123,10 @@ def release(hold_id: int):
         return _release_form(hold, typed, errors)
     try:
         req = validated(HoldRelease, {"result": typed["result"] or None, "note": typed["note"]})
-        done = release_hold(db.database, unit=hold.unit.tag, result=req.result,
-                            by=current_user.username, note=req.note, hold_id=hold.id)
+        tag, hold_id = hold.unit.tag, hold.id
+        end_read()
+        done = release_hold(db.database, unit=tag, result=req.result,
+                            by=current_user.username, note=req.note, hold_id=hold_id)
     except InvalidInput as exc:
         errors.extend(exc.problems, {"result": "result", "note": "note"})
         return _release_form(hold, typed, errors, 400)

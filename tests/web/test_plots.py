@@ -1,0 +1,57 @@
+"""The discharge curve: the formula against a numerical solution of the circuit's equation
+(scipy's solve_ivp on C dV/dt = -V/R, the reference), and the drawing against the formula."""
+
+import math
+import re
+
+import pytest
+from scipy.integrate import solve_ivp
+from scipy.optimize import brentq
+
+from registry.web.plots import DischargePath, discharge_svg, nice_step, time_to, voltage_at
+
+R, C, V0, VS = 1e3, 2e-3, 800.0, 50.0  # the demo DC link through a 1 kohm tool
+
+
+def numeric():
+    # C dV/dt = -V / R (Kirchhoff's current law at the capacitor), integrated numerically
+    return solve_ivp(lambda t, v: -v / (R * C), (0, 20), [V0], dense_output=True,
+                     rtol=1e-10, atol=1e-9)
+
+
+def test_voltage_matches_the_numerical_solution():
+    sol = numeric()
+    for t in (0.0, 0.5, 2.0, 5.5, 12.0):
+        assert voltage_at(t, V0, R, C) == pytest.approx(sol.sol(t)[0], rel=1e-6)
+
+
+def test_time_to_safe_level_matches_the_numerical_crossing():
+    sol = numeric()
+    crossing = brentq(lambda t: sol.sol(t)[0] - VS, 0, 20)
+    assert time_to(VS, V0, R, C) == pytest.approx(crossing, rel=1e-6)
+    # R C ln(V0/Vs) = 2 s * ln 16 = 5.545 s, which the demo plan's comment rounds to "about 5 s"
+    assert time_to(VS, V0, R, C) == pytest.approx(5.545, abs=1e-3)
+    assert time_to(VS, 40.0, R, C) == 0.0
+    assert math.isinf(time_to(0.0, V0, R, C))
+
+
+def test_drawing_follows_the_curve():
+    svg = discharge_svg(DischargePath("BL-0002 discharge", R, "suitable"), V0, C, VS)
+    points = [tuple(map(float, p.split(","))) for p in
+              re.search(r'<polyline points="([^"]+)"', svg).group(1).split()]
+    x0, y0 = points[0]
+    x1, y1 = points[-1]
+    t_max = 1.25 * time_to(VS, V0, R, C)
+    # the plot's axes: 70 px left margin, 550 px of width; 30 px top, 240 px of height
+    for x, y in points[::25]:
+        t = (x - 70) / 550 * t_max
+        v = (1 - (y - 30) / 240) * V0
+        assert v == pytest.approx(voltage_at(t, V0, R, C), abs=V0 * 0.01)
+    assert y0 == pytest.approx(30)  # starts at V0
+    assert "safe level 50 V" in svg and "style=" not in svg and "<script" not in svg
+
+
+# the smallest 1-2-5 step giving at most five intervals: common practice (no source)
+@pytest.mark.parametrize("span, step", [(10, 2), (7, 2), (640, 200), (0.03, 0.01), (1, 0.2)])
+def test_nice_step(span, step):
+    assert nice_step(span) == pytest.approx(step)
