@@ -438,10 +438,11 @@ def write_workbook(audit: Audit, path: Path) -> Path:
             _typed(df).to_excel(writer, sheet_name=name, index=False)
         book = writer.book
         ws = book["Summary"]
+        _format_sheet(ws, last_row=len(audit.summary) + 1)
+        # the title after the widths: a long line of text should not widen column A
         ws.cell(row=title_row, column=1,
                 value="Coverage: in-service units that can take each measurement category "
                       "at each voltage (one rating at least that category and voltage)")
-        _format_sheet(ws, last_row=len(audit.summary) + 1)
         for cell in ws[gap + 1]:
             from openpyxl.styles import Font
             cell.font = Font(bold=True)
