@@ -19,6 +19,11 @@ SRC_VARISTOR = "varistors degrade with each surge they clamp (maker's datasheets
                "practice, no source)"
 WORN_CLAMP_EVENTS = 3  # three or more clamped transients are a caution (SPEC §5.11)
 
+# Events that are a stress on the input: one whose size was not recorded stays a caution.
+# A fuse-open, mechanical or other event without a stated voltage is settled by the
+# inspection that released its hold.
+STRESS_KINDS = ("overvoltage", "transient", "discharge")
+
 EXCLUSION_REASONS = ("retired", "away", "on-hold", "verification-overdue")
 
 
@@ -50,7 +55,7 @@ def check_history(unit: UnitState, mode: str | None) -> list[Finding]:
                                f"{unit.tag} took a {ev.kind} event on {when} that was outside "
                                "its rating; it was released after inspection, but check it "
                                "before relying on it.", SRC_HISTORY, "", ev.kind))
-        elif ev.within_rating is None:
+        elif ev.within_rating is None and ev.kind in STRESS_KINDS:
             out.append(Finding("history", "caution", unit.tag,
                                f"{unit.tag} took a {ev.kind} event on {when} whose stress was "
                                "not recorded, so it is not known to have been within rating.",
