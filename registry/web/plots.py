@@ -96,7 +96,10 @@ def discharge_svg(path: DischargePath, v0: float, capacitance: float, v_safe: fl
                f'class="curve"/>')
     if math.isfinite(t_safe):
         out.append(f'<circle cx="{x(t_safe):.1f}" cy="{y(v_safe):.1f}" r="5" fill="#1d2329"/>')
-        out.append(f'<text x="{x(t_safe) + 8:.1f}" y="{y(v_safe) + 18:.1f}">reaches it after '
+        # the label goes left of the point when the point is near the right edge
+        right = x(t_safe) > LEFT + 0.6 * pw
+        out.append(f'<text x="{x(t_safe) + (-8 if right else 8):.1f}" y="{y(v_safe) + 18:.1f}" '
+                   f'text-anchor="{"end" if right else "start"}">reaches it after '
                    f'{escape(fq(t_safe, TIME))}</text>')
     out.append(f'<text x="{LEFT + pw / 2}" y="{H - 8}" text-anchor="middle">time</text>')
     out.append(f'<text x="16" y="{TOP + ph / 2}" text-anchor="middle" '
