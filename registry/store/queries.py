@@ -207,7 +207,3 @@ def unit_timeline(session: Session, unit: m.Unit) -> list[TimelineEntry]:
 
 def site_names(session: Session) -> list[str]:
     return list(session.scalars(select(m.Site.name).order_by(m.Site.name)))
-
-
-def site_altitudes(session: Session) -> dict[str, float]:
-    return {n: a for n, a in session.execute(select(m.Site.name, m.Site.altitude))}

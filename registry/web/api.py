@@ -22,7 +22,7 @@ from ..extensions import csrf, db
 from ..formats.fleet import ModelDoc, UnitDoc, model_to_document, unit_to_document
 from ..store import models as m
 from ..store import queries
-from ..store.checking import run_check
+from ..checking import check_registry, plan_from
 from ..store.specs import model_spec, unit_record
 from ..store.users import user_for_token
 from .audit import XLSX
@@ -182,7 +182,7 @@ def model(key: str):
 @token_required("viewer")
 def checks():
     doc = json_body()
-    result = run_check(db.session, doc, _date_arg("on"))
+    result = check_registry(plan_from(doc, db.session, _date_arg("on")), db.session)
     return result.as_json()
 
 

@@ -19,7 +19,8 @@ from ..extensions import db
 from ..formats.common import parse_text
 from ..plans import CIRCUIT_QUANTITIES, FORMAT
 from ..store import queries
-from ..store.checking import check_with_fleet
+from ..checking import plan_from, run_check
+from ..store.fleet import engine_fleet
 from .auth import role_required
 from .forms import FieldErrors
 from .plots import DischargePath, discharge_svg, time_to
@@ -108,6 +109,14 @@ def _form(fields, errors, status=200):
     return render_template("checks/form.html", f=fields, errors=errors, tasks=TASKS,
                            supplies=SUPPLIES, waveforms=PLAN_WAVEFORMS,
                            sites=queries.site_names(db.session), examples=EXAMPLES), status
+
+
+def check_with_fleet(session, doc, on):
+    """The shared job check (check 10 included), with the fleet it ran against, whose models
+    the discharge curves and the job card need."""
+    plan = plan_from(doc, session, on)
+    fleet = engine_fleet(session)
+    return run_check(plan, fleet), fleet
 
 
 def checked(fields: dict):
@@ -250,8 +259,7 @@ def load_plan():
         return _form(fields_from({}), errors, 400)
     fields = fields_from_doc(doc)
     try:
-        from ..plans import parse_plan
-        parse_plan(doc, None, sites=queries.site_altitudes(db.session))
+        plan_from(doc, db.session)
     except InvalidInput as exc:
         for p in exc.problems:
             errors.add(field_of(p.path), p.message)
