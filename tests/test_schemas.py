@@ -29,3 +29,24 @@ def test_schema_rejects_a_bare_number_quantity():
     doc = {"format": "withstand-fleet/1", "sites": [{"name": "Bench", "altitude": 40}]}
     errors = list(jsonschema.Draft202012Validator(shipped("fleet.schema.json")).iter_errors(doc))
     assert errors
+
+
+def _defaults(node):
+    if isinstance(node, dict):
+        for key, value in node.items():
+            if key == "properties":
+                for prop in value.values():
+                    if "default" in prop and prop.get("type") == "string":
+                        yield prop
+            yield from _defaults(value)
+    elif isinstance(node, list):
+        for item in node:
+            yield from _defaults(item)
+
+
+def test_shipped_schemas_are_valid_and_their_defaults_fit():
+    for name in ("fleet.schema.json", "plan.schema.json"):
+        schema = shipped(name)
+        jsonschema.Draft202012Validator.check_schema(schema)
+        for prop in _defaults(schema):
+            assert isinstance(prop["default"], str), prop  # "2000 m", not 2000.0

@@ -47,6 +47,31 @@ Frequency = Quantity(u.FREQUENCY)
 I2t = Quantity(u.I2T)
 
 
+def text_defaults(node):
+    """A JSON Schema with the defaults of quantity fields written as the text they take.
+
+    Pydantic reports a quantity field's default as the SI float it holds (``2000.0``), but the
+    field takes text ("2 km"); a schema's default must fit its own schema, so it is rewritten,
+    the dimension read back from the description :func:`Quantity` gives every such field.
+    """
+    if isinstance(node, list):
+        return [text_defaults(x) for x in node]
+    if not isinstance(node, dict):
+        return node
+    out = {k: text_defaults(v) for k, v in node.items()}
+    default = out.get("default")
+    if out.get("type") == "string" and isinstance(default, (int, float)) \
+            and not isinstance(default, bool):
+        description = out.get("description", "")
+        dim = next((d for d in u.DIMENSIONS if description.startswith(f"{d.article} {d.name} ")),
+                   None)
+        if dim is not None:
+            out["default"] = u.format_quantity(float(default), dim)
+        else:
+            out.pop("default")
+    return out
+
+
 def path_of(loc: tuple) -> str:
     out = ""
     for part in loc:

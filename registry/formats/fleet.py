@@ -19,7 +19,7 @@ from .. import units as u
 from ..engine import spec
 from ..errors import FieldProblem, InvalidInput
 from .common import (Capacitance, Current, Duration, Energy, I2t, Length, Power, Resistance,
-                     Voltage, path_of, problems_from, read_document, text_of)
+                     Voltage, path_of, problems_from, read_document, text_defaults, text_of)
 
 FORMAT = "withstand-fleet/1"
 
@@ -494,7 +494,7 @@ def fleet_to_document(content: FleetContent) -> dict:
 
 
 def fleet_json_schema() -> dict:
-    schema = FleetDoc.model_json_schema()
+    schema = text_defaults(FleetDoc.model_json_schema())
     schema["$schema"] = "https://json-schema.org/draft/2020-12/schema"
     schema["title"] = "withstand fleet file (withstand-fleet/1)"
     return schema

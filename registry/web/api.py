@@ -19,6 +19,7 @@ from .. import units as u
 from ..engine import spec
 from ..errors import FieldProblem, InvalidInput, NotAllowed, NotFound
 from ..extensions import csrf, db
+from ..formats.common import text_defaults
 from ..formats.fleet import ModelDoc, UnitDoc, model_to_document, unit_to_document
 from ..store import models as m
 from ..store import queries
@@ -261,33 +262,11 @@ def openapi():
     return openapi_document()
 
 
-def _text_defaults(node):
-    """Quantity fields are text in the documents, but pydantic reports their defaults as the
-    SI float (``max_altitude: 2000.0``); OpenAPI requires a default to fit its schema, so it is
-    written as the text the field takes ("2 km")."""
-    if isinstance(node, list):
-        return [_text_defaults(x) for x in node]
-    if not isinstance(node, dict):
-        return node
-    out = {k: _text_defaults(v) for k, v in node.items()}
-    default = out.get("default")
-    if out.get("type") == "string" and isinstance(default, (int, float)) \
-            and not isinstance(default, bool):
-        description = out.get("description", "")
-        dim = next((d for d in u.DIMENSIONS if description.startswith(f"{d.article} {d.name}")),
-                   None)
-        if dim is not None:
-            out["default"] = u.format_quantity(float(default), dim)
-        else:
-            out.pop("default")
-    return out
-
-
 def openapi_document() -> dict:
     _, defs = models_json_schema([(ModelDoc, "validation"), (UnitDoc, "validation"),
                                   (EventRequest, "validation"), (HoldRelease, "validation")],
                                  ref_template="#/components/schemas/{model}")
-    schemas = {k: _text_defaults(v) for k, v in defs.get("$defs", {}).items()}
+    schemas = {k: text_defaults(v) for k, v in defs.get("$defs", {}).items()}
     schemas["Plan"], plan_defs = plan_schema()
     schemas.update(plan_defs)
     schemas["Error"] = {"type": "object", "required": ["error"], "properties": {"error": {
