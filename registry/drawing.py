@@ -132,6 +132,7 @@ def front_end_svg(model: ModelSpec, mode: Mode, marks: dict[str, str] | None = N
         x += COLUMN * k
     d = schemdraw.Drawing(show=False)
     d.config(fontsize=11)
+    legend: list[str] = []
     bus_y = -RUNG
 
     def place(e, start, end, label_loc="top"):
@@ -142,14 +143,16 @@ def front_end_svg(model: ModelSpec, mode: Mode, marks: dict[str, str] | None = N
         val = _summary(e)
         if val:
             text += f"\n{val}"
-        sym = sym.label(text, loc=label_loc)
         mark = marks.get(e.id)
         if mark:
+            # the symbol goes on the element's own label; the words go in the legend below,
+            # where long texts cannot run into the neighbouring rungs
             failed = mark.lower().startswith("fail")
             symbol = FAIL_SYMBOL if failed else MARK_SYMBOL
+            text = f"{symbol} {text}"
             sym = sym.color("#b00020" if failed else "#8a5a00")
-            sym = sym.label(f"{symbol} {mark}", loc="bottom" if label_loc == "top" else "top",
-                            fontsize=9)
+            legend.append(f"{symbol} {e.id}: {mark}")
+        sym = sym.label(text, loc=label_loc)
         d.add(sym)
         if closed:
             d.add(elm.Dot().at(start))
@@ -193,10 +196,15 @@ def front_end_svg(model: ModelSpec, mode: Mode, marks: dict[str, str] | None = N
     if mode.closes:
         title += f" (closes {', '.join(mode.closes)})"
     d.add(elm.Label().at((right / 2, bus_y - 1.2)).label(title, fontsize=11))
+    below = bus_y - 2.0
     if off:
-        d.add(elm.Label().at((right / 2, bus_y - 2.0)).label(
+        d.add(elm.Label().at((right / 2, below)).label(
             "not on this mode's path: " + ", ".join(
                 f"{e.id} ({e.between[0]}–{e.between[1]})" for e in off), fontsize=9))
+        below -= 0.8
+    for line in legend:
+        d.add(elm.Label().at((-COLUMN / 2, below)).label(line, fontsize=10, halign="left"))
+        below -= 0.7
     svg = d.get_imagedata("svg")
     return svg.decode("utf-8") if isinstance(svg, bytes) else svg
 

@@ -7,9 +7,11 @@ wrong position), whose failures become cautions.
 
 from __future__ import annotations
 
+from .derived import Derived
 from .findings import Finding
-from .network import protection_path_findings
-from .setups import SetupContext
+from .network import drawing_marks, protection_path_findings, protection_path_report
+from .setups import SetupContext, discharge_mode
+from .spec import Fleet, Plan
 
 
 def stresses_for(ctx: SetupContext) -> dict:
@@ -47,3 +49,28 @@ def protection_path_check(ctx: SetupContext) -> list[Finding]:
             continue
         out.extend(protection_path_findings(model, other, misuse=True, **values))
     return out
+
+
+def context_of(plan: Plan, derived: Derived, fleet: Fleet, instrument_model: str, mode: str,
+               accessory_models: tuple[str, ...]) -> SetupContext:
+    """The setup context of a ranked setup, rebuilt from its model keys (for a drawing)."""
+    instrument = fleet.models[instrument_model]
+    chosen = instrument.mode(mode) or discharge_mode(instrument)
+    lead = tip = None
+    for key in accessory_models:
+        model = fleet.models[key]
+        if model.kind in ("probe", "clip"):
+            tip = model
+        else:
+            lead = model
+    return SetupContext(plan=plan, derived=derived, instrument=instrument, mode=chosen,
+                        lead=lead, tip=tip)
+
+
+def setup_marks(ctx: SetupContext, closest: int = 3) -> dict[str, str]:
+    """Labels for the front-end drawing of a setup: the elements that fail in its own mode and
+    the ``closest`` others to their limits."""
+    if not ctx.instrument.front_end or ctx.mode.clamp or ctx.current_clamp is not None:
+        return {}
+    return drawing_marks(protection_path_report(ctx.instrument, ctx.mode, **stresses_for(ctx)),
+                         closest=closest)

@@ -226,6 +226,31 @@ def card():
                            models=fleet.models, query=_query(fields), today=date.today())
 
 
+@bp.route("/front-end.svg")
+@role_required("viewer")
+def front_end_plot():
+    """The front end of a ranked setup's instrument in its mode, with the elements that fail
+    or come closest to their limits under this plan marked with a symbol and a label."""
+    from ..drawing import front_end_svg
+    from ..engine.protection import context_of, setup_marks
+    from .models import IMAGE_POLICY
+    fields = fields_from(request.args)
+    res, fleet, errors = checked(fields)
+    if res is None:
+        abort(400)
+    index = request.args.get("setup", 1, type=int)
+    if not 1 <= index <= len(res.setups):
+        abort(404)
+    s = res.setups[index - 1]
+    ctx = context_of(res.plan, res.derived, fleet, s.instrument_model, s.mode,
+                     s.accessory_models)
+    if not ctx.instrument.front_end or ctx.mode.clamp:
+        abort(404)
+    svg = front_end_svg(ctx.instrument, ctx.mode, setup_marks(ctx))
+    return Response(svg, mimetype="image/svg+xml",
+                    headers={"Content-Security-Policy": IMAGE_POLICY})
+
+
 @bp.route("/plan.yaml")
 @role_required("viewer")
 def save_plan():

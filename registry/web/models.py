@@ -31,11 +31,6 @@ SECTIONS = ("ratings", "modes", "front_end")
 FIXED = ("key", "kind", "maker", "name") + SECTIONS  # the rest goes in the "other" box
 
 
-@bp.app_context_processor
-def drawing_available():
-    return {"has_drawing": has_drawing}
-
-
 @bp.app_template_global()
 def element_param(name: str, value: float) -> str:
     dim = ELEMENT_PARAM_DIMS.get(name)
@@ -51,14 +46,6 @@ def model_or_404(key: str) -> m.Model:
     return row
 
 
-def has_drawing() -> bool:
-    try:
-        from ..drawing import front_end_svg  # noqa: F401
-    except ImportError:
-        return False
-    return True
-
-
 # The drawing's SVG carries style attributes; as an image it can run nothing, so this one
 # response may allow them without weakening the pages' policy.
 IMAGE_POLICY = "default-src 'none'; style-src 'unsafe-inline'; frame-ancestors 'none'"
@@ -69,7 +56,7 @@ IMAGE_POLICY = "default-src 'none'; style-src 'unsafe-inline'; frame-ancestors '
 def front_end(key: str):
     s = model_spec(model_or_404(key))
     mode = next((x for x in s.modes if x.key == request.args.get("mode")), None)
-    if mode is None or not s.front_end or not has_drawing():
+    if mode is None or not s.front_end:
         abort(404)
     from ..drawing import front_end_svg
     from ..engine.network import NetworkError

@@ -28,5 +28,7 @@ def test_marks_carry_a_symbol_and_a_text_label():
     svg = front_end_svg(kx7(), VDC, {"S1": "fail: 4 kV against 2.5 kV, impulse",
                                      "IN": "12% headroom: 1.3 kV of 1.5 kV, impulse"})
     t = texts(svg)
-    assert f"{FAIL_SYMBOL} fail: 4 kV against 2.5 kV" in t
-    assert f"{MARK_SYMBOL} 12% headroom" in t
+    # the symbol stands on the element's own label, the words in the legend beside its id
+    assert f"{FAIL_SYMBOL} S1 (open)" in t and f"{MARK_SYMBOL} IN" in t
+    assert f"{FAIL_SYMBOL} S1: fail: 4 kV against 2.5 kV" in t
+    assert f"{MARK_SYMBOL} IN: 12% headroom" in t
