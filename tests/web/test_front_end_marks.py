@@ -1,5 +1,5 @@
 """The result page draws a setup's front end with its failing and nearest-to-limit elements
-marked by a symbol and a text label (issue 7), here for the KX-3 whose ohms contact sits ahead
+marked by a symbol and a text label, here for the KX-3 whose ohms contact sits ahead
 of its limiter (the finding itself is checked against the clearance table in tests/network)."""
 
 import re
