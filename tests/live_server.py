@@ -1,5 +1,5 @@
-"""The real server for browser tests: `withstand init --with-demo` on a scratch instance, then
-`withstand serve` on a free port, as tests/test_serve.py does it."""
+"""The real server, as `make run` starts it: `withstand init --with-demo` on a scratch
+instance, then `withstand serve` on a free port (tests/test_serve.py, the browser tests)."""
 
 import os
 import socket

@@ -3,51 +3,24 @@ load the demo when empty, serve on a free port and answer a login."""
 
 import os
 import re
-import socket
 import subprocess
-import sys
 import time
 import urllib.request
 from http.cookiejar import CookieJar
-from pathlib import Path
 from urllib.parse import urlencode
 
 import pytest
 
-WITHSTAND = Path(sys.executable).with_name("withstand")
-
-
-def free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
+import live_server
+from live_server import WITHSTAND, free_port
 
 
 @pytest.fixture
 def server(tmp_path):
-    env = dict(os.environ, WITHSTAND_INSTANCE=str(tmp_path / "instance"))
-    env.pop("WITHSTAND_DATABASE_URL", None)
-    init = subprocess.run([str(WITHSTAND), "init", "--with-demo"], env=env, cwd=tmp_path,
-                          capture_output=True, text=True, timeout=120)
-    assert init.returncode == 0, init.stderr
-    assert "Loaded the demo fleet" in init.stdout
+    base, proc = live_server.start(tmp_path)
     assert (tmp_path / "instance" / "withstand.sqlite3").exists()
-    port = free_port()
-    proc = subprocess.Popen([str(WITHSTAND), "serve", "--port", str(port)], env=env,
-                            cwd=tmp_path, stdout=subprocess.PIPE, stderr=subprocess.STDOUT,
-                            text=True)
-    base = f"http://127.0.0.1:{port}"
-    for _ in range(100):
-        try:
-            urllib.request.urlopen(base + "/login", timeout=2)
-            break
-        except OSError:
-            if proc.poll() is not None:
-                pytest.fail(f"server exited: {proc.stdout.read()}")
-            time.sleep(0.1)
     yield base
-    proc.terminate()
-    proc.wait(timeout=10)
+    live_server.stop(proc)
 
 
 def test_server_answers_and_logs_in(server):

@@ -212,6 +212,14 @@ def discharge_plot():
     return Response(svg, mimetype="image/svg+xml")
 
 
+def chosen_setup(res):
+    """(index, setup) named by the ``setup`` argument, counted from 1 in the ranked order."""
+    index = request.args.get("setup", 1, type=int)
+    if not 1 <= index <= len(res.setups):
+        abort(404)
+    return index, res.setups[index - 1]
+
+
 @bp.route("/card")
 @role_required("viewer")
 def card():
@@ -219,10 +227,8 @@ def card():
     res, fleet, errors = checked(fields)
     if res is None:
         return _form(fields, errors, 400)
-    index = request.args.get("setup", 1, type=int)
-    if not 1 <= index <= len(res.setups):
-        abort(404)
-    return render_template("checks/card.html", r=res, s=res.setups[index - 1], index=index,
+    index, s = chosen_setup(res)
+    return render_template("checks/card.html", r=res, s=s, index=index,
                            models=fleet.models, query=_query(fields), today=date.today())
 
 
@@ -238,10 +244,7 @@ def front_end_plot():
     res, fleet, errors = checked(fields)
     if res is None:
         abort(400)
-    index = request.args.get("setup", 1, type=int)
-    if not 1 <= index <= len(res.setups):
-        abort(404)
-    s = res.setups[index - 1]
+    _, s = chosen_setup(res)
     ctx = context_of(res.plan, res.derived, fleet, s.instrument_model, s.mode,
                      s.accessory_models)
     if not ctx.instrument.front_end or ctx.mode.clamp:
