@@ -143,8 +143,22 @@ def apply_fleet(session: Session, content: FleetContent, *, actor: str,
         for name in ("serial", "custodian", "status", "verified_on", "verification_due",
                      "notes"):
             setattr(row, name, getattr(rec, name))
+        if rec.status == "on-hold":
+            _hold_from_file(session, row, actor)
     session.flush()
     return report
+
+
+def _hold_from_file(session: Session, unit: m.Unit, actor: str) -> None:
+    """A unit a file marks on-hold gets an open hold, so that it shows among the holds and a
+    steward's release (with its inspection result) is what returns it to service."""
+    session.flush()
+    if unit.id is not None and session.scalar(select(m.Hold.id).where(
+            m.Hold.unit_id == unit.id, m.Hold.released_at.is_(None))) is not None:
+        return
+    session.add(m.Hold(unit=unit, opened_at=utcnow(),
+                       reason=f"marked on-hold in a fleet file imported by {actor}"
+                              + (f": {unit.notes}" if unit.notes else "")))
 
 
 def export_fleet(session: Session) -> FleetContent:

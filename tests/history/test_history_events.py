@@ -6,6 +6,7 @@ Limits come from the demo fleet's model records (seeddata/fleet.yaml: kx-7 rated
 varistor voltage 1800 V) and the impulse table of IEC 61010-2-030:2010 Table 102.
 """
 
+import re
 from datetime import date, datetime
 
 import pytest
@@ -132,10 +133,11 @@ def test_hold_rule(models, kind, symptoms, hold):
     (["--unit", "NB-0001", "--kind", "overvoltage", "--at", "2999-01-01T00:00Z"], "future"),
 ])
 def test_bad_event_exits_2_and_writes_nothing(runner, demo, args, message):
+    holds = count(demo, m.Hold)  # the demo file's on-hold units come with theirs
     result = run(runner, "event", "add", *args, "--by", "tech")
     assert result.exit_code == 2, result.output
     assert message in result.output and "Traceback" not in result.output
-    assert count(demo, m.Event) == 0 and count(demo, m.Hold) == 0
+    assert count(demo, m.Event) == 0 and count(demo, m.Hold) == holds
 
 
 def test_unknown_kind_is_refused(runner, demo):
@@ -157,7 +159,7 @@ def test_cli_prints_the_decision_and_the_hold(runner, demo):
                  "--at", "2026-11-30T10:15:00+01:00")
     assert result.exit_code == 0, result.output
     assert "NOT within rating" in result.output and "1 kV is below the applied 1.2 kV" in result.output
-    assert "Hold 1 opened on NB-0001" in result.output
+    assert re.search(r"Hold \d+ opened on NB-0001", result.output)
     with demo.transaction() as s:
         ev = s.scalar(select(m.Event))
         assert ev.logged_by.username == "tech" and ev.within_rating is False
@@ -180,7 +182,7 @@ def test_release_pass_puts_back_in_service_and_records_it(runner, demo):
                "steward", "--note", "insulation test 2 kV passed")
     assert done.exit_code == 0 and "now in-service" in done.output
     with demo.transaction() as s:
-        h = s.scalar(select(m.Hold))
+        h = s.scalar(select(m.Hold).join(m.Hold.unit).where(m.Unit.tag == "NB-0001"))
         assert h.result == "pass" and h.released_by.username == "steward"
         assert h.notes == "insulation test 2 kV passed" and h.released_at is not None
         statuses = [(c.old, c.new) for c in s.scalars(select(m.Change).where(
@@ -207,13 +209,28 @@ def test_second_hold_keeps_the_unit_held(demo):
     assert rel.holds == (b.hold_id,) and rel.status == "in-service"
 
 
-def test_status_only_hold_is_released_on_record(demo):
-    # the demo sets NB-0003 on-hold by status, with no hold record
+def test_hold_from_the_fleet_file_is_released_on_record(demo):
+    # the demo fleet file marks NB-0003 on-hold; importing it opened a hold with the reason
+    with demo.transaction() as s:
+        h = s.scalar(select(m.Hold).join(m.Hold.unit).where(m.Unit.tag == "NB-0003"))
+        assert h.released_at is None and "fleet file" in h.reason and h.event_id is None
     rel = release_hold(demo, unit="NB-0003", result="pass", by="steward")
     assert rel.status == "in-service"
     with demo.transaction() as s:
-        h = s.scalar(select(m.Hold))
-        assert h.unit.tag == "NB-0003" and h.result == "pass" and h.event_id is None
+        h = s.scalar(select(m.Hold).join(m.Hold.unit).where(m.Unit.tag == "NB-0003"))
+        assert h.result == "pass" and h.released_at is not None
+
+
+def test_status_only_hold_is_released_on_record(demo):
+    # a unit set on-hold by hand in the database, with no hold record
+    with demo.transaction() as s:
+        unit = s.scalar(select(m.Unit).where(m.Unit.tag == "NB-0004"))
+        unit.status = "on-hold"
+    rel = release_hold(demo, unit="NB-0004", result="pass", by="steward")
+    assert rel.status == "in-service"
+    with demo.transaction() as s:
+        h = s.scalar(select(m.Hold).join(m.Hold.unit).where(m.Unit.tag == "NB-0004"))
+        assert h.result == "pass" and h.event_id is None
 
 
 def test_bad_release_input(demo):

@@ -131,8 +131,9 @@ def test_events_post_roles_and_hold_release(client, tokens):
     listed = client.get("/api/v1/events?unit=NB-0001", headers=bearer(tokens["viewer"])).get_json()
     assert [e["note"] for e in listed["events"]] == ["arc at the tip"]
     holds = client.get("/api/v1/holds", headers=bearer(tokens["viewer"])).get_json()["holds"]
-    assert [h["unit"] for h in holds] == ["NB-0001"]
-    hold_id = holds[0]["id"]
+    # the demo file's two on-hold units (NB-0003, LD-0011) and the new one
+    assert sorted(h["unit"] for h in holds) == ["LD-0011", "NB-0001", "NB-0003"]
+    hold_id = next(h["id"] for h in holds if h["unit"] == "NB-0001")
     path = f"/api/v1/holds/{hold_id}/release"
     assert client.post(path, headers=bearer(tokens["technician"]),
                        json={"result": "pass"}).status_code == 403
