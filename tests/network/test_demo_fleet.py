@@ -67,3 +67,34 @@ def test_kx7_lowz_trips_its_ptc_and_states_it(fleet):
     assert pt and "trips after about" in pt[0].message
     cons = [f for f in fs if f.check == "input-consistency"]
     assert [f.status for f in cons] == ["pass"]  # R1 + PT1 + RL = 3 kohm as stated
+
+
+def test_readme_claims_on_the_distribution_board(fleet):
+    """What the README says of the demo front ends on the 480 V / 277 V CAT III board:
+    the KX-3's varistor (max_ac 300 V, from the demo data) fails in steady state; the KX-7's
+    elements all pass in vac."""
+    plan = dict(working_voltage=480.0, waveform="ac", source_impedance=0.02,
+                impulse_peak=4000.0,  # IEC 61010-2-030 Table 102, CAT III, 300 V row
+                generator_impedance=2.0, capacitance=None, safe_voltage=30.0, altitude=120.0,
+                duration=30.0)
+    kx3 = fleet.models["kx-3"]
+    rv1 = [f for f in protection_path_findings(kx3, kx3.mode("vac"), **plan)
+           if f.subject.endswith("RV1") and "steady" in f.message]
+    assert rv1 and rv1[0].status == "fail" and "300 V" in rv1[0].available
+    kx7 = fleet.models["kx-7"]
+    statuses = {f.status for f in protection_path_findings(kx7, kx7.mode("vac"), **plan)}
+    assert statuses <= {"pass", "not-run"}
+
+
+def test_readme_claim_kx7_lowz_discharge(fleet):
+    """2 mF at 800 V through the KX-7 in low-Z: the PTC trips early and R1 stays within its
+    pulse energy (the check that fails this setup is the mode's 20 J rating, check 9)."""
+    kx7 = fleet.models["kx-7"]
+    fs = protection_path_findings(kx7, kx7.mode("lowz"), working_voltage=800.0, waveform="dc",
+                                  source_impedance=None, impulse_peak=None,
+                                  generator_impedance=None, capacitance=2e-3, safe_voltage=50.0,
+                                  altitude=40.0, duration=60.0)
+    discharge = [f for f in fs if "discharge" in f.message]
+    assert any("trips after" in f.message for f in discharge if f.subject.endswith("PT1"))
+    r1 = [f for f in discharge if f.subject.endswith("R1")]
+    assert r1 and r1[0].status == "pass"
