@@ -5,16 +5,21 @@ from __future__ import annotations
 import io
 
 import segno
-from flask import Blueprint, Response, abort, render_template, request, url_for
+from flask import (Blueprint, Response, abort, flash, redirect, render_template, request,
+                   url_for)
+from flask_login import current_user
 from sqlalchemy import select
 
 from ..engine import spec
 from ..engine.quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, POWER, RESISTANCE, TIME,
                                VOLTAGE, format_quantity)
+from ..errors import InvalidInput
 from ..extensions import db
+from ..formats.fleet import FORMAT, unit_to_document
 from ..store import models as m
 from ..store import queries
-from ..store.specs import model_spec
+from ..store.fleet import import_fleet
+from ..store.specs import model_spec, unit_record
 from .auth import role_required
 from .forms import FieldErrors, quantity_or_none
 
@@ -87,6 +92,49 @@ def unit(tag: str):
     hold = next((h for h in row.holds if h.released_at is None), None)
     return render_template("fleet/unit.html", unit=row, model=model_spec(row.model),
                            timeline=queries.unit_timeline(db.session, row), hold=hold)
+
+
+# What a steward may change on a unit's page; the model and tag stay, and a hold is opened by
+# an event and closed by a release, so "on-hold" is not offered as a status to pick.
+EDITABLE = ("serial", "site", "custodian", "status", "verified_on", "verification_due", "notes")
+PICKABLE_STATUSES = ("in-service", "away", "retired")
+
+
+@bp.route("/units/<tag>/edit", methods=["GET", "POST"])
+@role_required("steward")
+def edit(tag: str):
+    """Edit a unit's record, validated and recorded exactly as a fleet-file import is."""
+    row = unit_or_404(tag)
+    held = any(h.released_at is None for h in row.holds)
+    current = unit_to_document(unit_record(row))
+    typed = {k: str(current.get(k) or "") for k in EDITABLE}
+    errors = FieldErrors()
+    if request.method == "POST":
+        typed = {k: request.form.get(k, "").strip() for k in EDITABLE}
+        status = typed["status"]
+        if held and status != row.status:
+            errors.add("status", "the unit has an open hold: a steward's release with its "
+                                 "inspection result changes its status")
+        elif not held and status not in PICKABLE_STATUSES and status != row.status:
+            errors.add("status", f"choose one of {', '.join(PICKABLE_STATUSES)}; a hold is "
+                                 "opened by logging an event")
+        if not errors:
+            doc = {"tag": row.tag, "model": row.model.key, "status": status}
+            doc.update({k: v for k, v in typed.items() if v and k != "status"})
+            db.session.rollback()  # the import writes in its own transaction
+            try:
+                report = import_fleet(db.database, {"format": FORMAT, "units": [doc]},
+                                      actor=current_user.username, user_id=current_user.id)
+            except InvalidInput as exc:
+                errors.extend(exc.problems, {f"units[0].{k}": k for k in EDITABLE})
+            else:
+                flash(f"Saved {row.tag}: {len(report.changes)} field"
+                      f"{'' if len(report.changes) == 1 else 's'} changed.")
+                return redirect(url_for("fleet.unit", tag=row.tag))
+    statuses = (row.status,) if held else PICKABLE_STATUSES
+    return render_template("fleet/edit.html", unit=row, typed=typed, errors=errors,
+                           statuses=statuses, held=held,
+                           sites=queries.site_names(db.session)), (400 if errors else 200)
 
 
 def _qr(tag: str):
