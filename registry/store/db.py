@@ -122,7 +122,11 @@ class Database:
         with contextlib.ExitStack() as stack:
             if immediate and self.is_sqlite:
                 conn = stack.enter_context(self.engine.connect())
+                # conn.info lives with the pooled DBAPI connection: take the flag off again
+                # when done, or the next borrower of this connection would begin IMMEDIATE
+                # too and hold the write lock for a whole web request.
                 conn.info["immediate"] = True
+                stack.callback(conn.info.pop, "immediate", None)
                 session = stack.enter_context(Session(bind=conn, expire_on_commit=False))
             else:
                 session = stack.enter_context(self._sessions())

@@ -68,7 +68,7 @@ def release_hold(db: Database, *, unit: str, result: str, by: str, note: str = "
     if result not in INSPECTION_RESULTS:
         raise InvalidInput(f"'{result}' is not an inspection result; use "
                            f"{', '.join(INSPECTION_RESULTS)}", "result")
-    with db.transaction() as session:
+    with db.transaction(immediate=True) as session:  # a writer from the start: no lock upgrade
         user = get_user(session, by)
         require_role(user, RELEASE_ROLES, "releasing a hold")
         row = unit_by_tag(session, unit)

@@ -36,8 +36,9 @@ def naive_utc(t: datetime | None) -> datetime | None:
 
 
 def end_read() -> None:
-    """End the request session's read transaction before the store writes in its own: on
-    SQLite a snapshot left open would make the writer's lock upgrade fail."""
+    """End the request session's read transaction before the store writes in its own, so
+    that what the view reads afterwards (the new event, the released hold) is read in a fresh
+    snapshot: an open SQLite read transaction keeps seeing the database as it was."""
     db.session.rollback()
 
 
