@@ -1,5 +1,7 @@
 """Designed pairs that differ only in topology or one value, and the check's contract."""
 
+import dataclasses
+
 import pytest
 
 from registry.engine.findings import verdict_of
@@ -148,6 +150,16 @@ def test_marks_name_failed_and_closest_elements():
 def test_cache_is_shared_between_models_with_the_same_front_end():
     a = protection_path_report(kx7(key="kx-7a"), VDC, **PLAN)
     b = protection_path_report(kx7(key="kx-7b"), VDC, **PLAN)
-    assert a is b  # one solve for both keys
+    assert a.stresses is b.stresses  # one solve for both keys
+
+
+def test_cache_is_shared_between_modes_that_leave_the_front_end_alike():
+    vac = dataclasses.replace(VDC, key="vac", label="AC volts", waveform="ac")
+    a = protection_path_report(kx7(), VDC, **PLAN)
+    b = protection_path_report(kx7(), vac, **PLAN)
+    assert a.stresses is b.stresses and (a.mode, b.mode) == ("vdc", "vac")
+    lowz = dataclasses.replace(VDC, key="lowz", closes=("S1",), input_resistance=3e3)
+    c = protection_path_report(kx7(), lowz, **PLAN)
+    assert c.stresses is not a.stresses  # S1 closed: another circuit
     fa = protection_path_findings(kx7(key="kx-7a"), VDC, **PLAN)
     assert all(f.subject.startswith("kx-7a") for f in fa)

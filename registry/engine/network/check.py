@@ -70,16 +70,25 @@ def _solved_gaps(net: Netlist) -> set[str]:
     return {id for id, _ in solve_gaps(net)}
 
 
-@lru_cache(maxsize=8192)
 def analyse(net: Netlist, mode_key: str, cond: Conditions) -> PathReport:
     """Solve the three scenarios on ``net`` and hold every element against its limits.
 
-    A netlist that cannot be solved gives one ``unknown`` item naming why."""
+    The solve depends on the netlist (elements, terminals, closed switches) and the
+    conditions only, so modes that leave the front end in the same state (DC and AC volts,
+    say) share one cached solve; ``mode_key`` only names the report."""
+    stresses, dres = _analysed(net, cond)
+    return PathReport(mode_key, stresses, dres)
+
+
+@lru_cache(maxsize=8192)
+def _analysed(net: Netlist, cond: Conditions):
+    """(stresses, discharge result) of :func:`analyse`. A netlist that cannot be solved gives
+    one ``unknown`` item naming why."""
     try:
         check_solvable(net)
     except NetworkError as exc:
-        return PathReport(mode_key, (Stress(None, "steady", "model", "unknown",
-                                            f"{exc}; its stresses are unknown", SRC_PRACTICE),))
+        return (Stress(None, "steady", "model", "unknown",
+                       f"{exc}; its stresses are unknown", SRC_PRACTICE),), None
     gaps = solve_gaps(net)
     unsolved = _solved_gaps(net)
     items: list[Stress] = []
@@ -129,7 +138,7 @@ def analyse(net: Netlist, mode_key: str, cond: Conditions) -> PathReport:
             items += found
             items += _unknown_for([g for g in gaps if g[0] in unsolved] + dres.notes,
                                   "discharge")
-    return PathReport(mode_key, tuple(items), dres)
+    return tuple(items), dres
 
 
 @lru_cache(maxsize=8192)
@@ -284,7 +293,7 @@ def drawing_marks(report: PathReport | None, closest: int = 3) -> dict[str, str]
 def cache_clear() -> None:
     """Forget every cached solve (for benchmarks and tests of the cold path)."""
     from .solver import _compile, _matrix
-    analyse.cache_clear()
+    _analysed.cache_clear()
     netlist_resistance.cache_clear()
     _compile.cache_clear()
     _matrix.cache_clear()
