@@ -76,6 +76,9 @@ def reports_errors(fn):
                  exc.exit_code)
         except WithstandError as exc:
             fail(f"error: {exc}", exc.exit_code)
+        except OSError as exc:  # a file that cannot be written, a port that cannot be bound
+            where = f" ({exc.filename})" if exc.filename else ""
+            fail(f"error: {exc.strerror or exc}{where}", 2)
     return inner
 
 
@@ -122,10 +125,18 @@ def _shown_url(url: str) -> str:
 # -- serving -------------------------------------------------------------------------------------
 
 def _serve(app, host: str, port: int) -> None:
-    import waitress
+    from waitress.server import create_server
+    try:
+        server = create_server(app, host=host, port=port, threads=8, ident="withstand")
+    except OSError as exc:
+        raise InvalidInput(f"cannot listen on {host}:{port}: {exc.strerror or exc}",
+                           "--port") from None
     click.echo(f"withstand is serving on http://{host}:{port}/  (Ctrl-C stops it)")
     sys.stdout.flush()
-    waitress.serve(app, host=host, port=port, threads=8, ident="withstand")
+    try:
+        server.run()
+    except KeyboardInterrupt:
+        click.echo("Stopped.")
 
 
 @main.command()
@@ -232,7 +243,8 @@ def check(plan: Path, as_json: bool, show_all: bool, on: str | None, explain: st
     from .checking import check_registry, plan_from
     from .plans import read_plan_file
     from .report import exit_code, render_text
-    day = _parse_date(on, "--on")
+    from .formats.common import parse_date
+    day = parse_date(on, "--on")
     database = _env().database()
     data = read_plan_file(plan)
     with database.transaction() as session:
@@ -316,16 +328,6 @@ def _parse_time(value: str | None, option: str = "--at"):
         raise InvalidInput(f"'{value}' is not an ISO 8601 time such as 2026-03-01T14:30 or "
                            "2026-03-01T14:30+01:00", option) from None
     return t.astimezone(timezone.utc).replace(tzinfo=None)
-
-
-def _parse_date(value: str | None, option: str):
-    if value is None:
-        return None
-    from datetime import date
-    try:
-        return date.fromisoformat(value.strip())
-    except ValueError:
-        raise InvalidInput(f"'{value}' is not a date such as 2026-03-01", option) from None
 
 
 def _by(username: str | None) -> str:
@@ -447,7 +449,8 @@ def audit_verify():
 def audit_export(out, since, site, on):
     """The audit workbook (xlsx), or one CSV per sheet when --out ends in '/'."""
     from .store.audit import export_audit
-    since_d, on_d = _parse_date(since, "--since"), _parse_date(on, "--on")
+    from .formats.common import parse_date
+    since_d, on_d = parse_date(since, "--since"), parse_date(on, "--on")
     database = _env().database()
     written = export_audit(database, out, since=since_d, site=site, on=on_d,
                            source=_shown_url(_env().url))

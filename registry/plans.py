@@ -13,8 +13,8 @@ from pathlib import Path
 
 import yaml
 
-from .engine.spec import (DEFAULT_DURATION, PLAN_WAVEFORMS, SUPPLIES, TASKS, Circuit, Plan,
-                          SpecError)
+from .engine.spec import (DEFAULT_DURATION, MAINS_CATEGORIES, PLAN_WAVEFORMS, SUPPLIES, TASKS,
+                          Circuit, Plan, SpecError)
 from .errors import FieldProblem, InvalidInput
 from .units import (CAPACITANCE, CURRENT, ENERGY, FREQUENCY, LENGTH, RESISTANCE, TIME,
                     VOLTAGE, format_quantity, parse_quantity)
@@ -28,7 +28,6 @@ CIRCUIT_QUANTITIES = {
 }
 CIRCUIT_FIELDS = ("supply", "category", "waveform") + tuple(CIRCUIT_QUANTITIES)
 SITE_FIELDS = ("name", "altitude", "wet")
-MAINS_CATEGORIES = ("II", "III", "IV")
 # Quantities that must be more than zero: a working voltage of 0 V is no job, and an impedance
 # or a frequency of zero means nothing physical.
 _POSITIVE = {"voltage", "frequency", "source_impedance", "prospective_current",

@@ -111,3 +111,23 @@ def test_unmigrated_database_says_run_init(tmp_path, monkeypatch):
     result = CliRunner().invoke(main, ["export", str(tmp_path / "x.yaml")])
     assert result.exit_code == 2
     assert "run `withstand init`" in result.output
+
+
+def test_busy_port_is_a_message_not_a_traceback(runner, database):
+    import socket
+    with socket.socket() as busy:
+        busy.bind(("127.0.0.1", 0))
+        busy.listen()
+        port = busy.getsockname()[1]
+        result = runner.invoke(main, ["serve", "--port", str(port)])
+    assert result.exit_code == 2
+    assert "--port: cannot listen on 127.0.0.1" in result.output
+    assert "Traceback" not in result.output
+
+
+def test_unwritable_export_path_exits_2(runner, tmp_path):
+    target = tmp_path / "not-a-folder"
+    target.write_text("a file where a folder should be")
+    result = runner.invoke(main, ["export", str(target / "fleet.yaml")])
+    assert result.exit_code == 2 and "error:" in result.output
+    assert "Traceback" not in result.output

@@ -17,6 +17,7 @@ from datetime import date, datetime
 # -- enumerations (the names the files, the database and the CLI share) -----------------------
 
 CATEGORIES = ("II", "III", "IV", "none")
+MAINS_CATEGORIES = CATEGORIES[:3]  # a mains circuit has one of these; "none" is not for mains
 INSTRUMENT_KINDS = ("multimeter", "clamp-meter", "voltage-tester", "insulation-tester",
                     "oscilloscope", "discharge-tool")
 ACCESSORY_KINDS = ("test-leads", "probe", "clip", "hv-divider", "current-clamp")
@@ -290,7 +291,7 @@ class Circuit:
         if self.supply == "mains":
             if self.category is None:
                 raise SpecError("circuit.category: a mains circuit needs a measurement category")
-            _check_choice(self.category, ("II", "III", "IV"), "circuit.category")
+            _check_choice(self.category, MAINS_CATEGORIES, "circuit.category")
         elif self.category is not None:
             raise SpecError("circuit.category applies to mains circuits only")
         if self.waveform == "dc" and self.frequency is not None:

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import json
 import math
+from datetime import date
 from pathlib import Path
 from typing import Annotated, Any
 
@@ -45,6 +46,18 @@ Duration = Quantity(u.TIME)
 Length = Quantity(u.LENGTH)
 Frequency = Quantity(u.FREQUENCY)
 I2t = Quantity(u.I2T)
+
+
+def parse_date(text, field: str) -> date | None:
+    """A calendar date typed as YYYY-MM-DD (blank: ``None``); anything else is refused with a
+    message naming ``field``."""
+    if text is None or not str(text).strip():
+        return None
+    try:
+        return date.fromisoformat(str(text).strip())
+    except ValueError:
+        raise InvalidInput(f"'{text}' is not a date; write it as YYYY-MM-DD, e.g. 2026-03-01",
+                           field) from None
 
 
 def text_defaults(node):

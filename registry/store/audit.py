@@ -24,12 +24,11 @@ from . import models as m
 from .db import Database
 from .events import verify_chain
 from .fleet import utcnow
+from .queries import coverage
 from .specs import all_models, all_units, model_spec
 
 SOON_DAYS = 30  # "soon due": verification due within this many days
 LONG_HOLD_DAYS = 30  # a hold open longer than this is a finding
-COVERAGE_CATEGORIES = ("II", "III", "IV")
-COVERAGE_VOLTAGES = (150.0, 300.0, 600.0, 1000.0)  # the rows of the IEC 61010 impulse table
 SHEETS = ("Summary", "Units", "Models", "Modes", "Events", "Holds", "Changes", "Findings")
 
 OVERDUE_FILL = "F8CBAD"  # light red
@@ -52,23 +51,15 @@ def _ratings(ms: spec.ModelSpec) -> str:
     return "; ".join(rating_text(r) for r in ms.ratings)
 
 
-def can_take(ms: spec.ModelSpec, category: str, voltage: float) -> bool:
-    """A unit of ``ms`` can take CAT ``category`` at ``voltage`` V when one of its ratings is
-    at least that category and that voltage at once (SPEC §5.2)."""
-    return bool(fitting_ratings(ms, category, voltage))
-
-
-def coverage_table(models: dict[str, spec.ModelSpec], units: list[m.Unit]) -> pd.DataFrame:
-    """How many in-service units (status ``in-service``) can take each category and voltage,
-    instruments and accessories counted apart."""
+def coverage_table(session) -> pd.DataFrame:
+    """The dashboard's coverage (:func:`queries.coverage`) as a table: a row per group and
+    category, a column per voltage."""
+    cov = coverage(session)
     rows = []
-    for group, want in (("instruments", True), ("accessories", False)):
-        pool = [models[u.model.key] for u in units if u.status == "in-service"
-                and models[u.model.key].is_instrument == want]
-        for cat in COVERAGE_CATEGORIES:
+    for group, counts in (("instruments", cov.instruments), ("accessories", cov.accessories)):
+        for cat in cov.categories:
             row = {"units": group, "category": f"CAT {cat}"}
-            for v in COVERAGE_VOLTAGES:
-                row[f"{v:g} V"] = sum(1 for ms in pool if can_take(ms, cat, v))
+            row.update({f"{v:g} V": counts[(cat, v)] for v in cov.voltages})
             rows.append(row)
     return pd.DataFrame(rows)
 
@@ -328,7 +319,7 @@ def build_audit(session: Session, *, since: date | None = None, site: str | None
         "Findings": pd.DataFrame(findings, columns=["finding", "subject", "detail", "date",
                                                     "days"]),
     }
-    return Audit(summary, coverage_table(models, units), sheets, overdue, held,
+    return Audit(summary, coverage_table(session), sheets, overdue, held,
                  {h.id for h in holds if h.released_at is None})
 
 

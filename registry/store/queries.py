@@ -12,7 +12,7 @@ from sqlalchemy.orm import Session, selectinload
 from ..engine import spec
 from . import models as m
 
-MAINS_CATEGORIES = ("II", "III", "IV")
+MAINS_CATEGORIES = spec.MAINS_CATEGORIES
 # The rows of the coverage chart: the voltage rows of the impulse table that check 3 rounds up
 # to (SPEC §5.3), which are also the voltages ratings are usually stated at.
 COVERAGE_VOLTAGES = (150.0, 300.0, 600.0, 1000.0)
@@ -129,15 +129,6 @@ def recent_events(session: Session, limit: int = 10) -> list[m.Event]:
         .options(selectinload(m.Event.unit), selectinload(m.Event.logged_by))))
 
 
-def rating_takes(rating_category: str, rating_voltage: float, category: str,
-                 voltage: float) -> bool:
-    """One rating covers a mains category and voltage (SPEC §5.2), the same rule as
-    :func:`_takes`, for rows already loaded."""
-    return (rating_category in MAINS_CATEGORIES
-            and MAINS_CATEGORIES.index(rating_category) >= MAINS_CATEGORIES.index(category)
-            and rating_voltage >= voltage)
-
-
 @dataclass
 class Coverage:
     voltages: tuple[float, ...]
@@ -152,22 +143,22 @@ class Coverage:
 
 def coverage(session: Session) -> Coverage:
     """For each mains category and voltage row: how many in-service instruments, and how many
-    in-service accessories, have a rating that takes it."""
+    in-service accessories, have a rating that takes it, by the engine's own rule (a rating at
+    least that category and that voltage at once, SPEC §5.2). The dashboard and the audit
+    workbook both show this."""
+    from ..engine.checks import fitting_ratings
+    from .specs import all_models, model_spec
+    specs = {row.key: model_spec(row) for row in all_models(session)}
     out = Coverage(COVERAGE_VOLTAGES, MAINS_CATEGORIES)
-    units = session.scalars(select(m.Unit).where(m.Unit.status == "in-service").options(
-        selectinload(m.Unit.model).selectinload(m.Model.ratings)))
-    for unit in units:
-        table = (out.instruments if unit.model.kind in spec.INSTRUMENT_KINDS
-                 else out.accessories)
-        for cat in MAINS_CATEGORIES:
-            for v in COVERAGE_VOLTAGES:
-                table.setdefault((cat, v), 0)
-                if any(rating_takes(r.category, r.voltage, cat, v) for r in unit.model.ratings):
-                    table[(cat, v)] += 1
     for table in (out.instruments, out.accessories):
-        for cat in MAINS_CATEGORIES:
-            for v in COVERAGE_VOLTAGES:
-                table.setdefault((cat, v), 0)
+        table.update({(cat, v): 0 for cat in MAINS_CATEGORIES for v in COVERAGE_VOLTAGES})
+    for key in session.scalars(select(m.Model.key).join(m.Unit.model)
+                               .where(m.Unit.status == "in-service")):
+        ms = specs[key]
+        table = out.instruments if ms.is_instrument else out.accessories
+        for cat, v in table:
+            if fitting_ratings(ms, cat, v):
+                table[(cat, v)] += 1
     return out
 
 

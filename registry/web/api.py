@@ -19,7 +19,7 @@ from .. import units as u
 from ..engine import spec
 from ..errors import FieldProblem, InvalidInput, NotAllowed, NotFound
 from ..extensions import csrf, db
-from ..formats.common import text_defaults
+from ..formats.common import parse_date, text_defaults
 from ..formats.fleet import ModelDoc, UnitDoc, model_to_document, unit_to_document
 from ..store import models as m
 from ..store import queries
@@ -104,13 +104,7 @@ def json_body():
 
 
 def _date_arg(name: str) -> date | None:
-    text = request.args.get(name, "").strip()
-    if not text:
-        return None
-    try:
-        return date.fromisoformat(text)
-    except ValueError:
-        raise InvalidInput(f"'{text}' is not a date; write it as YYYY-MM-DD", name) from None
+    return parse_date(request.args.get(name), name)
 
 
 def unit_json(row: m.Unit) -> dict:

@@ -10,6 +10,7 @@ from flask import Blueprint, Response, render_template, request
 
 from ..errors import InvalidInput
 from ..extensions import db
+from ..formats.common import parse_date
 from ..store import queries
 from ..store.events import verify_chain
 from .auth import role_required
@@ -23,11 +24,10 @@ XLSX = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet"
 def audit_args(args, errors: FieldErrors) -> tuple[date | None, str | None, dict]:
     typed = {"since": args.get("since", "").strip(), "site": args.get("site", "").strip()}
     since = None
-    if typed["since"]:
-        try:
-            since = date.fromisoformat(typed["since"])
-        except ValueError:
-            errors.add("since", f"'{typed['since']}' is not a date; write it as YYYY-MM-DD")
+    try:
+        since = parse_date(typed["since"], "since")
+    except InvalidInput as exc:
+        errors.extend(exc.problems, {"since": "since"})
     sites = queries.site_names(db.session)
     if typed["site"] and typed["site"] not in sites:
         errors.add("site", f"'{typed['site']}' is not a site of the fleet")

@@ -16,7 +16,7 @@ from flask import Blueprint, Response, abort, render_template, request, url_for
 from ..engine.spec import PLAN_WAVEFORMS, SUPPLIES, TASKS
 from ..errors import InvalidInput
 from ..extensions import db
-from ..formats.common import parse_text
+from ..formats.common import parse_date, parse_text
 from ..plans import CIRCUIT_QUANTITIES, FORMAT
 from ..store import queries
 from ..checking import plan_from, run_check
@@ -96,12 +96,10 @@ def field_of(path: str) -> str:
 
 
 def parse_on(text: str, errors: FieldErrors) -> date | None:
-    if not text:
-        return None
     try:
-        return date.fromisoformat(text)
-    except ValueError:
-        errors.add("on", f"'{text}' is not a date; write it as YYYY-MM-DD")
+        return parse_date(text, "on")
+    except InvalidInput as exc:
+        errors.extend(exc.problems, {"on": "on"})
         return None
 
 
