@@ -16,6 +16,9 @@ from datetime import date, datetime
 
 # -- enumerations (the names the files, the database and the CLI share) -----------------------
 
+# The one list of measurement categories, lowest first: IEC 61010-1 measurement categories
+# CAT II < CAT III < CAT IV. Their order (engine/rules.py: category_rank, categories_at_least),
+# the store's filters and the web forms all come from it; "none" is not for mains.
 CATEGORIES = ("II", "III", "IV", "none")
 MAINS_CATEGORIES = CATEGORIES[:3]  # a mains circuit has one of these; "none" is not for mains
 INSTRUMENT_KINDS = ("multimeter", "clamp-meter", "voltage-tester", "insulation-tester",
