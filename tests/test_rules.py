@@ -87,3 +87,76 @@ def rating_db(database):
     with database.session() as session:
         specs = {f"u-{row.key}": model_spec(row) for row in all_models(session)}
         yield session, specs
+
+
+# -- verification dates ------------------------------------------------------------------------
+
+BASE = date(2026, 3, 10)
+OFFSETS = (-40, -31, -30, -2, -1, 0, 1, 2, 29, 30, 31, 89, 90, 91)
+
+
+def dated_fleet():
+    """A unit of every status due on days around BASE, and one of each with no date."""
+    models = [{"key": "leads", "kind": "test-leads", "connector": "a",
+               "ratings": [_rating("III", 600.0)]}]
+    units = []
+    for status in spec.UNIT_STATUSES:
+        for k in OFFSETS + (None,):
+            u = {"tag": f"u-{status}-{'none' if k is None else k}", "model": "leads",
+                 "status": status}
+            if k is not None:
+                u["verification_due"] = (BASE + timedelta(days=k)).isoformat()
+            units.append(u)
+    return {"format": "withstand-fleet/1", "models": models, "units": units}
+
+
+@pytest.fixture
+def dated_db(database):
+    import_fleet(database, dated_fleet())
+    with database.session() as session:
+        from registry.store import models as m
+        from sqlalchemy import select
+        units = {u.tag: (u.status, u.verification_due) for u in session.scalars(select(m.Unit))}
+        yield session, units
+
+
+@given(shift=st.integers(min_value=-95, max_value=95), days=st.sampled_from((0, 1, 30, 90)))
+@RULE_SETTINGS
+def test_the_sql_due_filters_are_the_engines_overdue_rule(dated_db, shift, days):
+    """The fleet list's "overdue" and "due within" filters and the dashboard's list (SQL) pick
+    exactly the units the engine's rules pick, on every day around the due dates: the due day
+    itself is not overdue, the day after is."""
+    session, units = dated_db
+    on = BASE + timedelta(days=shift)
+    page = queries.fleet_page(session, queries.FleetQuery(due="overdue", size=1000), today=on)
+    assert {u.tag for u in page.units} == {
+        t for t, (s, due) in units.items() if rules.unit_overdue(s, due, on)}
+    soon = {u.tag for u in queries.due_soon(session, days, today=on)}
+    assert soon == {t for t, (s, due) in units.items() if rules.unit_due_within(s, due, on, days)}
+    if str(days) in queries.DUE_FILTERS:
+        page = queries.fleet_page(session, queries.FleetQuery(due=str(days), size=1000),
+                                  today=on)
+        assert {u.tag for u in page.units} == soon
+
+
+def test_overdue_boundary_day():
+    # common practice (no source): due on the day is still good that day, overdue the next
+    due = date(2026, 3, 10)
+    assert not rules.verification_overdue(due, due)
+    assert rules.verification_overdue(due, due + timedelta(days=1))
+    assert not rules.verification_overdue(None, due)
+    assert rules.unit_due_within("in-service", due, due - timedelta(days=30), 30)
+    assert not rules.unit_due_within("in-service", due, due - timedelta(days=31), 30)
+
+
+def test_the_fleet_lists_overdue_the_units_the_audit_counts(database):
+    """A retired unit's lapsed date is no finding in the audit workbook, and the dashboard
+    leaves it out; the fleet list's "overdue" filter listed it all the same."""
+    from registry.store.audit import build_audit
+    import_fleet(database, dated_fleet())
+    with database.session() as session:
+        page = queries.fleet_page(session, queries.FleetQuery(due="overdue", size=1000),
+                                  today=BASE)
+        listed = {u.tag for u in page.units}
+        assert "u-retired--1" not in listed
+        assert listed == build_audit(session, on=BASE).overdue_tags

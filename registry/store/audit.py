@@ -17,7 +17,7 @@ import pandas as pd
 from sqlalchemy import select
 from sqlalchemy.orm import Session, selectinload
 
-from ..engine import spec
+from ..engine import rules, spec
 from ..engine.checks import fitting_ratings, rating_text, withstand_of
 from ..errors import InvalidInput
 from . import models as m
@@ -171,16 +171,16 @@ def build_audit(session: Session, *, since: date | None = None, site: str | None
     for u in units:
         ms = models[u.model.key]
         due = u.verification_due
-        late = (on - due).days if due is not None and due < on else None
+        late = (on - due).days if rules.verification_overdue(due, on) else None
         hold = open_by_unit.get(u.id)
-        in_use = u.status not in ("retired",)
-        if late is not None and in_use:
+        in_use = u.status in rules.VERIFIED_STATUSES
+        if rules.unit_overdue(u.status, due, on):
             overdue.add(u.tag)
             findings.append({"finding": "overdue", "subject": u.tag,
                              "detail": f"verification was due {due.isoformat()}, {late} days "
                                        f"before {on.isoformat()} ({u.status})",
                              "date": _as_date(due), "days": late})
-        elif due is not None and in_use and u.status != "away" and 0 <= (due - on).days <= SOON_DAYS:
+        elif rules.unit_due_within(u.status, due, on, SOON_DAYS) and u.status != "away":
             findings.append({"finding": "due soon", "subject": u.tag,
                              "detail": f"verification due {due.isoformat()}, in "
                                        f"{(due - on).days} days",
