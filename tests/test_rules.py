@@ -160,3 +160,30 @@ def test_the_fleet_lists_overdue_the_units_the_audit_counts(database):
         listed = {u.tag for u in page.units}
         assert "u-retired--1" not in listed
         assert listed == build_audit(session, on=BASE).overdue_tags
+
+
+# -- connector fit -----------------------------------------------------------------------------
+
+def test_the_audit_fits_connectors_as_the_setups_do():
+    """A probe that plugs into a tester's integrated leads is a setup the engine builds; the
+    audit skipped instruments with integrated leads, so a CAT II probe on a CAT III tester
+    went unreported. The rule that a setup is held to the lower rating of its parts: the
+    reading of IEC 61010-031 accessory ratings as the trade applies it (common practice,
+    no source)."""
+    from registry.engine.derived import derive
+    from registry.engine.setups import enumerate_setups
+    from registry.engine.spec import Mode, ModelSpec, Rating
+    from registry.store.audit import accessories_below
+    from tests.engine.builders import panel_plan
+    tester = ModelSpec(key="vt-2", kind="voltage-tester", integrated_leads=True,
+                       connectors=("tip-2mm",), ratings=(Rating("III", 1000.0),),
+                       modes=(Mode("v", "Volts", "voltage", "both", ("L1", "L2"),
+                                   input_resistance=200e3, max_input=1000.0),))
+    probe = ModelSpec(key="pr-9", kind="probe", connector="tip-2mm",
+                      ratings=(Rating("II", 600.0),))
+    plan = panel_plan(task="verify-absence")
+    shapes = {(c.instrument.key, c.tip.key if c.tip else None)
+              for c in enumerate_setups(plan, derive(plan), [tester, probe])}
+    assert ("vt-2", "pr-9") in shapes  # the setups put the probe on the tester
+    assert ("pr-9", "vt-2", "CAT III 1 kV") in accessories_below(
+        {"vt-2": tester, "pr-9": probe})

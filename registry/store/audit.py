@@ -19,6 +19,7 @@ from sqlalchemy.orm import Session, selectinload
 
 from ..engine import rules, spec
 from ..engine.checks import fitting_ratings, rating_text, withstand_of
+from ..engine.setups import lead_connects, tip_connects
 from ..errors import InvalidInput
 from . import models as m
 from .db import Database
@@ -103,20 +104,22 @@ def _shortfall(acc: spec.ModelSpec, inst: spec.ModelSpec) -> list[str]:
 def accessories_below(models: dict[str, spec.ModelSpec]) -> list[tuple[str, str, str]]:
     """(accessory, instrument, what it does not cover) for every lead-type accessory or tip
     that fits an instrument (by connector) but lacks a rating the instrument has: the setup is
-    held to the lower of the two (SPEC §5.2). Dividers face another circuit than the
-    instrument and are left out."""
-    instruments = [x for x in models.values() if x.is_instrument and not x.integrated_leads]
-    leads = [x for x in models.values() if x.kind in ("test-leads", "current-clamp")]
+    held to the lower of the two. A tip on an instrument's integrated leads counts too.
+    Dividers face another circuit than the instrument, and a current clamp reads a current:
+    both are left out."""
+    instruments = [x for x in models.values() if x.is_instrument]
+    leads = [x for x in models.values() if x.kind == "test-leads"]
     tips = [x for x in models.values() if x.kind in spec.TIP_KINDS]
     out = []
     for inst in instruments:
-        served = [ld for ld in leads if ld.connector in inst.connectors]
+        # connector fit is the setups' own rule (lead_connects, tip_connects)
+        served = [ld for ld in leads if lead_connects(inst, ld)]
         for ld in served:
             short = _shortfall(ld, inst)
-            if short and ld.kind == "test-leads":
+            if short:
                 out.append((ld.key, inst.key, ", ".join(short)))
-        tip_keys = {t.key for ld in served if ld.kind == "test-leads" for t in tips
-                    if t.connector in ld.connectors}
+        holders = served if not inst.integrated_leads else [None]
+        tip_keys = {t.key for ld in holders for t in tips if tip_connects(inst, ld, t)}
         for key in sorted(tip_keys):
             short = _shortfall(models[key], inst)
             if short:
