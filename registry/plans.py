@@ -13,8 +13,8 @@ from pathlib import Path
 
 import yaml
 
-from .engine.spec import (DEFAULT_DURATION, MAINS_CATEGORIES, PLAN_WAVEFORMS, SUPPLIES, TASKS,
-                          Circuit, Plan, SpecError)
+from .engine.spec import (DEFAULT_DURATION, Circuit, Plan, SpecError, circuit_problems,
+                          plan_problems)
 from .errors import FieldProblem, InvalidInput
 from .units import (CAPACITANCE, CURRENT, ENERGY, FREQUENCY, LENGTH, RESISTANCE, TIME,
                     VOLTAGE, format_quantity, parse_quantity)
@@ -28,10 +28,9 @@ CIRCUIT_QUANTITIES = {
 }
 CIRCUIT_FIELDS = ("supply", "category", "waveform") + tuple(CIRCUIT_QUANTITIES)
 SITE_FIELDS = ("name", "altitude", "wet")
-# Quantities that must be more than zero: a working voltage of 0 V is no job, and an impedance
-# or a frequency of zero means nothing physical.
-_POSITIVE = {"voltage", "frequency", "source_impedance", "prospective_current",
-             "capacitance", "stored_energy", "current", "transient"}
+# What a plan's values must be (enumerations, bounds, what each task needs) is the engine's
+# rule, spec.circuit_problems and spec.plan_problems, which the Circuit and Plan dataclasses
+# also raise; this module reads the document and reports those problems with their paths.
 
 
 class _Problems:
@@ -41,11 +40,19 @@ class _Problems:
     def add(self, path: str, message: str):
         self.items.append(FieldProblem(path, message))
 
-    def quantity(self, data: dict, key: str, dim, path: str, *, positive=False):
+    def rules(self, problems):
+        """The engine's problems, less those of a field already reported (one that did not
+        parse is ``None`` to the rules, which would call it missing)."""
+        seen = {item.path for item in self.items}
+        for path, message in problems:
+            if path not in seen:
+                self.add(path, message)
+
+    def quantity(self, data: dict, key: str, dim, path: str):
         if key not in data or data[key] is None:
             return None
         try:
-            return parse_quantity(data[key], dim, path, allow_zero=not positive)
+            return parse_quantity(data[key], dim, path)
         except InvalidInput as e:
             self.items.extend(e.problems)
             return None
@@ -57,16 +64,11 @@ class _Problems:
                 self.add(path, f"is not a field of a plan{' ' + prefix if prefix else ''}; "
                          f"the fields are {', '.join(allowed)}")
 
-    def choice(self, data: dict, key: str, choices, path: str, required=True):
+    @staticmethod
+    def name(data: dict, key: str):
+        """A name field as text (the rules check it against their enumeration)."""
         value = data.get(key)
-        if value is None:
-            if required:
-                self.add(path, f"is missing; give one of {', '.join(choices)}")
-            return None
-        if not isinstance(value, str) or value not in choices:
-            self.add(path, f"'{value}' is not one of {', '.join(choices)}")
-            return None
-        return value
+        return value if value is None or isinstance(value, str) else str(value)
 
 
 def parse_plan(data, on: date | None = None, *, sites: dict[str, float] | None = None) -> Plan:
@@ -87,7 +89,7 @@ def parse_plan(data, on: date | None = None, *, sites: dict[str, float] | None =
     if not isinstance(title, str):
         p.add("title", "must be text")
         title = ""
-    task = p.choice(data, "task", TASKS, "task")
+    task = p.name(data, "task")
 
     circuit_data = data.get("circuit")
     c: dict = {}
@@ -97,19 +99,10 @@ def parse_plan(data, on: date | None = None, *, sites: dict[str, float] | None =
         circuit_data = None
     else:
         p.unknown(circuit_data, CIRCUIT_FIELDS, "circuit")
-        c["supply"] = p.choice(circuit_data, "supply", SUPPLIES, "circuit.supply")
-        c["waveform"] = p.choice(circuit_data, "waveform", PLAN_WAVEFORMS, "circuit.waveform")
-        raw_cat = circuit_data.get("category")
-        if raw_cat is not None and not isinstance(raw_cat, str):
-            raw_cat = str(raw_cat)
-        c["category"] = raw_cat
+        for key in ("supply", "waveform", "category"):
+            c[key] = p.name(circuit_data, key)
         for key, dim in CIRCUIT_QUANTITIES.items():
-            c[key] = p.quantity(circuit_data, key, dim, f"circuit.{key}",
-                                positive=key in _POSITIVE)
-        if "voltage" not in circuit_data or circuit_data.get("voltage") is None:
-            p.add("circuit.voltage", "is missing; give the highest working voltage between "
-                  "the probed points, such as '480 V'")
-        _circuit_rules(p, c, circuit_data, task)
+            c[key] = p.quantity(circuit_data, key, dim, f"circuit.{key}")
 
     site_name, altitude, wet = None, None, False
     site = data.get("site")
@@ -137,52 +130,29 @@ def parse_plan(data, on: date | None = None, *, sites: dict[str, float] | None =
             p.add("site.wet", "must be true or false")
             wet = False
 
-    duration = p.quantity(data, "duration", TIME, "duration", positive=True)
+    duration = p.quantity(data, "duration", TIME, "duration")
+    duration = DEFAULT_DURATION if duration is None else duration
     discharge_to = p.quantity(data, "discharge_to", VOLTAGE, "discharge_to")
-    if discharge_to is not None and task is not None and task != "discharge":
-        p.add("discharge_to", "applies to discharge tasks only")
-    if (discharge_to is not None and c.get("voltage") is not None
-            and discharge_to >= c["voltage"]):
-        p.add("discharge_to", "must be below the circuit's voltage")
 
-    if p.items:
+    # the engine's rules, the same ones Circuit and Plan raise, with their paths
+    circuit = None
+    if circuit_data is not None:
+        problems = circuit_problems(**c)
+        p.rules(problems)
+        if not problems:
+            circuit = Circuit(**c)
+    p.rules(plan_problems(task, circuit, altitude=altitude, duration=duration,
+                          discharge_to=discharge_to))
+
+    if p.items or circuit is None:
         raise InvalidInput(p.items)
     try:
-        circuit = Circuit(**c)
         return Plan(task=task, circuit=circuit, title=title, site=site_name,
-                    altitude=altitude, wet=wet,
-                    duration=DEFAULT_DURATION if duration is None else duration,
+                    altitude=altitude, wet=wet, duration=duration,
                     discharge_to=discharge_to, on=on)
-    except SpecError as e:  # the rules above should have caught it: say so plainly anyway
-        raise InvalidInput(str(e)) from None
-
-
-def _circuit_rules(p: _Problems, c: dict, raw: dict, task: str | None):
-    supply, cat = c.get("supply"), c.get("category")
-    if supply == "mains":
-        if cat is None:
-            p.add("circuit.category", "is missing; a mains circuit needs its measurement "
-                  "category (II, III or IV)")
-        elif cat not in MAINS_CATEGORIES:
-            p.add("circuit.category", f"'{cat}' is not one of II, III, IV")
-    elif supply == "isolated" and cat is not None:
-        p.add("circuit.category", "applies to mains circuits only; an isolated circuit has "
-              "no measurement category")
-    if c.get("waveform") == "dc" and raw.get("frequency") is not None:
-        p.add("circuit.frequency", "a dc circuit has no frequency")
-    if raw.get("source_impedance") is not None and raw.get("prospective_current") is not None:
-        p.add("circuit.prospective_current", "give source_impedance or prospective_current, "
-              "not both")
-    if raw.get("capacitance") is not None and raw.get("stored_energy") is not None:
-        p.add("circuit.stored_energy", "give capacitance or stored_energy, not both")
-    if task == "discharge" and raw.get("capacitance") is None \
-            and raw.get("stored_energy") is None:
-        p.add("circuit.capacitance", "a discharge task needs the capacitance (or "
-              "circuit.stored_energy)")
-    if task == "measure-current" and raw.get("current") is None:
-        p.add("circuit.current", "a measure-current task needs the current, such as '40 A'")
-    if task is not None and task != "measure-current" and raw.get("current") is not None:
-        p.add("circuit.current", "applies to measure-current tasks only")
+    except SpecError as e:  # the same rules ran above: say so plainly anyway
+        raise InvalidInput([FieldProblem(path, msg) for path, msg in e.problems]
+                           or str(e)) from None
 
 
 def read_plan_file(path) -> dict:

@@ -129,3 +129,101 @@ def test_schema_and_parser_agree_on_fields_and_rules():
                  {"task": "measure-current"}, {"discharge_to": "50 V"}):
         assert list(validator.iter_errors(board(**over))), over
     assert not list(validator.iter_errors(board()))
+
+
+# -- one set of rules: the plan format reports what the engine's dataclasses raise ----------
+
+from hypothesis import given, settings, strategies as st  # noqa: E402
+
+from registry.engine import spec  # noqa: E402
+
+_UNITS = {"voltage": "V", "voltage_to_earth": "V", "frequency": "Hz", "transient": "V",
+          "source_impedance": "ohm", "prospective_current": "A", "capacitance": "F",
+          "stored_energy": "J", "current": "A"}
+_AMOUNTS = st.sampled_from((None, 0.0, 0.5, 60.0, 480.0, 1000.0))
+
+
+_NAMES = {"task": spec.TASKS + (None, "paint"), "supply": spec.SUPPLIES + (None, "battery"),
+          "waveform": spec.PLAN_WAVEFORMS + (None, "pulse"),
+          "category": spec.CATEGORIES + (None, "V")}
+
+
+@st.composite
+def raw_plans(draw):
+    """Plan values: a good plan, then up to three fields changed to any value of their
+    domain, good or bad (every enumeration value and some that are none of them, quantities of
+    zero and above, fields a task does or does not take)."""
+    task = draw(st.sampled_from(spec.TASKS))
+    supply = draw(st.sampled_from(spec.SUPPLIES))
+    names = {"task": task, "supply": supply, "waveform": draw(st.sampled_from(("ac", "dc"))),
+             "category": draw(st.sampled_from(spec.MAINS_CATEGORIES)) if supply == "mains"
+             else None}
+    amounts = dict.fromkeys(_UNITS)
+    amounts["voltage"] = draw(st.sampled_from((60.0, 480.0, 1000.0)))
+    if task == "discharge":
+        amounts["capacitance"] = 1e-3
+    if task == "measure-current":
+        amounts["current"] = 40.0
+    extra = {"discharge_to": None, "duration": 60.0}
+    fields = sorted(_NAMES) + sorted(_UNITS) + sorted(extra)
+    for field in draw(st.lists(st.sampled_from(fields), max_size=3, unique=True)):
+        if field in _NAMES:
+            names[field] = draw(st.sampled_from(_NAMES[field]))
+        elif field == "duration":
+            extra[field] = draw(st.sampled_from((0.0, 1.0, 60.0)))
+        else:
+            (amounts if field in amounts else extra)[field] = draw(_AMOUNTS)
+    return names, amounts, extra["discharge_to"], extra["duration"]
+
+
+def _spec_verdict(names, amounts, discharge_to, duration):
+    """The engine's answer: the paths its dataclasses raise, or the plan they build."""
+    try:
+        circuit = spec.Circuit(supply=names["supply"], waveform=names["waveform"],
+                               category=names["category"], **amounts)
+        return spec.Plan(task=names["task"], circuit=circuit, altitude=40.0,
+                         duration=duration, discharge_to=discharge_to), set()
+    except spec.SpecError as e:
+        return None, {path for path, _ in e.problems}
+
+
+@given(raw_plans())
+@settings(max_examples=300, deadline=None)
+def test_the_plan_format_and_the_engine_cannot_disagree(raw):
+    """A plan document is accepted exactly when the engine's Circuit and Plan accept its
+    values, and each field the engine objects to is named in the format's problems. (The
+    format once asked more than the engine: a 0 V circuit, a current on a voltage task and a
+    discharge target above the working voltage passed the dataclasses.)"""
+    names, amounts, discharge_to, duration = raw
+    plan, spec_paths = _spec_verdict(names, amounts, discharge_to, duration)
+    doc = {"format": "withstand-plan/1", "site": {"altitude": "40 m"},
+           "duration": f"{duration!r} s",
+           "circuit": {k: f"{v!r} {_UNITS[k]}" for k, v in amounts.items() if v is not None}}
+    if names["task"] is not None:
+        doc["task"] = names["task"]
+    for key in ("supply", "waveform", "category"):
+        if names[key] is not None:
+            doc["circuit"][key] = names[key]
+    if discharge_to is not None:
+        doc["discharge_to"] = f"{discharge_to!r} V"
+    try:
+        parsed = parse_plan(doc)
+    except InvalidInput as e:
+        assert plan is None, [(p.path, p.message) for p in e.problems]
+        assert spec_paths <= {p.path for p in e.problems}
+    else:
+        assert parsed == plan
+
+
+@pytest.mark.parametrize("make,path", [
+    # common practice (no source): a 0 V circuit is no job
+    (lambda: spec.Circuit("isolated", "dc", 0.0), "circuit.voltage"),
+    (lambda: spec.Plan("measure-voltage", spec.Circuit("isolated", "dc", 48.0, current=2.0)),
+     "circuit.current"),
+    (lambda: spec.Plan("discharge", spec.Circuit("isolated", "dc", 48.0, capacitance=1e-3),
+                       discharge_to=60.0), "discharge_to"),
+])
+def test_the_dataclasses_hold_the_rules_the_format_held(make, path):
+    with pytest.raises(spec.SpecError) as e:
+        make()
+    assert path in {p for p, _ in e.value.problems}

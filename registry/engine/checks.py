@@ -16,6 +16,7 @@ from .findings import Finding, headroom
 from .quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, POWER, RESISTANCE, TIME, VOLTAGE,
                        format_quantity as fq)
 from .setups import LOW_Z, SetupContext
+from .rules import rating_covers
 from .spec import DEFAULT_MAX_ALTITUDE, Fuse, ModelSpec, Rating
 
 SRC_CATEGORY = "IEC 61010-1:2010 (instruments), IEC 61010-031:2015 (probe assemblies): " \
@@ -67,15 +68,9 @@ def category_requirement(ctx: SetupContext, item: ModelSpec) -> tuple[str | None
 
 def fitting_ratings(item: ModelSpec, category: str | None, need: float) -> list[Rating]:
     """Ratings of ``item`` that cover the requirement. Neither a higher category at a lower
-    voltage nor a higher voltage at a lower category stands in for the other (SPEC §5.2)."""
-    out = []
-    for r in item.ratings:
-        if r.voltage < need:
-            continue
-        if category is not None and impulse.category_rank(r.category) < impulse.category_rank(category):
-            continue
-        out.append(r)
-    return out
+    voltage nor a higher voltage at a lower category stands in for the other: the one rule,
+    :func:`registry.engine.rules.rating_covers`, which the store's fleet filter also follows."""
+    return [r for r in item.ratings if rating_covers(r.category, r.voltage, category, need)]
 
 
 def check_category(ctx: SetupContext) -> list[Finding]:

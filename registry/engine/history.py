@@ -12,6 +12,7 @@ from ..standards import stored_energy as se
 from .derived import Derived
 from .findings import Finding
 from .quantity import ENERGY, VOLTAGE, format_quantity as fq
+from .rules import verification_overdue
 from .spec import Plan, UnitState
 
 SRC_HISTORY = "SPEC §5.11: the unit's logged events (common practice, no source)"
@@ -36,7 +37,7 @@ def exclusion_reason(unit: UnitState, on: date) -> str | None:
         return "away"
     if unit.status == "on-hold" or unit.open_hold:
         return "on-hold"
-    if unit.verification_due is not None and unit.verification_due < on:
+    if verification_overdue(unit.verification_due, on):
         return "verification-overdue"
     return None
 

@@ -162,9 +162,7 @@ def _lead_fits(plan: Plan, instrument: ModelSpec, mode: Mode, lead: ModelSpec | 
         return lead is None  # the jaw is the instrument's own
     if lead is None:
         return instrument.integrated_leads
-    if instrument.integrated_leads:
-        return False
-    if lead.connector is None or lead.connector not in instrument.connectors:
+    if not lead_connects(instrument, lead):
         return False
     if lead.kind == "hv-divider":
         v_min = lead.min_voltage
@@ -173,15 +171,32 @@ def _lead_fits(plan: Plan, instrument: ModelSpec, mode: Mode, lead: ModelSpec | 
     return True
 
 
-def _tip_fits(instrument: ModelSpec, lead: ModelSpec | None, tip: ModelSpec | None) -> bool:
-    if tip is None:
-        return True
+def plugs_into(plug: str | None, holder: ModelSpec) -> bool:
+    """Whether a plug named ``plug`` goes into one of ``holder``'s sockets; no plug recorded
+    fits nothing. Connector names are the fleet's own; common practice (no source)."""
+    return plug is not None and plug in holder.connectors
+
+
+def lead_connects(instrument: ModelSpec, lead: ModelSpec) -> bool:
+    """Whether a lead-type accessory plugs into ``instrument``: not one with integrated
+    leads, and the lead's plug in one of its sockets. The one connector rule for a lead: the
+    setups and the audit workbook both call it."""
+    return not instrument.integrated_leads and plugs_into(lead.connector, instrument)
+
+
+def tip_connects(instrument: ModelSpec, lead: ModelSpec | None, tip: ModelSpec) -> bool:
+    """Whether a tip plugs into ``lead`` (no tip on a current clamp), or, with no lead, into
+    an instrument's integrated leads. The one connector rule for a tip: the setups and the
+    audit workbook both call it."""
     if lead is not None and lead.kind == "current-clamp":
         return False
-    holder = lead if lead is not None else instrument
     if lead is None and not instrument.integrated_leads:
         return False
-    return tip.connector is not None and tip.connector in holder.connectors
+    return plugs_into(tip.connector, lead if lead is not None else instrument)
+
+
+def _tip_fits(instrument: ModelSpec, lead: ModelSpec | None, tip: ModelSpec | None) -> bool:
+    return tip is None or tip_connects(instrument, lead, tip)
 
 
 def instrument_modes(model: ModelSpec) -> tuple[Mode, ...]:

@@ -16,6 +16,9 @@ from datetime import date, datetime
 
 # -- enumerations (the names the files, the database and the CLI share) -----------------------
 
+# The one list of measurement categories, lowest first: IEC 61010-1 measurement categories
+# CAT II < CAT III < CAT IV. Their order (engine/rules.py: category_rank, categories_at_least),
+# the store's filters and the web forms all come from it; "none" is not for mains.
 CATEGORIES = ("II", "III", "IV", "none")
 MAINS_CATEGORIES = CATEGORIES[:3]  # a mains circuit has one of these; "none" is not for mains
 INSTRUMENT_KINDS = ("multimeter", "clamp-meter", "voltage-tester", "insulation-tester",
@@ -57,7 +60,15 @@ DEFAULT_DURATION = 60.0  # s, SPEC §4: how long a setup stays connected unless 
 
 
 class SpecError(ValueError):
-    """A spec object built with values that contradict each other or the enumerations."""
+    """A spec object built with values that contradict each other or the enumerations.
+
+    ``problems`` holds (field path, message) pairs when the spec names its fields (a plan's
+    ``circuit.voltage``); the file formats turn them into field problems as they are.
+    """
+
+    def __init__(self, message: str = "", *, problems: tuple[tuple[str, str], ...] = ()):
+        self.problems = tuple(problems)
+        super().__init__(message or "; ".join(f"{path}: {msg}" for path, msg in self.problems))
 
 
 def _check_choice(value, choices, name):
@@ -266,6 +277,107 @@ class UnitState:
 
 # -- job plans ---------------------------------------------------------------------------------
 
+# The rules of a job plan: one function each for the circuit and the plan, returning every
+# problem as (field path, message). The dataclasses below raise them; the plan format
+# (registry/plans.py) reports them with the path as they are, so the two cannot disagree.
+# The rules are common practice (no source) unless a comment says otherwise.
+
+# Quantities of a circuit that must be more than zero: a working voltage of 0 V is no job, and
+# a zero impedance, frequency, current or capacitance means nothing physical.
+CIRCUIT_POSITIVE = ("voltage", "frequency", "transient", "source_impedance",
+                    "prospective_current", "capacitance", "stored_energy", "current")
+CIRCUIT_QUANTITIES = ("voltage", "voltage_to_earth") + CIRCUIT_POSITIVE[1:]
+
+
+def _choice_problem(value, choices, path: str) -> list[tuple[str, str]]:
+    if value is None:
+        return [(path, f"is missing; give one of {', '.join(choices)}")]
+    if value not in choices:
+        return [(path, f"'{value}' is not one of {', '.join(choices)}")]
+    return []
+
+
+def _quantity_problem(value, path: str, *, positive: bool) -> list[tuple[str, str]]:
+    if value is None:
+        return []
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
+        return [(path, f"must be a finite number in SI units, not {value!r}")]
+    if value < 0:
+        return [(path, "must not be negative")]
+    if positive and value == 0:
+        return [(path, "is zero; it must be more than zero")]
+    return []
+
+
+def circuit_problems(supply, waveform, voltage, category=None, **quantities
+                     ) -> list[tuple[str, str]]:
+    """Every problem of a circuit's fields, as (path, message): the enumerations, quantities
+    that must be more than zero, a category for a mains circuit only (IEC 61010-1
+    measurement categories apply to circuits connected to mains), no frequency on dc, and
+    one of each pair that says the same thing twice (source impedance or prospective
+    current, capacitance or stored energy)."""
+    out = _choice_problem(supply, SUPPLIES, "circuit.supply")
+    out += _choice_problem(waveform, PLAN_WAVEFORMS, "circuit.waveform")
+    values = dict(quantities, voltage=voltage)
+    for name in CIRCUIT_QUANTITIES:
+        out += _quantity_problem(values.get(name), f"circuit.{name}",
+                                 positive=name in CIRCUIT_POSITIVE)
+    if voltage is None:
+        out.append(("circuit.voltage", "is missing; give the highest working voltage between "
+                                       "the probed points, such as '480 V'"))
+    if supply == "mains":
+        if category is None:
+            out.append(("circuit.category", "is missing; a mains circuit needs its measurement "
+                                            f"category ({', '.join(MAINS_CATEGORIES)})"))
+        elif category not in MAINS_CATEGORIES:
+            out.append(("circuit.category",
+                        f"'{category}' is not one of {', '.join(MAINS_CATEGORIES)}"))
+    elif supply == "isolated" and category is not None:
+        out.append(("circuit.category", "applies to mains circuits only; an isolated circuit "
+                                        "has no measurement category"))
+    if waveform == "dc" and values.get("frequency") is not None:
+        out.append(("circuit.frequency", "a dc circuit has no frequency"))
+    if values.get("source_impedance") is not None and values.get("prospective_current") is not None:
+        out.append(("circuit.prospective_current",
+                    "give source_impedance or prospective_current, not both"))
+    if values.get("capacitance") is not None and values.get("stored_energy") is not None:
+        out.append(("circuit.stored_energy", "give capacitance or stored_energy, not both"))
+    return out
+
+
+def plan_problems(task, circuit: "Circuit | None", *, altitude=0.0, duration=DEFAULT_DURATION,
+                  discharge_to=None) -> list[tuple[str, str]]:
+    """Every problem of a plan's own fields, as (path, message), given its circuit (``None``
+    when the circuit itself is not valid: the rules that read it are left out): the task, the
+    quantities, what a task needs of the circuit (the current to measure, the capacitance to
+    discharge) and what applies to one task only."""
+    out = _choice_problem(task, TASKS, "task")
+    out += _quantity_problem(altitude, "site.altitude", positive=False)
+    out += _quantity_problem(duration, "duration", positive=True)
+    out += _quantity_problem(discharge_to, "discharge_to", positive=False)
+    if task is not None and task != "discharge" and discharge_to is not None:
+        out.append(("discharge_to", "applies to discharge tasks only"))
+    if circuit is None:
+        return out
+    if (discharge_to is not None and circuit.voltage is not None
+            and discharge_to >= circuit.voltage):
+        out.append(("discharge_to", "must be below the circuit's voltage"))
+    if task == "measure-current" and circuit.current is None:
+        out.append(("circuit.current", "a measure-current task needs the current, such as "
+                                       "'40 A'"))
+    if task is not None and task != "measure-current" and circuit.current is not None:
+        out.append(("circuit.current", "applies to measure-current tasks only"))
+    if task == "discharge" and circuit.capacitance is None and circuit.stored_energy is None:
+        out.append(("circuit.capacitance", "a discharge task needs the capacitance (or "
+                                           "circuit.stored_energy)"))
+    return out
+
+
+def _raise(problems: list[tuple[str, str]]):
+    if problems:
+        raise SpecError(problems=tuple(problems))
+
+
 @dataclass(frozen=True)
 class Circuit:
     supply: str
@@ -282,24 +394,8 @@ class Circuit:
     current: float | None = None  # A, measure-current only
 
     def __post_init__(self):
-        _check_choice(self.supply, SUPPLIES, "circuit.supply")
-        _check_choice(self.waveform, PLAN_WAVEFORMS, "circuit.waveform")
-        _check_quantity(self.voltage, "circuit.voltage")
-        for name in ("voltage_to_earth", "frequency", "transient", "source_impedance",
-                     "prospective_current", "capacitance", "stored_energy", "current"):
-            _check_quantity(getattr(self, name), f"circuit.{name}")
-        if self.supply == "mains":
-            if self.category is None:
-                raise SpecError("circuit.category: a mains circuit needs a measurement category")
-            _check_choice(self.category, MAINS_CATEGORIES, "circuit.category")
-        elif self.category is not None:
-            raise SpecError("circuit.category applies to mains circuits only")
-        if self.waveform == "dc" and self.frequency is not None:
-            raise SpecError("circuit.frequency: a dc circuit has no frequency")
-        if self.source_impedance is not None and self.prospective_current is not None:
-            raise SpecError("circuit: give source_impedance or prospective_current, not both")
-        if self.capacitance is not None and self.stored_energy is not None:
-            raise SpecError("circuit: give capacitance or stored_energy, not both")
+        _raise(circuit_problems(self.supply, self.waveform, self.voltage, self.category,
+                                **{k: getattr(self, k) for k in CIRCUIT_QUANTITIES[1:]}))
 
     @property
     def to_earth(self) -> float:
@@ -319,18 +415,11 @@ class Plan:
     on: date | None = None  # the day of the job, for verification dates
 
     def __post_init__(self):
-        _check_choice(self.task, TASKS, "task")
-        _check_quantity(self.altitude, "site.altitude")
-        _check_quantity(self.duration, "duration", positive=True)
-        _check_quantity(self.discharge_to, "discharge_to")
-        if self.task == "measure-current" and self.circuit.current is None:
-            raise SpecError("circuit.current: a measure-current task needs the current")
-        if self.task == "discharge":
-            if self.circuit.capacitance is None and self.circuit.stored_energy is None:
-                raise SpecError("circuit.capacitance: a discharge task needs the capacitance "
-                                "or the stored energy")
-        elif self.discharge_to is not None:
-            raise SpecError("discharge_to applies to discharge tasks only")
+        if not isinstance(self.circuit, Circuit):
+            raise SpecError(problems=(("circuit", "is missing; give the circuit's supply, "
+                                                  "waveform and voltage"),))
+        _raise(plan_problems(self.task, self.circuit, altitude=self.altitude,
+                             duration=self.duration, discharge_to=self.discharge_to))
 
 
 @dataclass(frozen=True)

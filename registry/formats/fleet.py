@@ -74,7 +74,7 @@ class FuseDoc(_Doc):
 
 
 class RatingDoc(_Doc):
-    category: Literal["II", "III", "IV", "none"]
+    category: Literal[spec.CATEGORIES]  # type: ignore[valid-type]  # the one list
     voltage: Voltage
     transient: Voltage | None = None
     max_altitude: Length | None = None

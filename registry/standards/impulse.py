@@ -36,13 +36,6 @@ IMPULSE: dict[str, tuple[float, float, float, float]] = {
 # IEC 61010-2-033 101.4 ("an output impedance ... of 2 ohm").
 GENERATOR_IMPEDANCE: dict[str, float] = {"II": 12.0, "III": 2.0, "IV": 2.0}
 
-_ORDER = {"II": 2, "III": 3, "IV": 4}
-
-
-def category_rank(category: str) -> int:
-    """II < III < IV; ``none`` (not for mains) ranks below all: 0."""
-    return _ORDER.get(category, 0)
-
 
 def row_of(voltage_to_earth: float) -> int | None:
     """Index of the table row covering ``voltage_to_earth`` (V): the next row up, 150, 300,

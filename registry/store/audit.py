@@ -17,8 +17,9 @@ import pandas as pd
 from sqlalchemy import select
 from sqlalchemy.orm import Session, selectinload
 
-from ..engine import spec
+from ..engine import rules, spec
 from ..engine.checks import fitting_ratings, rating_text, withstand_of
+from ..engine.setups import lead_connects, tip_connects
 from ..errors import InvalidInput
 from . import models as m
 from .db import Database
@@ -103,20 +104,22 @@ def _shortfall(acc: spec.ModelSpec, inst: spec.ModelSpec) -> list[str]:
 def accessories_below(models: dict[str, spec.ModelSpec]) -> list[tuple[str, str, str]]:
     """(accessory, instrument, what it does not cover) for every lead-type accessory or tip
     that fits an instrument (by connector) but lacks a rating the instrument has: the setup is
-    held to the lower of the two (SPEC §5.2). Dividers face another circuit than the
-    instrument and are left out."""
-    instruments = [x for x in models.values() if x.is_instrument and not x.integrated_leads]
-    leads = [x for x in models.values() if x.kind in ("test-leads", "current-clamp")]
+    held to the lower of the two. A tip on an instrument's integrated leads counts too.
+    Dividers face another circuit than the instrument, and a current clamp reads a current:
+    both are left out."""
+    instruments = [x for x in models.values() if x.is_instrument]
+    leads = [x for x in models.values() if x.kind == "test-leads"]
     tips = [x for x in models.values() if x.kind in spec.TIP_KINDS]
     out = []
     for inst in instruments:
-        served = [ld for ld in leads if ld.connector in inst.connectors]
+        # connector fit is the setups' own rule (lead_connects, tip_connects)
+        served = [ld for ld in leads if lead_connects(inst, ld)]
         for ld in served:
             short = _shortfall(ld, inst)
-            if short and ld.kind == "test-leads":
+            if short:
                 out.append((ld.key, inst.key, ", ".join(short)))
-        tip_keys = {t.key for ld in served if ld.kind == "test-leads" for t in tips
-                    if t.connector in ld.connectors}
+        holders = served if not inst.integrated_leads else [None]
+        tip_keys = {t.key for ld in holders for t in tips if tip_connects(inst, ld, t)}
         for key in sorted(tip_keys):
             short = _shortfall(models[key], inst)
             if short:
@@ -171,16 +174,16 @@ def build_audit(session: Session, *, since: date | None = None, site: str | None
     for u in units:
         ms = models[u.model.key]
         due = u.verification_due
-        late = (on - due).days if due is not None and due < on else None
+        late = (on - due).days if rules.verification_overdue(due, on) else None
         hold = open_by_unit.get(u.id)
-        in_use = u.status not in ("retired",)
-        if late is not None and in_use:
+        in_use = u.status in rules.VERIFIED_STATUSES
+        if rules.unit_overdue(u.status, due, on):
             overdue.add(u.tag)
             findings.append({"finding": "overdue", "subject": u.tag,
                              "detail": f"verification was due {due.isoformat()}, {late} days "
                                        f"before {on.isoformat()} ({u.status})",
                              "date": _as_date(due), "days": late})
-        elif due is not None and in_use and u.status != "away" and 0 <= (due - on).days <= SOON_DAYS:
+        elif rules.unit_due_within(u.status, due, on, SOON_DAYS) and u.status != "away":
             findings.append({"finding": "due soon", "subject": u.tag,
                              "detail": f"verification due {due.isoformat()}, in "
                                        f"{(due - on).days} days",

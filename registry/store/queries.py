@@ -4,12 +4,12 @@ dashboard's counts and coverage, and a unit's history as one timeline."""
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from datetime import date, datetime, timedelta
+from datetime import date, datetime
 
 from sqlalchemy import and_, exists, func, or_, select
 from sqlalchemy.orm import Session, selectinload
 
-from ..engine import spec
+from ..engine import rules, spec
 from . import models as m
 
 MAINS_CATEGORIES = spec.MAINS_CATEGORIES
@@ -23,17 +23,26 @@ SORTS = {
 DUE_FILTERS = ("overdue", "30", "90")
 
 
-def categories_at_least(category: str) -> tuple[str, ...]:
-    """The mains categories that cover ``category``: CAT III is covered by III and IV."""
-    return MAINS_CATEGORIES[MAINS_CATEGORIES.index(category):]
-
-
-def _takes(category: str, voltage: float):
-    """SQL: the unit's model has one rating with a category at least ``category`` and a voltage
-    at least ``voltage``; a higher category at a lower voltage does not stand in (SPEC §5.2)."""
+def _takes(category: str | None, voltage: float):
+    """SQL: the unit's model has one rating that covers ``category`` (or any, for ``None``) and
+    ``voltage`` at once, built from the engine's own rule (rules.rating_covers: the categories
+    from rules.categories_at_least, the voltage at least the one asked). A property test holds
+    it to ``fitting_ratings``."""
     return exists().where(and_(m.Rating.model_id == m.Unit.model_id,
-                               m.Rating.category.in_(categories_at_least(category)),
+                               m.Rating.category.in_(rules.categories_at_least(category)),
                                m.Rating.voltage >= voltage))
+
+
+def _overdue(on: date):
+    """SQL: rules.unit_overdue: a unit not retired whose verification was due before ``on``."""
+    return and_(m.Unit.status.in_(rules.VERIFIED_STATUSES), m.Unit.verification_due < on)
+
+
+def _due_within(on: date, days: int):
+    """SQL: rules.unit_due_within: a unit not retired due by ``on`` + ``days`` (overdue too)."""
+    return and_(m.Unit.status.in_(rules.VERIFIED_STATUSES),
+                m.Unit.verification_due.is_not(None),
+                m.Unit.verification_due <= rules.due_by(on, days))
 
 
 @dataclass
@@ -77,16 +86,14 @@ def fleet_page(session: Session, fq: FleetQuery, today: date | None = None) -> F
         stmt = stmt.where(m.Site.name == fq.site)
     if fq.status in spec.UNIT_STATUSES:
         stmt = stmt.where(m.Unit.status == fq.status)
-    if fq.category in MAINS_CATEGORIES:
-        stmt = stmt.where(_takes(fq.category, fq.voltage or 0.0))
-    elif fq.voltage is not None:
+    if fq.category in MAINS_CATEGORIES or fq.voltage is not None:
         # no category asked: any rating (a not-for-mains one too) of that voltage
-        stmt = stmt.where(exists().where(and_(m.Rating.model_id == m.Unit.model_id,
-                                              m.Rating.voltage >= fq.voltage)))
+        stmt = stmt.where(_takes(fq.category if fq.category in MAINS_CATEGORIES else None,
+                                 fq.voltage or 0.0))
     if fq.due == "overdue":
-        stmt = stmt.where(m.Unit.verification_due < today)
+        stmt = stmt.where(_overdue(today))
     elif fq.due in DUE_FILTERS:
-        stmt = stmt.where(m.Unit.verification_due <= today + timedelta(days=int(fq.due)))
+        stmt = stmt.where(_due_within(today, int(fq.due)))
     total = session.scalar(select(func.count()).select_from(stmt.subquery())) or 0
     column = SORTS.get(fq.sort, m.Unit.tag)
     order = [column.desc() if fq.desc else column.asc()]
@@ -109,9 +116,7 @@ def due_soon(session: Session, days: int = 30, today: date | None = None) -> lis
     """Units not retired whose verification falls due within ``days`` (or is overdue)."""
     today = today or date.today()
     return list(session.scalars(
-        select(m.Unit).where(m.Unit.status != "retired",
-                             m.Unit.verification_due.is_not(None),
-                             m.Unit.verification_due <= today + timedelta(days=days))
+        select(m.Unit).where(_due_within(today, days))
         .order_by(m.Unit.verification_due, m.Unit.tag)
         .options(selectinload(m.Unit.model), selectinload(m.Unit.site))))
 

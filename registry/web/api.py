@@ -294,7 +294,7 @@ def openapi_document() -> dict:
                                           q("kind", "model kind", {"enum": list(spec.KINDS)}),
                                           q("site", "site name"),
                                           q("status", "unit status", {"enum": list(spec.UNIT_STATUSES)}),
-                                          q("category", "takes this category", {"enum": ["II", "III", "IV"]}),
+                                          q("category", "takes this category", {"enum": list(spec.MAINS_CATEGORIES)}),
                                           q("voltage", "at this voltage, e.g. '600 V'"),
                                           q("due", "verification", {"enum": list(queries.DUE_FILTERS)}),
                                           q("sort", "sort by", {"enum": list(queries.SORTS)}),

@@ -6,6 +6,7 @@ from datetime import date
 
 from flask import Blueprint, render_template
 
+from ..engine import rules
 from ..extensions import db
 from ..store import queries
 from .auth import role_required
@@ -23,4 +24,5 @@ def index():
                            due=queries.due_soon(session, DUE_DAYS), days=DUE_DAYS,
                            holds=queries.open_holds(session),
                            events=queries.recent_events(session),
-                           coverage=queries.coverage(session), today=date.today())
+                           coverage=queries.coverage(session), today=date.today(),
+                           overdue=rules.unit_overdue)

@@ -43,6 +43,12 @@ def percent_filter(value):
     return f"{value:+.0%}"
 
 
+@bp.app_context_processor
+def category_choices():
+    """The measurement categories every form offers, from the engine's one list."""
+    return {"category_choices": [(c, f"CAT {c}") for c in spec.MAINS_CATEGORIES]}
+
+
 def unit_or_404(tag: str) -> m.Unit:
     row = db.session.scalar(select(m.Unit).where(m.Unit.tag == tag))
     if row is None:
@@ -55,8 +61,9 @@ def fleet_query(args, errors: FieldErrors) -> tuple[queries.FleetQuery, dict]:
     typed = {k: args.get(k, "").strip() for k in
              ("q", "kind", "site", "status", "category", "voltage", "due", "sort", "dir")}
     voltage = quantity_or_none(typed["voltage"], VOLTAGE, "voltage", errors, default_unit="V")
-    if typed["category"] and typed["category"] not in queries.MAINS_CATEGORIES:
-        errors.add("category", f"'{typed['category']}' is not one of II, III, IV")
+    if typed["category"] and typed["category"] not in spec.MAINS_CATEGORIES:
+        errors.add("category", f"'{typed['category']}' is not one of "
+                               f"{', '.join(spec.MAINS_CATEGORIES)}")
     fq = queries.FleetQuery(
         q=typed["q"], kind=typed["kind"], site=typed["site"], status=typed["status"],
         category=typed["category"], voltage=voltage, due=typed["due"],
