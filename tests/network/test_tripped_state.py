@@ -23,6 +23,7 @@ from registry.engine.network import scenarios
 from registry.engine.network.netlist import Netlist
 from registry.engine.network.scenarios import discharge, steady, tripped_resistance
 from registry.engine.network.solver import COLD
+from registry.engine.network.spice import netlist_deck, node_names, parse_op
 from registry.engine.spec import Element
 from registry.formats.fleet import fleet_from_file
 from registry.plans import load_plan
@@ -101,6 +102,47 @@ def test_scipy_complaints_become_solve_failed(monkeypatch):
                   "V", "COM")
     with pytest.raises(SolveFailed, match="tripped resistance of PT"):
         tripped_resistance(net, COLD, "PT", 100.0, 50.0, 1.0, 10.0)
+
+
+def _shared_net():
+    """PT1 in the main path behind R1, PT2 in a side branch from n1 (S1 closed): both trip at
+    700 V, and PT1's trip raises the voltage PT2 sees, and the other way round."""
+    return Netlist((
+        E("R1", "resistor", ("V", "n1"), resistance=1200.0),
+        E("PT1", "ptc", ("n1", "n2"), resistance=1000.0, trip_current=0.025,
+          hold_current=0.012, tripped_power=1.2),
+        E("RV1", "varistor", ("n2", "COM"), varistor_voltage=200.0, clamp_voltage=330.0,
+          clamp_current=10.0),
+        E("IN", "input", ("n2", "COM"), resistance=10e6),
+        E("S1", "switch", ("n1", "c")),
+        E("PT2", "ptc", ("c", "COM"), resistance=1000.0, trip_current=0.025,
+          hold_current=0.012, tripped_power=1.2),
+    ), "V", "COM", frozenset({"S1"}))
+
+
+def test_ptcs_that_share_the_current_each_take_their_tripped_power(ngspice):
+    net = _shared_net()
+    res = steady(net, 700.0, "dc", None, 60.0)
+    final = res.final
+    tripped = dict(final.state.ptc)
+    assert set(tripped) == {"PT1", "PT2"}
+    deck = netlist_deck(net, title="two PTCs sharing", voltage=700.0, state=final.state)
+    got = parse_op(ngspice(deck))
+    names = node_names(net)
+    v = {n: (0.0 if names[n] == "0" else got[names[n]]) for n in ("n1", "n2", "c", "COM")}
+    # Joule's law on ngspice's node voltages: V**2 / R = tripped power (1.2 W), within 1 %;
+    # both hold together (found one after the other, PT1 took 25 times its tripped power)
+    assert (v["n1"] - v["n2"]) ** 2 / tripped["PT1"] == pytest.approx(1.2, rel=1e-2)
+    assert (v["c"] - v["COM"]) ** 2 / tripped["PT2"] == pytest.approx(1.2, rel=1e-2)
+
+
+def test_tripped_states_that_never_settle_are_a_solve_failure(monkeypatch):
+    # a search that gives a different answer on every call cannot settle
+    calls = iter(range(10 ** 6))
+    monkeypatch.setattr(scenarios, "tripped_resistance",
+                        lambda *a, **k: (1e4 * (1 + next(calls) % 3), ""))
+    with pytest.raises(SolveFailed, match="do not settle"):
+        steady(_shared_net(), 700.0, "dc", None, 60.0)
 
 
 # -- the reproduction through the scenarios, the engine and the CLI ------------------------

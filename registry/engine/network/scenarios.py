@@ -126,6 +126,41 @@ def tripped_resistance(net: Netlist, state: State, ptc_id: str, vs: float, rs: f
                   "the cold one: it resets and cycles; taken as cold")
 
 
+SETTLE_TOL = 1e-6  # relative change of every tripped resistance between two sweeps
+SETTLE_SWEEPS = 60
+
+
+def settle_tripped(net: Netlist, state: State, vs: float, rs: float | None,
+                   events: list | None = None) -> State:
+    """Tripped PTCs that share the source's current, each at the resistance that takes its
+    tripped power with the others as they are: a Gauss-Seidel sweep of
+    :func:`tripped_resistance` over the tripped PTCs until no resistance moves by more than
+    :data:`SETTLE_TOL` (relative). One PTC tripping changes what the others see (a PTC in a
+    side branch gets more voltage when the one in the main path trips), so resistances found
+    one after the other do not hold together. A PTC the others leave unable to hold its
+    tripped power goes back to cold (noted in ``events``). Raises :class:`SolveFailed` if the
+    sweeps do not settle."""
+    tripped = [id for id, r in state.ptc
+               if r < OPEN_RESISTANCE and (net.element(id).get("tripped_power") or 0) > 0]
+    if len(tripped) < 2:
+        return state
+    for _ in range(SETTLE_SWEEPS):
+        moved = 0.0
+        for id in tripped:
+            p = net.element(id)
+            old = state.ptc_resistance(id)
+            r, remark = tripped_resistance(net, state, id, vs, rs, p.get("tripped_power"),
+                                           p.get("resistance"))
+            if remark and r == p.get("resistance") and old != r and events is not None:
+                events.append(Event(id, "with the other PTCs tripped as well, " + remark))
+            moved = max(moved, abs(r - old) / max(r, old))
+            state = state.with_ptc(id, r)
+        if moved <= SETTLE_TOL:
+            return state
+    raise SolveFailed(f"the tripped states of {', '.join(tripped)} do not settle together "
+                      f"(after {SETTLE_SWEEPS} sweeps)")
+
+
 def _settle_tubes(net: Netlist, state: State, vs: float, rs, key: str, notes) -> State:
     """Fire each gas tube whose voltage exceeds its sparkover (``key``), as an arc voltage
     source with the sign of that voltage; put out a fired one that carries no current the arc
@@ -241,6 +276,7 @@ def steady(net: Netlist, voltage: float, waveform: str, rs: float | None,
                 labels.append(f"{e.id} tripped")
         if state == now.state:
             break
+        state = settle_tripped(net, state, v_heat, rs, events)
         state = _settle_tubes(net, state, v_peak, rs, "sparkover_dc", notes)
         snapshots.append(snap(", ".join(labels), state))
     return SteadyResult(snapshots, events, notes)
