@@ -54,7 +54,7 @@ class SteadyResult:
 
 # -- PTC in the tripped state -------------------------------------------------------------------
 
-SCAN_PER_DECADE = 8  # grid points per decade of R in the tripped-state scan
+SCAN_PER_DECADE = 8  # grid points per decade of R in the tripped-state scan (our choice)
 
 
 def _bracketed_root(f, a: float, b: float, what: str) -> float:
@@ -75,7 +75,8 @@ def tripped_resistance(net: Netlist, state: State, ptc_id: str, vs: float, rs: f
     own voltage). Returns (R, remark).
 
     The search: with V_open its voltage when it is open, V(R) <= V_open at every R (the voltage
-    across an element of a passive network rises with its resistance), so
+    across an element of a passive network rises with its resistance: V = Vth R / (R + Rth) by
+    Thevenin's theorem for the linear part, and likewise with monotone clamps), so
     f(R) = ln(V(R)**2 / (R P)) <= ln(R_hi / R) with R_hi = V_open**2 / P: no root lies above
     R_hi, and R_hi itself is the root when the PTC alone takes V_open (straight across a stiff
     source, where f(R_hi) is zero to rounding). Below R_hi, f is scanned down in log R
@@ -137,7 +138,9 @@ def settle_tripped(net: Netlist, state: State, vs: float, rs: float | None,
     :func:`tripped_resistance` over the tripped PTCs until no resistance moves by more than
     :data:`SETTLE_TOL` (relative). One PTC tripping changes what the others see (a PTC in a
     side branch gets more voltage when the one in the main path trips), so resistances found
-    one after the other do not hold together. A PTC the others leave unable to hold its
+    one after the other do not hold together. (Nonlinear Gauss-Seidel: Ortega and Rheinboldt,
+    Iterative Solution of Nonlinear Equations in Several Variables, 1970, from memory.) A PTC
+    the others leave unable to hold its
     tripped power goes back to cold (noted in ``events``). Raises :class:`SolveFailed` if the
     sweeps do not settle."""
     tripped = [id for id, r in state.ptc
