@@ -85,7 +85,7 @@ conditions = st.builds(
     duration=log_uniform(1.0, 60.0))
 
 
-@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=100, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(front_ends(), conditions)
 def test_the_analysis_returns_and_reports_failures_as_unknown(fe, cond):
     net, _ = fe
@@ -97,7 +97,7 @@ def test_the_analysis_returns_and_reports_failures_as_unknown(fe, cond):
             assert s.status == "unknown" and "could not be solved" in s.message
 
 
-@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=100, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(front_ends(), conditions)
 def test_steady_and_impulse_raise_only_our_own_error(fe, cond):
     net, _ = fe
