@@ -9,7 +9,9 @@ from __future__ import annotations
 
 from .derived import Derived
 from .findings import Finding
-from .network import drawing_marks, protection_path_findings, protection_path_report
+from .network import (CHECK, SOLVE_ERRORS, drawing_marks, protection_path_findings,
+                      protection_path_report)
+from .network.limits import SRC_PRACTICE
 from .setups import SetupContext, discharge_mode
 from .spec import Fleet, Plan
 
@@ -42,13 +44,27 @@ def protection_path_check(ctx: SetupContext) -> list[Finding]:
     if not model.front_end or ctx.mode.clamp or ctx.current_clamp is not None:
         return []
     values = stresses_for(ctx)
-    out = protection_path_findings(model, ctx.mode, **values)
+    out = _guarded(model, ctx.mode, values, misuse=False)
     terminals = set(ctx.mode.terminals)
     for other in model.modes:
         if other.key == ctx.mode.key or other.clamp or set(other.terminals) != terminals:
             continue
-        out.extend(protection_path_findings(model, other, misuse=True, **values))
+        out.extend(_guarded(model, other, values, misuse=True))
     return out
+
+
+def _guarded(model, mode, values: dict, misuse: bool) -> list[Finding]:
+    """Check 10 for one mode; a solve failure that escapes the analysis becomes one
+    ``unknown`` finding naming the model, the mode and why (the setup is then unverified and
+    every other setup is still judged)."""
+    try:
+        return protection_path_findings(model, mode, misuse=misuse, **values)
+    except SOLVE_ERRORS as exc:
+        reason = str(exc) or type(exc).__name__
+        return [Finding(CHECK, "unknown", model.key,
+                        f"Model {model.key}, mode {mode.key}: the front end could not be "
+                        f"solved ({reason}), so its stresses are unknown.",
+                        SRC_PRACTICE)]
 
 
 def context_of(plan: Plan, derived: Derived, fleet: Fleet, instrument_model: str, mode: str,
@@ -72,5 +88,8 @@ def setup_marks(ctx: SetupContext, closest: int = 3) -> dict[str, str]:
     the ``closest`` others to their limits."""
     if not ctx.instrument.front_end or ctx.mode.clamp or ctx.current_clamp is not None:
         return {}
-    return drawing_marks(protection_path_report(ctx.instrument, ctx.mode, **stresses_for(ctx)),
-                         closest=closest)
+    try:
+        report = protection_path_report(ctx.instrument, ctx.mode, **stresses_for(ctx))
+    except SOLVE_ERRORS:  # the drawing is still drawn, without marks
+        return {}
+    return drawing_marks(report, closest=closest)

@@ -8,6 +8,7 @@ solves, and a second check of the same plan costs a dictionary look-up.
 from __future__ import annotations
 
 import dataclasses
+import logging
 import math
 from dataclasses import dataclass
 from functools import lru_cache
@@ -66,6 +67,27 @@ def _unknown_for(gaps, scenario: str) -> list[Stress]:
             for id, text in gaps]
 
 
+# What a solve of a described front end may raise: our own SolveFailed (no convergence, a
+# singular matrix, no bracket), any other NetworkError, and the numerical errors numpy, scipy
+# and math raise (numpy's LinAlgError is a ValueError; OverflowError and ZeroDivisionError are
+# ArithmeticErrors). Each becomes an ``unknown`` item for the scenario: the setup is then
+# unverified, and every other setup is still judged.
+SOLVE_ERRORS = (NetworkError, ArithmeticError, ValueError)
+SOLVE = "solve"  # the quantity of a Stress that reports a failed solve
+
+_log = logging.getLogger(__name__)
+
+
+def _solve_failure(scenario: str, exc: Exception) -> Stress:
+    """The ``unknown`` item for a scenario whose solve failed, naming the scenario and why."""
+    if not isinstance(exc, NetworkError):  # a numerical error: keep the trace for the log
+        _log.warning("front-end %s solve failed", scenario, exc_info=exc)
+    reason = str(exc) or type(exc).__name__
+    return Stress(None, scenario, SOLVE, "unknown",
+                  f"{scenario}: the front end could not be solved ({reason}), so its stresses "
+                  "are unknown", SRC_PRACTICE)
+
+
 def _solved_gaps(net: Netlist) -> set[str]:
     return {id for id, _ in solve_gaps(net)}
 
@@ -76,7 +98,10 @@ def analyse(net: Netlist, mode_key: str, cond: Conditions) -> PathReport:
     The solve depends on the netlist (elements, terminals, closed switches) and the
     conditions only, so modes that leave the front end in the same state (DC and AC volts,
     say) share one cached solve; ``mode_key`` only names the report."""
-    stresses, dres = _analysed(net, cond)
+    try:
+        stresses, dres = _analysed(net, cond)
+    except SOLVE_ERRORS as exc:  # outside one scenario's solve (holding it to the limits)
+        return PathReport(mode_key, (_solve_failure("analysis", exc),))
     return PathReport(mode_key, stresses, dres)
 
 
@@ -98,10 +123,8 @@ def _analysed(net: Netlist, cond: Conditions):
     def run(scenario, fn):
         try:
             return fn()
-        except NetworkError as exc:
-            items.append(Stress(None, scenario, "model", "unknown",
-                                f"{scenario}: the front end could not be solved ({exc})",
-                                SRC_PRACTICE))
+        except SOLVE_ERRORS as exc:
+            items.append(_solve_failure(scenario, exc))
             return None
 
     # 1. steady
@@ -187,6 +210,8 @@ def _finding(model: ModelSpec, mode: Mode, s: Stress, misuse: bool) -> Finding:
     if margin is not None and not math.isfinite(margin):
         margin = None
     subject = f"{model.key} {s.element}" if s.element else model.key
+    if s.quantity == SOLVE:
+        prefix = f"Model {model.key}, {prefix[0].lower()}{prefix[1:]}"
     return Finding(s.check, status, subject, f"{prefix}, {s.message}.", s.source,
                    s.required, s.available, margin)
 
@@ -199,7 +224,7 @@ def consistency_finding(model: ModelSpec, mode: Mode) -> Finding | None:
     try:
         net = build_netlist(model, mode)
         r = netlist_resistance(net)
-    except NetworkError:
+    except SOLVE_ERRORS:
         return None
     stated = mode.input_resistance
     r_t = "open" if math.isinf(r) else format_quantity(r, RESISTANCE)

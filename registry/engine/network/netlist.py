@@ -21,6 +21,12 @@ class NetworkError(WithstandError):
     """A front end that cannot be solved as given (a node missing, a solve that fails)."""
 
 
+class SolveFailed(NetworkError):
+    """A solve of a described front end that did not succeed: no convergence, a singular
+    matrix, no bracket for a root, a numerical error in numpy or scipy. The analysis turns it
+    into an ``unknown`` finding for that mode and scenario; it never reaches a user."""
+
+
 @dataclass(frozen=True)
 class Netlist:
     elements: tuple[Element, ...]

@@ -12,10 +12,10 @@ from dataclasses import dataclass, field
 
 import numpy as np
 from scipy.integrate import solve_ivp
-from scipy.optimize import brentq
+from scipy.optimize import brentq, minimize_scalar
 
 from .devices import ptc_trip_energy, ptc_trip_time
-from .netlist import OPEN_RESISTANCE, Netlist, NetworkError
+from .netlist import OPEN_RESISTANCE, Netlist, NetworkError, SolveFailed
 from .solver import COLD, Solution, State, solve
 
 SQRT2 = math.sqrt(2.0)
@@ -54,40 +54,114 @@ class SteadyResult:
 
 # -- PTC in the tripped state -------------------------------------------------------------------
 
+SCAN_PER_DECADE = 8  # grid points per decade of R in the tripped-state scan (our choice)
+
+
+def _bracketed_root(f, a: float, b: float, what: str) -> float:
+    """The root of ``f`` in [a, b] (f(a), f(b) of opposite signs) by scipy's brentq; scipy's
+    complaints (no sign change, no convergence) become :class:`SolveFailed`."""
+    try:
+        return brentq(f, a, b, xtol=1e-12, rtol=1e-12)
+    except (ValueError, RuntimeError) as exc:
+        raise SolveFailed(f"{what}: {exc}") from None
+
+
 def tripped_resistance(net: Netlist, state: State, ptc_id: str, vs: float, rs: float | None,
                        power: float | None, cold: float) -> tuple[float, str]:
     """The resistance at which a tripped PTC takes ``power`` (W), its datasheet
     ``tripped_power``, from the circuit around it: the largest R with V(R)**2 / R = P (the
     high-resistance branch, where a tripped PTC sits). Without a tripped power it is taken as
     open, which gives it the whole voltage the rest of the circuit leaves (conservative for its
-    own voltage). Returns (R, remark)."""
+    own voltage). Returns (R, remark).
+
+    The search: with V_open its voltage when it is open, V(R) <= V_open at every R (the voltage
+    across an element of a passive network rises with its resistance: V = Vth R / (R + Rth) by
+    Thevenin's theorem for the linear part, and likewise with monotone clamps), so
+    f(R) = ln(V(R)**2 / (R P)) <= ln(R_hi / R) with R_hi = V_open**2 / P: no root lies above
+    R_hi, and R_hi itself is the root when the PTC alone takes V_open (straight across a stiff
+    source, where f(R_hi) is zero to rounding). Below R_hi, f is scanned down in log R
+    (:data:`SCAN_PER_DECADE` points a decade) to the cold resistance; the first point where f
+    turns positive brackets the largest root, which brentq then finds. f need not be monotonic
+    (other PTCs and clamps share the current): only the bracket matters. Without a positive
+    point on the grid, a bounded maximisation around the grid's largest f looks for a hump
+    narrower than a grid step before it concludes that the circuit cannot hold the PTC
+    tripped."""
     if power is None or power <= 0:
         return OPEN_RESISTANCE, "tripped_power not given: taken as open"
     open_sol = solve(net, vs, rs, state.with_ptc(ptc_id, OPEN_RESISTANCE))
     v_open = abs(open_sol.voltage[ptc_id])
     r_hi = v_open ** 2 / power
-    if r_hi <= cold:
+    if not r_hi > cold:
         return cold, (f"the circuit cannot hold it tripped ({v_open:.4g} V open-circuit gives "
                       "less than its tripped power): it resets and cycles; taken as cold")
+    log_p = math.log(power)
 
     def f(log_r: float) -> float:
-        r = math.exp(log_r)
-        v = abs(solve(net, vs, rs, state.with_ptc(ptc_id, r)).voltage[ptc_id])
-        return math.log(max(v, 1e-300) ** 2 / r / power)
+        v = abs(solve(net, vs, rs, state.with_ptc(ptc_id, math.exp(log_r))).voltage[ptc_id])
+        return 2.0 * math.log(max(v, 1e-300)) - log_r - log_p
 
-    lo = r_hi
-    for _ in range(200):
-        lo /= 4.0
-        if lo <= cold:
-            lo = cold
-            break
-        if f(math.log(lo)) > 0:
-            break
-    if f(math.log(lo)) <= 0:
-        return cold, ("the circuit cannot deliver its tripped power at any resistance above "
-                      "the cold one: it resets and cycles; taken as cold")
-    log_r = brentq(f, math.log(lo), math.log(r_hi), xtol=1e-12, rtol=1e-12)
-    return math.exp(log_r), ""
+    what = f"the tripped resistance of {ptc_id}"
+    top, bottom = math.log(r_hi), math.log(cold)
+    f_top = f(top)
+    if f_top >= 0:
+        return r_hi, ""
+    n = max(2, math.ceil((top - bottom) / math.log(10.0) * SCAN_PER_DECADE))
+    grid = [top + (bottom - top) * k / n for k in range(n + 1)]
+    values = [f_top]
+    for k in range(1, n + 1):
+        fx = f(grid[k])
+        if fx > 0:
+            return math.exp(_bracketed_root(f, grid[k], grid[k - 1], what)), ""
+        values.append(fx)
+    k = max(range(n + 1), key=values.__getitem__)
+    lo, hi = grid[min(k + 1, n)], grid[max(k - 1, 0)]
+    try:
+        hump = minimize_scalar(lambda x: -f(x), bounds=(lo, hi), method="bounded",
+                               options={"xatol": 1e-6})
+    except (ValueError, RuntimeError) as exc:
+        raise SolveFailed(f"{what}: {exc}") from None
+    if hump.success and -hump.fun > 0:
+        # f(hi) <= 0 (a grid point), f(hump.x) > 0: the largest root lies between them
+        return math.exp(_bracketed_root(f, float(hump.x), hi, what)), ""
+    return cold, ("the circuit cannot deliver its tripped power at any resistance above "
+                  "the cold one: it resets and cycles; taken as cold")
+
+
+SETTLE_TOL = 1e-6  # relative change of every tripped resistance between two sweeps
+SETTLE_SWEEPS = 60
+
+
+def settle_tripped(net: Netlist, state: State, vs: float, rs: float | None,
+                   events: list | None = None) -> State:
+    """Tripped PTCs that share the source's current, each at the resistance that takes its
+    tripped power with the others as they are: a Gauss-Seidel sweep of
+    :func:`tripped_resistance` over the tripped PTCs until no resistance moves by more than
+    :data:`SETTLE_TOL` (relative). One PTC tripping changes what the others see (a PTC in a
+    side branch gets more voltage when the one in the main path trips), so resistances found
+    one after the other do not hold together. (Nonlinear Gauss-Seidel: Ortega and Rheinboldt,
+    Iterative Solution of Nonlinear Equations in Several Variables, 1970, from memory.) A PTC
+    the others leave unable to hold its
+    tripped power goes back to cold (noted in ``events``). Raises :class:`SolveFailed` if the
+    sweeps do not settle."""
+    tripped = [id for id, r in state.ptc
+               if r < OPEN_RESISTANCE and (net.element(id).get("tripped_power") or 0) > 0]
+    if len(tripped) < 2:
+        return state
+    for _ in range(SETTLE_SWEEPS):
+        moved = 0.0
+        for id in tripped:
+            p = net.element(id)
+            old = state.ptc_resistance(id)
+            r, remark = tripped_resistance(net, state, id, vs, rs, p.get("tripped_power"),
+                                           p.get("resistance"))
+            if remark and r == p.get("resistance") and old != r and events is not None:
+                events.append(Event(id, "with the other PTCs tripped as well, " + remark))
+            moved = max(moved, abs(r - old) / max(r, old))
+            state = state.with_ptc(id, r)
+        if moved <= SETTLE_TOL:
+            return state
+    raise SolveFailed(f"the tripped states of {', '.join(tripped)} do not settle together "
+                      f"(after {SETTLE_SWEEPS} sweeps)")
 
 
 def _settle_tubes(net: Netlist, state: State, vs: float, rs, key: str, notes) -> State:
@@ -205,6 +279,7 @@ def steady(net: Netlist, voltage: float, waveform: str, rs: float | None,
                 labels.append(f"{e.id} tripped")
         if state == now.state:
             break
+        state = settle_tripped(net, state, v_heat, rs, events)
         state = _settle_tubes(net, state, v_peak, rs, "sparkover_dc", notes)
         snapshots.append(snap(", ".join(labels), state))
     return SteadyResult(snapshots, events, notes)

@@ -19,7 +19,7 @@ from functools import lru_cache
 import numpy as np
 
 from .devices import I_REF, PowerLaw
-from .netlist import OPEN_RESISTANCE, Netlist, NetworkError, clamp_law
+from .netlist import OPEN_RESISTANCE, Netlist, NetworkError, SolveFailed, clamp_law
 
 GMIN = 1.0 / OPEN_RESISTANCE  # S, from every node to the reference, and across each clamp
 RELTOL = 1e-9
@@ -238,10 +238,10 @@ def _newton(c: _Compiled, vs: float, rs: float, guess):
         try:
             x_new = np.linalg.solve(A, rhs)
         except np.linalg.LinAlgError:
-            raise NetworkError("the network is singular in this state (a loop of closed "
+            raise SolveFailed("the network is singular in this state (a loop of closed "
                                "switches and fuses across a stiff source)") from None
         if not np.all(np.isfinite(x_new)):
-            raise NetworkError("the solve overflowed")
+            raise SolveFailed("the solve overflowed")
         done = bool(np.all(np.abs(x_new - x) <= RELTOL * np.abs(x_new) + VABSTOL)) or it == 1 \
             and not clamps
         new_vcl = []
@@ -266,7 +266,8 @@ def _newton(c: _Compiled, vs: float, rs: float, guess):
 def solve(net: Netlist, vs: float, rs: float | None = None, state: State = COLD,
           guess: Solution | None = None) -> Solution:
     """Solve ``net`` driven by ``vs`` (V) behind ``rs`` (ohm; None or 0 is a stiff source)
-    with the elements in ``state``. Raises :class:`NetworkError` if it cannot converge."""
+    with the elements in ``state``. Raises :class:`SolveFailed` (a :class:`NetworkError`) if
+    it cannot converge or the matrix is singular."""
     rs = rs or 0.0
     c = _compile(net, state, rs > 0)
     g = guess.raw if guess is not None and guess.raw and guess.raw[2] is c else None
@@ -277,7 +278,7 @@ def solve(net: Netlist, vs: float, rs: float | None = None, state: State = COLD,
         for frac in (0.1, 0.2, 0.35, 0.5, 0.65, 0.8, 0.9, 1.0):
             out = _newton(c, vs * frac, rs, g)
             if out is None:
-                raise NetworkError(f"the solve did not converge at {vs * frac:.4g} V")
+                raise SolveFailed(f"the solve did not converge at {vs * frac:.4g} V")
             g = out[:2]
     x, vcl, iters = out
     return _solution(net, c, x, vcl, iters, vs, rs)
