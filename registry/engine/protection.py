@@ -8,8 +8,10 @@ wrong position), whose failures become cautions.
 from __future__ import annotations
 
 from .derived import Derived
+from .discharge import DischargeUnsolved, discharge_profile, uses_front_end
 from .findings import Finding
-from .network import drawing_marks, protection_path_findings, protection_path_report
+from .quantity import CAPACITANCE, VOLTAGE, format_quantity as fq
+from .network import CHECK, drawing_marks, protection_path_findings, protection_path_report
 from .setups import SetupContext, discharge_mode
 from .spec import Fleet, Plan
 
@@ -43,12 +45,36 @@ def protection_path_check(ctx: SetupContext) -> list[Finding]:
         return []
     values = stresses_for(ctx)
     out = protection_path_findings(model, ctx.mode, **values)
+    out += discharge_outcome(ctx)
     terminals = set(ctx.mode.terminals)
     for other in model.modes:
         if other.key == ctx.mode.key or other.clamp or set(other.terminals) != terminals:
             continue
         out.extend(protection_path_findings(model, other, misuse=True, **values))
     return out
+
+
+def discharge_outcome(ctx: SetupContext) -> list[Finding]:
+    """Check 10's word on the discharge through the setup's own mode: the outcome of the same
+    (cached) solve check 9 reads, from :func:`registry.engine.discharge.discharge_profile`, so
+    the two give one time to the safe level. A discharge task that does not reach the safe
+    level within the hold is a caution here; check 9 fails it."""
+    if not ctx.capacitance or not uses_front_end(ctx):
+        return []
+    try:
+        prof = discharge_profile(ctx)
+    except DischargeUnsolved:
+        return []  # the scenario's own stress items say the discharge could not be solved
+    if prof is None:
+        return []
+    short = ctx.plan.task == "discharge" and not prof.reached
+    text = (f"Mode {ctx.mode.key}, discharge through the front end: the "
+            f"{fq(prof.capacitance, CAPACITANCE)} at {fq(prof.v0, VOLTAGE)} {prof.outcome()}")
+    if prof.events:
+        text += " (" + "; ".join(prof.events) + ")"
+    return [Finding(CHECK, "caution" if short else "pass", ctx.instrument.key, text + ".",
+                    prof.source, prof.needed_text() if ctx.plan.task == "discharge" else "",
+                    "")]
 
 
 def context_of(plan: Plan, derived: Derived, fleet: Fleet, instrument_model: str, mode: str,
