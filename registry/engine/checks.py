@@ -16,7 +16,7 @@ from .findings import Finding, headroom
 from .quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, POWER, RESISTANCE, TIME, VOLTAGE,
                        format_quantity as fq)
 from .discharge import (SRC_FRONT_END, DischargeProfile, DischargeUnsolved, absorbed_in,
-                        absorbed_to, discharge_profile, discharge_time)
+                        absorbed_to, discharge_profile, discharge_time, time_text)
 from .setups import LOW_Z, SetupContext
 from .spec import DEFAULT_MAX_ALTITUDE, Fuse, ModelSpec, Rating
 
@@ -617,19 +617,19 @@ def _hold_findings(ctx: SetupContext, prof: DischargeProfile, subject: str) -> l
         needed = prof.time_needed
         margin = headroom(hold, needed) if needed is not None and math.isfinite(needed) \
             else None
-        out.append(_f("discharge", "fail", subject, f"Held on for {fq(hold, TIME)} the "
+        out.append(_f("discharge", "fail", subject, f"Held on for {time_text(hold)} the "
                       f"capacitance does not reach {fq(vs, VOLTAGE)}: it needs "
-                      f"{prof.needed_text()}; after {fq(hold, TIME)} "
+                      f"{prof.needed_text()}; after {time_text(hold)} "
                       f"{fq(prof.end_voltage, VOLTAGE)} and {fq(prof.energy_left, ENERGY)} are "
                       "left. Hold it on longer or use a lower-resistance path, and verify "
                       "absence before touching.", prof.source, prof.needed_text(),
-                      f"{fq(hold, TIME)} held", margin))
+                      f"{time_text(hold)} held", margin))
     elif prof.time_to_safe > DISCHARGE_TIME_LIMIT:
         t_safe = prof.time_to_safe
         out.append(_f("discharge", "caution", subject, f"The discharge to {fq(vs, VOLTAGE)} "
-                      f"takes {fq(t_safe, TIME)}, more than {fq(DISCHARGE_TIME_LIMIT, TIME)}: "
+                      f"takes {time_text(t_safe)}, more than {fq(DISCHARGE_TIME_LIMIT, TIME)}: "
                       "hold the tool on and verify absence before touching.", prof.source,
-                      f"<= {fq(DISCHARGE_TIME_LIMIT, TIME)}", fq(t_safe, TIME),
+                      f"<= {fq(DISCHARGE_TIME_LIMIT, TIME)}", time_text(t_safe),
                       headroom(DISCHARGE_TIME_LIMIT, t_safe)))
     rating = ctx.instrument.power if ctx.is_discharge_tool else None
     if rating is not None and prof.peak_power > rating:

@@ -16,6 +16,7 @@ same conditions check 10 solves, so a setup is integrated once for both checks.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass
 
@@ -52,6 +53,17 @@ def absorbed_in(capacitance: float, v0: float, resistance: float, duration: floa
     """E = C*V0**2/2 * (1 - exp(-2t/(RC))) (J) taken by ``resistance`` in ``duration``."""
     tau = resistance * capacitance
     return 0.5 * capacitance * v0 * v0 * (1.0 - math.exp(-2.0 * duration / tau))
+
+
+def time_text(t: float) -> str:
+    """A time (s) as the discharge texts show it: four significant figures, with minutes or
+    hours beside a long one ("2095 s (about 35 min)")."""
+    text = fq(float(f"{t:.4g}"), TIME)
+    if t >= 7200:
+        return f"{text} (about {t / 3600:.1f} h)"
+    if t >= 120:
+        return f"{text} (about {t / 60:.0f} min)"
+    return text
 
 
 class DischargeUnsolved(Exception):
@@ -150,18 +162,20 @@ class DischargeProfile:
     def needed_text(self) -> str:
         """The time to the safe level as text, the one form every caller shows."""
         if self.time_needed is None:
-            return f"not within {fq(self.duration, TIME)}"
+            return f"more than {time_text(self.duration)}"
         if math.isinf(self.time_needed):
-            return f"more than {fq(HORIZON, TIME)}"
-        return fq(self.time_needed, TIME)
+            if self.v_safe <= 0:
+                return "forever (a discharge through a resistance never reaches 0 V)"
+            return f"more than {time_text(HORIZON)}"
+        return time_text(self.time_needed)
 
     def outcome(self) -> str:
         """What the hold achieves, in words: "reaches 50 V after 5.545 s", or "is still at
         704.7 V (496.6 J) after 60 s; it needs 2095 s to reach 50 V"."""
         if self.reached:
-            return f"reaches {fq(self.v_safe, VOLTAGE)} after {fq(self.time_to_safe, TIME)}"
+            return f"reaches {fq(self.v_safe, VOLTAGE)} after {time_text(self.time_to_safe)}"
         text = (f"is still at {fq(self.end_voltage, VOLTAGE)} "
-                f"({fq(self.energy_left, ENERGY)}) after {fq(self.duration, TIME)}")
+                f"({fq(self.energy_left, ENERGY)}) after {time_text(self.duration)}")
         if self.time_needed is None:
             return text
         return text + f"; it needs {self.needed_text()} to reach {fq(self.v_safe, VOLTAGE)}"
@@ -210,11 +224,17 @@ def _front_end_profile(ctx: SetupContext, find_needed: bool) -> DischargeProfile
         net = build_netlist(ctx.instrument, ctx.mode)
         res = discharge(net, cap, v0, rs, vs, hold)
         longer = None
-        if find_needed and res.time_to_safe is None and HORIZON > hold:
+        if find_needed and res.time_to_safe is None and HORIZON > hold and vs > 0:
             longer = discharge(net, cap, v0, rs, vs, HORIZON)
     except (NetworkError, WithstandError, ArithmeticError, ValueError) as exc:
         raise DischargeUnsolved(str(exc)) from exc
-    if res.time_to_safe is not None:
+    if vs <= 0:
+        # an exponential tail never reaches 0 V: a crossing the integrator reports is its
+        # rounding, not a time
+        res = dataclasses.replace(res, time_to_safe=None)
+        longer = None
+        needed = math.inf if find_needed else None
+    elif res.time_to_safe is not None:
         needed = res.time_to_safe
     elif longer is not None:
         needed = longer.time_to_safe if longer.time_to_safe is not None else math.inf
@@ -222,7 +242,11 @@ def _front_end_profile(ctx: SetupContext, find_needed: bool) -> DischargeProfile
         needed = None
     shown = longer if longer is not None else res
     i0 = res.peak_current
-    r0 = v0 / i0 if i0 > 0 else math.inf
+    if i0 > 0:
+        r0 = v0 / i0
+    else:  # already at the safe level: nothing was solved, take the small-signal resistance
+        from .network import netlist_resistance
+        r0 = netlist_resistance(net)
     events = tuple(f"{e.element} {e.text}" for e in res.events)
     return DischargeProfile("front-end", cap, v0, vs, hold, r0, i0, v0 * i0, res.time_to_safe,
                             needed, res.voltages[-1], shown.times, shown.voltages, events)

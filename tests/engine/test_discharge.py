@@ -142,7 +142,7 @@ def test_kx7_through_the_engine_and_check_10_give_one_number(fleet):
            and "discharge through the front end" in f.message]
     assert len(ten) == 1
     text = f"is still at {v_hold:.1f} V"
-    needs = f"it needs {t_safe:.0f} s to reach 50 V"
+    needs = f"it needs {t_safe:.0f} s (about {t_safe / 60:.0f} min) to reach 50 V"
     assert text in nine[0].message and needs in nine[0].message
     assert text in ten[0].message and needs in ten[0].message
 
@@ -233,3 +233,14 @@ def test_power_rating_below_the_peak_power_is_a_caution():
     assert f.margin == pytest.approx(400 / 640 - 1)
     assert low.verdict == "conditional"
     assert high.verdict == "suitable"
+
+
+def test_a_discharge_to_zero_volts_never_ends(fleet):
+    # V0 exp(-t/RC) > 0 for every t (circuit theory): no time is given, front end or RC law
+    plan = Plan("discharge", Circuit("isolated", "dc", V0, capacitance=C), altitude=40.0,
+                on=JOB_DAY, discharge_to=0.0)
+    p = discharge_profile(kx7_lowz(fleet, plan))
+    assert math.isinf(p.time_needed) and not p.reached
+    assert math.isinf(rc_profile(1e3, C, V0, 0.0, HOLD).time_needed)
+    (hold,) = [f for f in check_discharge(kx7_lowz(fleet, plan)) if "Held on" in f.message]
+    assert hold.status == "fail" and "never reaches 0 V" in hold.message
