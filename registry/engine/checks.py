@@ -15,6 +15,9 @@ from ..standards import impulse, probe_tips
 from .findings import Finding, headroom
 from .quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, POWER, RESISTANCE, TIME, VOLTAGE,
                        format_quantity as fq)
+# discharge_time and absorbed_in live with the one discharge rule; kept importable from here
+from .discharge import (SRC_FRONT_END, DischargeProfile, DischargeUnsolved, absorbed_in,  # noqa: F401
+                        absorbed_to, discharge_profile, discharge_time, time_text)
 from .setups import LOW_Z, SetupContext
 from .rules import rating_covers
 from .spec import DEFAULT_MAX_ALTITUDE, Fuse, ModelSpec, Rating
@@ -27,6 +30,7 @@ SRC_MISUSE = "IEC 61010-2-033 reasonably foreseeable misuse (other modes, fused 
 SRC_LOADING = "Ohm's law, voltage divider V*Zin/(Zin+Zs) (common practice, no source)"
 SRC_LOWZ = "P = V**2/R, maker's max_duration for the mode (common practice, no source)"
 SRC_DISCHARGE = "RC discharge: t = RC ln(V0/Vs), E = C(V0**2-Vs**2)/2 (circuit theory)"
+SRC_POWER = "peak power V0**2/R against the tool's power rating (common practice, no source)"
 SRC_DIVIDER = "divider output as a Thevenin source Rout (common practice, no source)"
 
 READING_TOLERANCE = 0.01  # a reading more than 1 % low is a caution (SPEC §5.7)
@@ -517,25 +521,19 @@ def time_constant(resistance: float, capacitance: float) -> float:
     return resistance * capacitance
 
 
-def discharge_time(resistance: float, capacitance: float, v0: float, v_safe: float) -> float:
-    """t = R*C*ln(V0/Vsafe) (s) for a capacitance to fall from ``v0`` to ``v_safe`` through
-    ``resistance``; 0 when it is already at or below the safe level."""
-    if v0 <= v_safe:
-        return 0.0
-    if v_safe <= 0:
-        return math.inf
-    return resistance * capacitance * math.log(v0 / v_safe)
-
-
-def absorbed_to(capacitance: float, v0: float, v_safe: float) -> float:
-    """E = C*(V0**2 - Vsafe**2)/2 (J) taken by the discharge path to reach ``v_safe``."""
-    return 0.5 * capacitance * max(v0 * v0 - v_safe * v_safe, 0.0)
-
-
-def absorbed_in(capacitance: float, v0: float, resistance: float, duration: float) -> float:
-    """E = C*V0**2/2 * (1 - exp(-2t/(RC))) (J) taken by ``resistance`` in ``duration``."""
-    tau = resistance * capacitance
-    return 0.5 * capacitance * v0 * v0 * (1.0 - math.exp(-2.0 * duration / tau))
+def _discharge_facts(ctx: SetupContext, prof: DischargeProfile) -> str:
+    cap, v0 = fq(prof.capacitance, CAPACITANCE), fq(prof.v0, VOLTAGE)
+    if prof.method == "rc":
+        return (f"through {fq(prof.resistance, RESISTANCE)} the {cap} at {v0} has tau "
+                f"{fq(prof.tau, TIME)}, peak current {fq(prof.peak_current, CURRENT)}, peak "
+                f"power {fq(prof.peak_power, POWER)}")
+    text = (f"through the front end of {ctx.instrument.key} in {ctx.mode.key} "
+            f"({fq(prof.resistance, RESISTANCE)} at the start) the {cap} at {v0} draws a peak "
+            f"current of {fq(prof.peak_current, CURRENT)}, peak power "
+            f"{fq(prof.peak_power, POWER)}")
+    if prof.events:
+        text += "; " + "; ".join(prof.events)
+    return text
 
 
 def check_discharge(ctx: SetupContext) -> list[Finding]:
@@ -546,10 +544,8 @@ def check_discharge(ctx: SetupContext) -> list[Finding]:
     discharging = plan.task == "discharge"
     if ctx.divider is not None:
         path, subject, limit = ctx.divider, ctx.divider.key, ctx.divider.energy
-        r = ctx.divider.resistance
     else:
         path, subject = ctx.instrument, f"{ctx.instrument.key}/{mode.key}"
-        r = mode.input_resistance
         limit = mode.discharge_energy
         if ctx.is_discharge_tool and limit is None:
             limit = ctx.instrument.energy
@@ -558,50 +554,88 @@ def check_discharge(ctx: SetupContext) -> list[Finding]:
                    "gives neither circuit.capacitance nor circuit.stored_energy.",
                    SRC_DISCHARGE)]
     v0, vs = ctx.derived.peak_voltage, ctx.safe_level
-    if r is None:
+    try:
+        prof = discharge_profile(ctx)
+    except DischargeUnsolved as exc:
+        return [_f("discharge", "unknown", subject, f"The discharge through the front end of "
+                   f"{ctx.instrument.key} in {mode.key} could not be solved ({exc}); the time "
+                   f"to {fq(vs, VOLTAGE)} and the energy the path takes are not known.",
+                   SRC_FRONT_END)]
+    if prof is None:
         return [_f("discharge", "unknown", subject, f"The input resistance of {subject} is "
                    "not recorded; how it drains the capacitance is not known.", SRC_DISCHARGE)]
-    tau = time_constant(r, cap)
-    t_safe = discharge_time(r, cap, v0, vs)
-    low_z = r < LOW_Z
-    drains = discharging or low_z or tau < DRAIN_FACTOR * plan.duration
-    e = absorbed_to(cap, v0, vs) if discharging else absorbed_in(cap, v0, r, plan.duration)
-    facts = (f"through {fq(r, RESISTANCE)} the {fq(cap, CAPACITANCE)} at {fq(v0, VOLTAGE)} has "
-             f"tau {fq(tau, TIME)}, peak current {fq(v0 / r, CURRENT)}, peak power "
-             f"{fq(input_power(v0, r), POWER)}")
+    src = prof.source
+    low_z = prof.resistance < LOW_Z
+    drains = discharging or low_z or prof.tau < DRAIN_FACTOR * plan.duration
     if discharging:
-        facts += f"; it reaches {fq(vs, VOLTAGE)} after {fq(t_safe, TIME)}"
-    facts += f"; the path absorbs {fq(e, ENERGY)}"
+        e, bound = absorbed_to(cap, v0, vs), False
+    else:
+        e, bound = prof.absorbed_in_hold()
+    facts = _discharge_facts(ctx, prof)
+    if discharging:
+        facts += f"; it {prof.outcome()}"
+    facts += f"; the path absorbs {'up to ' if bound else ''}{fq(e, ENERGY)}"
+    facts = facts[0].upper() + facts[1:]
     out = []
     required = fq(e, ENERGY)
     if limit is not None:
         ok = e <= limit
-        out.append(_f("discharge", "pass" if ok else "fail", subject, facts[0].upper()
-                      + facts[1:] + f" against its {fq(limit, ENERGY)} limit"
-                      + ("." if ok else ": it would be overstressed."), SRC_DISCHARGE,
+        out.append(_f("discharge", "pass" if ok else "fail", subject, facts
+                      + f" against its {fq(limit, ENERGY)} limit"
+                      + ("." if ok else ": it would be overstressed."), src,
                       required, fq(limit, ENERGY), headroom(limit, e)))
     elif discharging or low_z:
-        out.append(_f("discharge", "unknown", subject, facts[0].upper() + facts[1:]
-                      + "; the energy it may absorb is not recorded.", SRC_DISCHARGE,
-                      required))
+        out.append(_f("discharge", "unknown", subject, facts
+                      + "; the energy it may absorb is not recorded.", src, required))
     elif drains:
         # A capacitance can deliver no more into a resistive input than a stiff source at the
         # same voltage would (V**2/R for the whole duration), which the mode's maximum input
         # (check 5) already covers; so a high-impedance input passes, with the drain stated.
-        out.append(_f("discharge", "pass", subject, facts[0].upper() + facts[1:]
+        out.append(_f("discharge", "pass", subject, facts
                       + f": it drains the capacitance while connected (tau under "
                       f"{DRAIN_FACTOR:g} x {fq(plan.duration, TIME)}), no more than its "
-                      "continuous input dissipation.", SRC_DISCHARGE, required))
+                      "continuous input dissipation.", src, required))
     else:
         out.append(_f("discharge", "pass", subject, f"High-impedance input: tau "
-                      f"{fq(tau, TIME)} through {fq(r, RESISTANCE)}, it barely drains the "
-                      f"capacitance in {fq(plan.duration, TIME)}.", SRC_DISCHARGE))
-    if discharging and t_safe > DISCHARGE_TIME_LIMIT:
+                      f"{fq(prof.tau, TIME)} through {fq(prof.resistance, RESISTANCE)}, it "
+                      f"barely drains the capacitance in {fq(plan.duration, TIME)}.", src))
+    if discharging:
+        out += _hold_findings(ctx, prof, subject)
+    return out
+
+
+def _hold_findings(ctx: SetupContext, prof: DischargeProfile, subject: str) -> list[Finding]:
+    """A discharge task: the time to the safe level against how long the path is held on (the
+    plan's duration), and a discharge tool's power rating against the peak power."""
+    out = []
+    vs, hold = prof.v_safe, prof.duration
+    if not prof.reached:
+        needed = prof.time_needed
+        margin = headroom(hold, needed) if needed is not None and math.isfinite(needed) \
+            else None
+        out.append(_f("discharge", "fail", subject, f"Held on for {time_text(hold)} the "
+                      f"capacitance does not reach {fq(vs, VOLTAGE)}: it needs "
+                      f"{prof.needed_text()}; after {time_text(hold)} "
+                      f"{fq(prof.end_voltage, VOLTAGE)} and {fq(prof.energy_left, ENERGY)} are "
+                      "left. Hold it on longer or use a lower-resistance path, and verify "
+                      "absence before touching.", prof.source, prof.needed_text(),
+                      f"{time_text(hold)} held", margin))
+    elif prof.time_to_safe > DISCHARGE_TIME_LIMIT:
+        t_safe = prof.time_to_safe
         out.append(_f("discharge", "caution", subject, f"The discharge to {fq(vs, VOLTAGE)} "
-                      f"takes {fq(t_safe, TIME)}, more than {fq(DISCHARGE_TIME_LIMIT, TIME)}: "
-                      "hold the tool on and verify absence before touching.", SRC_DISCHARGE,
-                      f"<= {fq(DISCHARGE_TIME_LIMIT, TIME)}", fq(t_safe, TIME),
+                      f"takes {time_text(t_safe)}, more than {fq(DISCHARGE_TIME_LIMIT, TIME)}: "
+                      "hold the tool on and verify absence before touching.", prof.source,
+                      f"<= {fq(DISCHARGE_TIME_LIMIT, TIME)}", time_text(t_safe),
                       headroom(DISCHARGE_TIME_LIMIT, t_safe)))
+    rating = ctx.instrument.power if ctx.is_discharge_tool else None
+    if rating is not None and prof.peak_power > rating:
+        law = "V0**2/R" if prof.method == "rc" else "V0 x I0"
+        out.append(_f("discharge", "caution", subject, f"At the start the discharge puts "
+                      f"{fq(prof.peak_power, POWER)} ({law}) into {ctx.instrument.key}, more "
+                      f"than its {fq(rating, POWER)} power rating: the tool's resistor is "
+                      "stressed beyond its rating for the first moments.", SRC_POWER,
+                      fq(prof.peak_power, POWER), fq(rating, POWER),
+                      headroom(rating, prof.peak_power)))
     return out
 
 CHECKS = (check_category, check_tip, check_transient, check_altitude, check_mode_input,

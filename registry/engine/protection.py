@@ -8,10 +8,12 @@ wrong position), whose failures become cautions.
 from __future__ import annotations
 
 from .derived import Derived
+from .discharge import DischargeUnsolved, discharge_profile, uses_front_end
 from .findings import Finding
 from .network import (CHECK, SOLVE_ERRORS, drawing_marks, protection_path_findings,
                       protection_path_report)
 from .network.limits import SRC_PRACTICE
+from .quantity import CAPACITANCE, VOLTAGE, format_quantity as fq
 from .setups import SetupContext, discharge_mode
 from .spec import Fleet, Plan
 
@@ -45,6 +47,7 @@ def protection_path_check(ctx: SetupContext) -> list[Finding]:
         return []
     values = stresses_for(ctx)
     out = _guarded(model, ctx.mode, values, misuse=False)
+    out += discharge_outcome(ctx)
     terminals = set(ctx.mode.terminals)
     for other in model.modes:
         if other.key == ctx.mode.key or other.clamp or set(other.terminals) != terminals:
@@ -65,6 +68,29 @@ def _guarded(model, mode, values: dict, misuse: bool) -> list[Finding]:
                         f"Model {model.key}, mode {mode.key}: the front end could not be "
                         f"solved ({reason}), so its stresses are unknown.",
                         SRC_PRACTICE)]
+
+
+def discharge_outcome(ctx: SetupContext) -> list[Finding]:
+    """Check 10's word on the discharge through the setup's own mode: the outcome of the same
+    (cached) solve check 9 reads, from :func:`registry.engine.discharge.discharge_profile`, so
+    the two give one time to the safe level. A discharge task that does not reach the safe
+    level within the hold is a caution here; check 9 fails it."""
+    if not ctx.capacitance or not uses_front_end(ctx):
+        return []
+    try:
+        prof = discharge_profile(ctx)
+    except DischargeUnsolved:
+        return []  # the scenario's own stress items say the discharge could not be solved
+    if prof is None:
+        return []
+    short = ctx.plan.task == "discharge" and not prof.reached
+    text = (f"Mode {ctx.mode.key}, discharge through the front end: the "
+            f"{fq(prof.capacitance, CAPACITANCE)} at {fq(prof.v0, VOLTAGE)} {prof.outcome()}")
+    if prof.events:
+        text += " (" + "; ".join(prof.events) + ")"
+    return [Finding(CHECK, "caution" if short else "pass", ctx.instrument.key, text + ".",
+                    prof.source, prof.needed_text() if ctx.plan.task == "discharge" else "",
+                    "")]
 
 
 def context_of(plan: Plan, derived: Derived, fleet: Fleet, instrument_model: str, mode: str,

@@ -23,7 +23,7 @@ from ..checking import plan_from, run_check
 from ..store.fleet import engine_fleet
 from .auth import role_required
 from .forms import FieldErrors
-from .plots import DischargePath, discharge_svg, time_to
+from .plots import DischargePath, discharge_svg
 
 bp = Blueprint("checks", __name__, url_prefix="/checks")
 
@@ -132,30 +132,48 @@ def checked(fields: dict):
     return result, fleet, errors
 
 
+def setup_profile(res, fleet, s):
+    """The engine's discharge profile of ranked setup ``s`` (what check 9 states for it), or
+    None: no capacitance, no resistance recorded, or a front end that could not be solved
+    (check 9 then says ``unknown`` with the reason)."""
+    from ..engine.discharge import DischargeUnsolved, discharge_profile
+    from ..engine.protection import context_of
+    if not res.derived.capacitance:
+        return None
+    model = fleet.models[s.instrument_model]
+    if model.kind != "discharge-tool" and model.mode(s.mode) is None:
+        return None
+    ctx = context_of(res.plan, res.derived, fleet, s.instrument_model, s.mode,
+                     s.accessory_models)
+    if ctx.mode.clamp or ctx.current_clamp is not None:
+        return None
+    try:
+        return discharge_profile(ctx)
+    except DischargeUnsolved:
+        return None
+
+
 def discharge_paths(result, fleet) -> list[DischargePath]:
     """The ranked setups whose path would drain the plan's capacitance: every setup of a
-    discharge task, else those with R*C under ten times the connection time (SPEC §5.9);
-    one plot per distinct resistance, at most MAX_PLOTS."""
-    c = result.derived.capacitance
-    if not c:
+    discharge task, else those with R*C under ten times the connection time (check 9's
+    drain rule); one plot per distinct path, at most MAX_PLOTS."""
+    from ..engine.checks import DRAIN_FACTOR
+    if not result.derived.capacitance:
         return []
     out, seen = [], set()
     for s in result.setups:
-        model = fleet.models[s.instrument_model]
-        if model.kind == "discharge-tool":
-            r = model.resistance
-        else:
-            mode = next((x for x in model.modes if x.key == s.mode), None)
-            r = mode.input_resistance if mode else None
-        if not r:
+        prof = setup_profile(result, fleet, s)
+        if prof is None:
             continue
-        if result.plan.task != "discharge" and r * c >= 10 * result.plan.duration:
+        if result.plan.task != "discharge" and prof.tau >= DRAIN_FACTOR * result.plan.duration:
             continue
-        if r in seen:
+        key = (s.instrument_model, s.mode) if prof.method == "front-end" else \
+            ("rc", prof.resistance)
+        if key in seen:
             continue
-        seen.add(r)
-        out.append(DischargePath(f"{s.instrument} {s.mode_label or s.mode} ({model.key})", r,
-                                 s.verdict))
+        seen.add(key)
+        out.append(DischargePath(f"{s.instrument} {s.mode_label or s.mode} "
+                                 f"({s.instrument_model})", prof, s.verdict))
         if len(out) == MAX_PLOTS:
             break
     return out
@@ -180,9 +198,7 @@ def result():
         return _form(fields, errors, 400)
     show_all = request.args.get("all") == "1"
     paths = discharge_paths(res, fleet)
-    d = res.derived
-    plots = [{"path": p, "index": i,
-              "t_safe": time_to(d.safe_level, d.peak_voltage, p.resistance, d.capacitance)}
+    plots = [{"path": p, "index": i, "outcome": p.profile.outcome()}
              for i, p in enumerate(paths, 1)]
     return render_template("checks/result.html", r=res, f=fields, show_all=show_all,
                            setups=res.setups if show_all else res.setups[:SHOWN],
@@ -205,8 +221,7 @@ def discharge_plot():
     index = request.args.get("path", 1, type=int)
     if not paths or not 1 <= index <= len(paths):
         abort(404)
-    d = res.derived
-    svg = discharge_svg(paths[index - 1], d.peak_voltage, d.capacitance, d.safe_level)
+    svg = discharge_svg(paths[index - 1])
     return Response(svg, mimetype="image/svg+xml")
 
 
@@ -226,7 +241,9 @@ def card():
     if res is None:
         return _form(fields, errors, 400)
     index, s = chosen_setup(res)
+    prof = setup_profile(res, fleet, s)
     return render_template("checks/card.html", r=res, s=s, index=index,
+                           discharge=prof.outcome() if prof is not None else None,
                            models=fleet.models, query=_query(fields), today=date.today())
 
 

@@ -8,29 +8,22 @@ import math
 from dataclasses import dataclass
 from xml.sax.saxutils import escape
 
-from ..engine.quantity import RESISTANCE, TIME, VOLTAGE, format_quantity as fq
+from ..engine.discharge import DischargeProfile
+from ..engine.quantity import ENERGY, RESISTANCE, TIME, VOLTAGE, format_quantity as fq
 
 
 @dataclass(frozen=True)
 class DischargePath:
     label: str  # e.g. "BL-0002 discharge (ks-dr1)"
-    resistance: float  # ohm
+    profile: DischargeProfile  # the engine's discharge for the setup (check 9 reads the same)
     verdict: str
 
-
-def voltage_at(t: float, v0: float, resistance: float, capacitance: float) -> float:
-    """V(t) = V0 * exp(-t / (R*C)) (V): a capacitor discharging through a resistance (the
-    first-order RC solution, any circuits textbook)."""
-    return v0 * math.exp(-t / (resistance * capacitance))
-
-
-def time_to(v_safe: float, v0: float, resistance: float, capacitance: float) -> float:
-    """t = R*C*ln(V0/Vsafe) (s), the time to reach the safe level (SPEC §5.9)."""
-    if v_safe <= 0:
-        return math.inf
-    if v0 <= v_safe:
-        return 0.0
-    return resistance * capacitance * math.log(v0 / v_safe)
+    @property
+    def through(self) -> str:
+        """What the charge flows through, in words."""
+        p = self.profile
+        r = fq(p.resistance, RESISTANCE)
+        return f"the front end ({r} at the start)" if p.method == "front-end" else r
 
 
 def nice_step(span: float, ticks: int = 5) -> float:
@@ -49,10 +42,21 @@ W, H = 640, 320
 LEFT, RIGHT, TOP, BOTTOM = 70, 20, 30, 50
 
 
-def discharge_svg(path: DischargePath, v0: float, capacitance: float, v_safe: float) -> str:
-    tau = path.resistance * capacitance
-    t_safe = time_to(v_safe, v0, path.resistance, capacitance)
-    t_max = 1.25 * t_safe if math.isfinite(t_safe) and t_safe > 0 else 5 * tau
+def plot_span(p: DischargeProfile) -> float:
+    """The time axis (s): a quarter past the time to the safe level under the RC law, the
+    solver's last sample for a front end, five time constants when the level is never met."""
+    if p.method == "front-end":
+        return max(p.times[-1], p.duration if not p.reached else 0.0) or 1.0
+    t = p.time_needed
+    return 1.25 * t if t is not None and math.isfinite(t) and t > 0 else 5 * p.tau
+
+
+def discharge_svg(path: DischargePath) -> str:
+    """The curve of the setup's :class:`DischargeProfile`: the same numbers check 9 states."""
+    p = path.profile
+    v0, v_safe = p.v0, p.v_safe
+    t_max = plot_span(p)
+    t_safe = p.time_needed if p.time_needed is not None else math.inf
     pw, ph = W - LEFT - RIGHT, H - TOP - BOTTOM
 
     def x(t):
@@ -62,12 +66,12 @@ def discharge_svg(path: DischargePath, v0: float, capacitance: float, v_safe: fl
         return TOP + ph * (1 - v / v0)
 
     n = 200
-    points = " ".join(f"{x(t_max * i / n):.1f},{y(voltage_at(t_max * i / n, v0, path.resistance, capacitance)):.1f}"
+    points = " ".join(f"{x(t_max * i / n):.1f},{y(p.voltage_at(t_max * i / n)):.1f}"
                       for i in range(n + 1))
     out = [f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {W} {H}" width="{W}" '
            f'height="{H}" role="img" font-family="sans-serif" font-size="12">',
            f'<title>{escape(path.label)}: discharge from {escape(fq(v0, VOLTAGE))} through '
-           f'{escape(fq(path.resistance, RESISTANCE))}</title>',
+           f'{escape(path.through)}; it {escape(p.outcome())}</title>',
            f'<rect x="0" y="0" width="{W}" height="{H}" fill="#ffffff"/>']
     step_t = nice_step(t_max)
     t = 0.0
@@ -94,17 +98,29 @@ def discharge_svg(path: DischargePath, v0: float, capacitance: float, v_safe: fl
                f'fill="#1d6b2f">safe level {escape(fq(v_safe, VOLTAGE))}</text>')
     out.append(f'<polyline points="{points}" fill="none" stroke="#1f5f8b" stroke-width="2.5" '
                f'class="curve"/>')
-    if math.isfinite(t_safe):
+    if not p.reached and p.duration < t_max:
+        # the end of the hold: a dotted line with what is left there, in words
+        xe = x(p.duration)
+        right = xe > LEFT + 0.6 * pw
+        out.append(f'<line x1="{xe:.1f}" y1="{TOP}" x2="{xe:.1f}" y2="{TOP + ph}" '
+                   f'stroke="#8b1f1f" stroke-width="1.5" stroke-dasharray="2 3" class="hold"/>')
+        out.append(f'<text x="{xe + (-6 if right else 6):.1f}" y="{TOP + 16}" '
+                   f'text-anchor="{"end" if right else "start"}" fill="#8b1f1f">held '
+                   f'{escape(fq(p.duration, TIME))}: {escape(fq(p.end_voltage, VOLTAGE))}, '
+                   f'{escape(fq(p.energy_left, ENERGY))} left</text>')
+    if math.isfinite(t_safe) and t_safe <= t_max:
         out.append(f'<circle cx="{x(t_safe):.1f}" cy="{y(v_safe):.1f}" r="5" fill="#1d2329"/>')
         # the label goes left of the point when the point is near the right edge
         right = x(t_safe) > LEFT + 0.6 * pw
         out.append(f'<text x="{x(t_safe) + (-8 if right else 8):.1f}" y="{y(v_safe) + 18:.1f}" '
                    f'text-anchor="{"end" if right else "start"}">reaches it after '
-                   f'{escape(fq(t_safe, TIME))}</text>')
+                   f'{escape(p.needed_text())}</text>')
     out.append(f'<text x="{LEFT + pw / 2}" y="{H - 8}" text-anchor="middle">time</text>')
     out.append(f'<text x="16" y="{TOP + ph / 2}" text-anchor="middle" '
                f'transform="rotate(-90 16 {TOP + ph / 2})">voltage</text>')
-    out.append(f'<text x="{LEFT}" y="{TOP - 10}">{escape(path.label)}: '
-               f'{escape(fq(path.resistance, RESISTANCE))}, tau {escape(fq(tau, TIME))}</text>')
+    head = f"{path.label}: {path.through}"
+    if p.method == "rc":
+        head += f", tau {fq(p.tau, TIME)}"
+    out.append(f'<text x="{LEFT}" y="{TOP - 10}">{escape(head)}</text>')
     out.append("</svg>")
     return "\n".join(out)

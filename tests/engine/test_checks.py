@@ -204,9 +204,9 @@ def test_low_z_longer_than_its_limit_fails():
     assert f.status == "fail" and f.margin == pytest.approx(-0.5)
 
 
-def _tool(key="dt-1", r=1e3, energy=2e3):
+def _tool(key="dt-1", r=1e3, energy=2e3, power=1e3):
     return ModelSpec(key, "discharge-tool", ratings=(Rating("none", 1500.0, 8e3),),
-                     integrated_leads=True, resistance=r, energy=energy, power=400.0,
+                     integrated_leads=True, resistance=r, energy=energy, power=power,
                      max_voltage=1500.0)
 
 
@@ -215,7 +215,7 @@ def _discharge_plan(**kw):
                 on=JOB_DAY, **kw)
 
 
-def test_discharge_tool_suitable_and_slow_stick_conditional():
+def test_discharge_tool_suitable_and_slow_stick_unsuitable():
     fleet = fleet_of([_tool(), _tool("dt-25", r=100e3, energy=10e3)],
                      [unit("T1", "dt-1"), unit("T2", "dt-25")])
     result = evaluate(_discharge_plan(discharge_to=50.0), fleet)
@@ -224,7 +224,7 @@ def test_discharge_tool_suitable_and_slow_stick_conditional():
     # t = 1e3 * 2e-3 * ln(800/50) = 5.545 s; E = 0.5*2e-3*(800^2-50^2) = 637.5 J
     (f,) = _by(fast, "discharge")
     assert "5.545 s" in f.message and "637.5 J" in f.message
-    assert slow.verdict == "conditional"  # 554.5 s, more than 60 s
+    assert slow.verdict == "unsuitable"  # 554.5 s, more than the 60 s the plan holds it on
     assert result.setups[0].instrument == "T1"
 
 

@@ -103,7 +103,9 @@ def test_check_a_job_and_open_the_discharge_plot(browser, server, shots):
     shots(page, "result")
     first = page.locator("#verdicts tbody tr.v-suitable, #verdicts tbody tr[class^=v-]").first
     text = first.inner_text()
-    assert "BL-0002" in text and "✔" in text and "suitable" in text
+    # the DR-1 tool is conditional: 640 W at the start (V0**2/R) against its 400 W rating,
+    # common practice (no source)
+    assert "BL-0002" in text and "⚠" in text and "conditional" in text
     verdicts = page.locator("#verdicts tbody tr[class^=v-] td:nth-child(5)").all_inner_texts()
     assert any("unsuitable" in v and "✘" in v for v in verdicts)
     page.locator("#verdicts details summary").first.click()

@@ -1,5 +1,5 @@
-"""The discharge curve: the formula against a numerical solution of the circuit's equation
-(scipy's solve_ivp on C dV/dt = -V/R, the reference), and the drawing against the formula."""
+"""The discharge curve: the engine's RC profile against a numerical solution of the circuit's
+equation (scipy's solve_ivp on C dV/dt = -V/R, the reference), and the drawing against it."""
 
 import math
 import re
@@ -8,9 +8,11 @@ import pytest
 from scipy.integrate import solve_ivp
 from scipy.optimize import brentq
 
-from registry.web.plots import DischargePath, discharge_svg, nice_step, time_to, voltage_at
+from registry.engine.discharge import rc_profile
+from registry.web.plots import DischargePath, discharge_svg, nice_step
 
 R, C, V0, VS = 1e3, 2e-3, 800.0, 50.0  # the demo DC link through a 1 kohm tool
+HOLD = 60.0
 
 
 def numeric():
@@ -21,34 +23,55 @@ def numeric():
 
 def test_voltage_matches_the_numerical_solution():
     sol = numeric()
+    p = rc_profile(R, C, V0, VS, HOLD)
     for t in (0.0, 0.5, 2.0, 5.5, 12.0):
-        assert voltage_at(t, V0, R, C) == pytest.approx(sol.sol(t)[0], rel=1e-6)
+        assert p.voltage_at(t) == pytest.approx(sol.sol(t)[0], rel=1e-6)
 
 
 def test_time_to_safe_level_matches_the_numerical_crossing():
     sol = numeric()
     crossing = brentq(lambda t: sol.sol(t)[0] - VS, 0, 20)
-    assert time_to(VS, V0, R, C) == pytest.approx(crossing, rel=1e-6)
+    p = rc_profile(R, C, V0, VS, HOLD)
+    assert p.time_to_safe == pytest.approx(crossing, rel=1e-6)
     # R C ln(V0/Vs) = 2 s * ln 16 = 5.545 s, which the demo plan's comment rounds to "about 5 s"
-    assert time_to(VS, V0, R, C) == pytest.approx(5.545, abs=1e-3)
-    assert time_to(VS, 40.0, R, C) == 0.0
-    assert math.isinf(time_to(0.0, V0, R, C))
+    assert p.time_to_safe == pytest.approx(5.545, abs=1e-3)
+    assert rc_profile(R, C, 40.0, VS, HOLD).time_to_safe == 0.0
+    assert math.isinf(rc_profile(R, C, V0, 0.0, HOLD).time_needed)
+
+
+def _points(svg):
+    return [tuple(map(float, p.split(","))) for p in
+            re.search(r'<polyline points="([^"]+)"', svg).group(1).split()]
 
 
 def test_drawing_follows_the_curve():
-    svg = discharge_svg(DischargePath("BL-0002 discharge", R, "suitable"), V0, C, VS)
-    points = [tuple(map(float, p.split(","))) for p in
-              re.search(r'<polyline points="([^"]+)"', svg).group(1).split()]
+    p = rc_profile(R, C, V0, VS, HOLD)
+    svg = discharge_svg(DischargePath("BL-0002 discharge", p, "suitable"))
+    points = _points(svg)
     x0, y0 = points[0]
-    x1, y1 = points[-1]
-    t_max = 1.25 * time_to(VS, V0, R, C)
+    t_max = 1.25 * crossing_time()
     # the plot's axes: 70 px left margin, 550 px of width; 30 px top, 240 px of height
     for x, y in points[::25]:
         t = (x - 70) / 550 * t_max
         v = (1 - (y - 30) / 240) * V0
-        assert v == pytest.approx(voltage_at(t, V0, R, C), abs=V0 * 0.01)
+        assert v == pytest.approx(V0 * math.exp(-t / (R * C)), abs=V0 * 0.01)
     assert y0 == pytest.approx(30)  # starts at V0
     assert "safe level 50 V" in svg and "style=" not in svg and "<script" not in svg
+    assert "reaches it after 5.545 s" in svg and 'class="hold"' not in svg
+
+
+def crossing_time():
+    sol = numeric()
+    return brentq(lambda t: sol.sol(t)[0] - VS, 0, 20)
+
+
+def test_a_hold_shorter_than_the_discharge_is_marked_with_what_is_left():
+    # 100 kohm: tau 200 s; held 60 s the voltage is 800 exp(-0.3) = 592.7 V and
+    # E = C V**2 / 2 = 351.2 J remain (circuit theory)
+    p = rc_profile(100e3, C, V0, VS, HOLD)
+    svg = discharge_svg(DischargePath("BL-0004 discharge", p, "unsuitable"))
+    assert 'class="hold"' in svg and "held 60 s: 592.7 V, 351.2 J left" in svg
+    assert "reaches it after 554.5 s" in svg
 
 
 # the smallest 1-2-5 step giving at most five intervals: common practice (no source)

@@ -319,6 +319,7 @@ def cache_clear() -> None:
     """Forget every cached solve (for benchmarks and tests of the cold path)."""
     from .solver import _compile, _matrix
     _analysed.cache_clear()
+    discharge.cache_clear()
     netlist_resistance.cache_clear()
     _compile.cache_clear()
     _matrix.cache_clear()

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from functools import lru_cache
 
 import numpy as np
 from scipy.integrate import solve_ivp
@@ -323,6 +324,7 @@ class DischargeResult:
     notes: list[tuple[str, str]]
 
 
+@lru_cache(maxsize=1024)  # check 9, check 10, the plot and the job card ask for the same solve
 def discharge(net: Netlist, capacitance: float, v0: float, rs: float | None, v_safe: float,
               duration: float) -> DischargeResult:
     """Integrate C dV/dt = -I(V) in time with scipy's LSODA, the network solved at each step,

@@ -1,0 +1,29 @@
+"""`withstand check` on the demo DC-link discharge plan: check 9 states the KX-7 low-Z path's
+front-end discharge, which tests/engine/test_discharge.py holds against scipy's solve_ivp of
+the circuit written out; here the CLI must carry the same numbers."""
+
+import json
+from importlib import resources
+
+from registry.cli import main
+
+
+def test_the_cli_reports_the_front_end_discharge(runner, demo):
+    plan = str(resources.files("registry.seeddata") / "plans" / "dc-link-discharge.yaml")
+    result = runner.invoke(main, ["check", plan, "--on", "2026-12-02", "--json", "--all"],
+                           catch_exceptions=False)
+    doc = json.loads(result.output)
+    kx7 = next(s for s in doc["setups"] if s["instrument"] == "NB-0001" and s["mode"] == "lowz")
+    assert kx7["verdict"] == "unsuitable"
+    (hold,) = [f for f in kx7["findings"]
+               if f["check"] == "discharge" and "Held on for" in f["message"]]
+    # solve_ivp reference (tests/engine/test_discharge.py): PT1 trips at 0.295 s, 704.7 V and
+    # C V**2/2 = 0.5 * 2e-3 * 704.7**2 = 496.6 J left after 60 s, 2095 s to 50 V; the RC
+    # formula through 3 kohm would have said 16.64 s
+    assert hold["status"] == "fail"
+    assert "it needs 2095 s" in hold["message"]
+    assert "704.7 V and 496.6 J are left" in hold["message"]
+    assert "16.64 s" not in json.dumps(kx7)
+    dr1 = next(s for s in doc["setups"] if s["instrument"] == "BL-0002")
+    # the tool: R C ln(V0/Vs) = 1 kohm * 2 mF * ln 16 = 5.545 s (circuit theory)
+    assert any("reaches 50 V after 5.545 s" in f["message"] for f in dr1["findings"])
