@@ -54,7 +54,10 @@ def parse_ratio(value: Any) -> float:
     """A divider's attenuation, input over output: a bare number (``1000``, ``"1000"``),
     ``"N:1"`` or ``"N:M"`` (N/M), at least 1. Anything else raises :class:`ValueError`; a ratio
     is never read any other way (YAML 1.1 would have made ``1000:1`` the number 60001)."""
-    if isinstance(value, bool) or not isinstance(value, (int, float, str)):
+    if isinstance(value, bool):
+        raise ValueError(f"'{str(value).lower()}' is a true/false value, not a ratio; write it "
+                         "as 1000:1 or 1000")
+    if not isinstance(value, (int, float, str)):
         raise ValueError(f"'{value}' is not a ratio; write it as 1000:1 or 1000")
     if isinstance(value, str):
         m = _RATIO.fullmatch(value)
