@@ -112,6 +112,7 @@ def test_text_fields_keep_the_text_a_number_was_written_as():
     (unit,) = content.units
     assert unit.tag == "NO"         # YAML 1.1 would make this the boolean false
     assert unit.serial == "0123"    # YAML 1.1 octal 83, 1.2 decimal 123: the text stays
+    assert str(load_yaml("a: 0123")["a"]) == "0123"  # and a number prints as it was written
     unit = parse_fleet(load_yaml(fleet_text(serial="0o17"))).units[0]
     assert unit.serial == "0o17"
     unit = parse_fleet(load_yaml(fleet_text(serial="1.50"))).units[0]

@@ -130,16 +130,23 @@ def problems_from(exc: ValidationError, prefix: tuple = ()) -> list[FieldProblem
 
 
 class TextInt(int):
-    """An integer read from a plain scalar, with the text it was written as (``.text``), so a
-    text field given ``0123`` keeps ``"0123"`` rather than ``"123"``."""
+    """An integer read from a plain scalar, with the text it was written as (``.text``, also
+    its ``str``), so a text field given ``0123`` keeps ``"0123"`` rather than ``"123"``."""
 
     text: str
+
+    def __str__(self) -> str:
+        return self.text
 
 
 class TextFloat(float):
-    """A float read from a plain scalar, with the text it was written as (``.text``)."""
+    """A float read from a plain scalar, with the text it was written as (``.text``, also its
+    ``str``)."""
 
     text: str
+
+    def __str__(self) -> str:
+        return self.text
 
 
 def _with_text(cls, value, text: str):

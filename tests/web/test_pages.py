@@ -285,6 +285,23 @@ def test_plan_file_save_and_load(client, demo):
     assert 'value="2 mF"' in loaded.get_data(as_text=True)
 
 
+def test_loading_a_plan_file_that_is_not_utf8_is_a_400_naming_it(client, demo):
+    import io
+    login_as(client, "viewer")
+    text = "format: withstand-plan/1\ntitle: Prüfung 0123\n".encode("latin-1")
+    loaded = client.post("/checks/load", data={"csrf_token": csrf_from(client, "/checks/"),
+                                               "plan_file": (io.BytesIO(text), "p.yaml")},
+                         content_type="multipart/form-data")
+    assert loaded.status_code == 400 and "is not UTF-8 text" in loaded.get_data(as_text=True)
+    # a title written as 0123 comes back into the form as written, not as 123
+    text = ("format: withstand-plan/1\ntitle: 0123\ntask: measure-voltage\ncircuit: {supply: "
+            "isolated, waveform: dc, voltage: 20 V}\nsite: {name: North bench}\n").encode()
+    loaded = client.post("/checks/load", data={"csrf_token": csrf_from(client, "/checks/"),
+                                               "plan_file": (io.BytesIO(text), "p.yaml")},
+                         content_type="multipart/form-data")
+    assert 'value="0123"' in loaded.get_data(as_text=True)
+
+
 def test_users_page_add_role_deactivate_tokens(client, demo):
     login_as(client, "steward")
     token = csrf_from(client, "/users/")
