@@ -7,15 +7,14 @@ Plans are validated like fleet files: every problem is collected, each names its
 
 from __future__ import annotations
 
-import json
 from datetime import date
-from pathlib import Path
 
 import yaml
 
 from .engine.spec import (DEFAULT_DURATION, Circuit, Plan, SpecError, circuit_problems,
                           plan_problems)
 from .errors import FieldProblem, InvalidInput
+from .formats.common import as_text, read_document
 from .units import (CAPACITANCE, CURRENT, ENERGY, FREQUENCY, LENGTH, RESISTANCE, TIME,
                     VOLTAGE, format_quantity, parse_quantity)
 
@@ -57,12 +56,40 @@ class _Problems:
             self.items.extend(e.problems)
             return None
 
+    def text(self, value, path: str):
+        """A text field: a number keeps the text it was written as (``as_text``)."""
+        if value is None:
+            return None
+        try:
+            value = as_text(value)
+        except ValueError as e:
+            self.add(path, str(e))
+            return None
+        if not isinstance(value, str):
+            self.add(path, "must be text")
+            return None
+        return value
+
     def unknown(self, data: dict, allowed, prefix: str):
         for key in data:
             if key not in allowed:
                 path = f"{prefix}.{key}" if prefix else str(key)
                 self.add(path, f"is not a field of a plan{' ' + prefix if prefix else ''}; "
                          f"the fields are {', '.join(allowed)}")
+
+    def text(self, value, path: str):
+        """A text field: a number keeps the text it was written as (``as_text``)."""
+        if value is None:
+            return None
+        try:
+            value = as_text(value)
+        except ValueError as e:
+            self.add(path, str(e))
+            return None
+        if not isinstance(value, str):
+            self.add(path, "must be text")
+            return None
+        return value
 
     @staticmethod
     def name(data: dict, key: str):
@@ -85,10 +112,7 @@ def parse_plan(data, on: date | None = None, *, sites: dict[str, float] | None =
     fmt = data.get("format")
     if fmt != FORMAT:
         p.add("format", f"must be '{FORMAT}'" + ("" if fmt is None else f", not '{fmt}'"))
-    title = data.get("title") or ""
-    if not isinstance(title, str):
-        p.add("title", "must be text")
-        title = ""
+    title = p.text(data.get("title") or "", "title") or ""
     task = p.name(data, "task")
 
     circuit_data = data.get("circuit")
@@ -113,10 +137,7 @@ def parse_plan(data, on: date | None = None, *, sites: dict[str, float] | None =
         p.add("site", "must be a mapping of name, altitude and wet")
     else:
         p.unknown(site, SITE_FIELDS, "site")
-        site_name = site.get("name")
-        if site_name is not None and not isinstance(site_name, str):
-            p.add("site.name", "must be text")
-            site_name = None
+        site_name = p.text(site.get("name"), "site.name")
         altitude = p.quantity(site, "altitude", LENGTH, "site.altitude")
         if site.get("altitude") is None:
             if sites is not None and site_name in sites:
@@ -156,19 +177,9 @@ def parse_plan(data, on: date | None = None, *, sites: dict[str, float] | None =
 
 
 def read_plan_file(path) -> dict:
-    """The raw document of a plan file (YAML or JSON), or :class:`InvalidInput`."""
-    path = Path(path)
-    try:
-        text = path.read_text(encoding="utf-8")
-    except OSError as e:
-        raise InvalidInput(f"cannot read {path}: {e.strerror or e}") from None
-    try:
-        if path.suffix.lower() == ".json":
-            return json.loads(text)
-        return yaml.safe_load(text)
-    except (json.JSONDecodeError, yaml.YAMLError) as e:
-        raise InvalidInput(f"{path} is not valid {'JSON' if path.suffix.lower() == '.json' else 'YAML'}: "
-                           f"{str(e).splitlines()[0]}") from None
+    """The raw document of a plan file (YAML or JSON), or :class:`InvalidInput` (a missing,
+    unreadable, non-UTF-8 or malformed file)."""
+    return read_document(path)
 
 
 def load_plan(path, on: date | None = None, *, sites: dict[str, float] | None = None) -> Plan:

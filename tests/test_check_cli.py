@@ -87,3 +87,12 @@ def test_invalid_plan_exits_2_with_the_field(runner, demo, tmp_path):
     assert result.exit_code == 2
     assert "circuit.voltage" in result.output and "circuit.category" in result.output
     assert "Traceback" not in result.output
+
+
+def test_a_plan_that_is_not_utf8_exits_2_naming_it(runner, demo, tmp_path):
+    bad = tmp_path / "plan.yaml"
+    bad.write_bytes("format: withstand-plan/1\ntitle: Prüfung\n".encode("latin-1"))
+    result = runner.invoke(main, ["check", str(bad)])
+    assert result.exit_code == 2, result.output
+    assert f"'{bad}' is not UTF-8 text" in result.output
+    assert "Traceback" not in result.output and isinstance(result.exception, SystemExit)

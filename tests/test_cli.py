@@ -131,3 +131,25 @@ def test_unwritable_export_path_exits_2(runner, tmp_path):
     result = runner.invoke(main, ["export", str(target / "fleet.yaml")])
     assert result.exit_code == 2 and "error:" in result.output
     assert "Traceback" not in result.output
+
+
+def test_a_fleet_file_that_is_not_utf8_exits_2_naming_it(runner, tmp_path, database):
+    path = tmp_path / "fleet.yaml"
+    path.write_bytes("format: withstand-fleet/1\nsites: [{name: Bänk, altitude: 40 m}]\n"
+                     .encode("cp1252"))
+    result = runner.invoke(main, ["import", str(path)])
+    assert result.exit_code == 2, result.output
+    assert f"'{path}' is not UTF-8 text" in result.output
+    assert "Traceback" not in result.output and isinstance(result.exception, SystemExit)
+    with database.transaction() as s:
+        assert s.scalar(select(m.Site)) is None
+
+
+def test_import_reads_an_unquoted_ratio_as_that_ratio(runner, tmp_path, database):
+    # YAML 1.1 would store 10:1 as 601 (base 60); the fleet file is read as YAML 1.2
+    path = tmp_path / "fleet.yaml"
+    path.write_text("format: withstand-fleet/1\nmodels:\n  - {key: dv-1, kind: hv-divider, "
+                    "attenuation: 10:1}\n")
+    assert run(runner, "import", str(path)).exit_code == 0
+    with database.transaction() as s:
+        assert s.scalar(select(m.Model.attenuation)) == 10.0

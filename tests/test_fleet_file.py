@@ -5,7 +5,6 @@ import copy
 import json
 
 import pytest
-import yaml
 
 from registry.demo import demo_fleet_path
 from registry.formats.common import dump_document, read_document
@@ -15,7 +14,7 @@ from registry.errors import InvalidInput
 
 @pytest.fixture
 def doc():
-    return yaml.safe_load(demo_fleet_path().read_text())
+    return read_document(demo_fleet_path())
 
 
 def problems(data, **kw):

@@ -32,6 +32,8 @@ SRC_LOWZ = "P = V**2/R, maker's max_duration for the mode (common practice, no s
 SRC_DISCHARGE = "RC discharge: t = RC ln(V0/Vs), E = C(V0**2-Vs**2)/2 (circuit theory)"
 SRC_POWER = "peak power V0**2/R against the tool's power rating (common practice, no source)"
 SRC_DIVIDER = "divider output as a Thevenin source Rout (common practice, no source)"
+SRC_DIVIDER_DATA = "two-resistor divider: A = (Rt + Rb||RL)/(Rb||RL), Rout = Rt||Rb (circuit " \
+                   "theory); 10 % agreement (common practice, no source)"
 
 READING_TOLERANCE = 0.01  # a reading more than 1 % low is a caution (SPEC §5.7)
 LOAD_TOLERANCE = 0.10     # a divider load more than 10 % off its required load (SPEC §5.7)
@@ -410,6 +412,65 @@ def divider_error(z_load: float, required_load: float, r_out: float) -> float:
     return z_load * (required_load + r_out) / (required_load * (z_load + r_out)) - 1.0
 
 
+DIVIDER_DATA_TOLERANCE = 0.10  # recorded and computed attenuation more than 10 % apart
+
+
+def loaded_divider_attenuation(resistance: float, output_resistance: float,
+                               load: float) -> float | None:
+    """The attenuation V_in/V_out of a two-resistor divider loaded by ``load`` ohm, from its
+    input resistance ``resistance`` R = Rt + Rb and its output resistance ``output_resistance``
+    Rout = Rt*Rb/(Rt + Rb) (ohm, both of the divider alone, unloaded):
+
+        Rb = 2*R*Rout / (R + sqrt(R**2 - 4*R*Rout))   the low leg, the smaller root of
+                                                      Rb**2 - R*Rb + R*Rout = 0
+        Rt = R - Rb                                   the high leg
+        Rp = Rb*RL / (Rb + RL)                        the low leg in parallel with the load
+        A  = (Rt + Rp) / Rp                           loaded input resistance over Rp
+
+    Source: series and parallel resistors and the Thevenin equivalent of a divider (circuit
+    theory). ``None`` when no two-resistor divider has these values: Rt*Rb/(Rt + Rb) is at most
+    (Rt + Rb)/4, so an output resistance above a quarter of the input resistance is impossible.
+    """
+    disc = resistance * resistance - 4.0 * resistance * output_resistance
+    if resistance <= 0 or output_resistance <= 0 or load <= 0 or disc < 0:
+        return None
+    r_low = 2.0 * resistance * output_resistance / (resistance + math.sqrt(disc))
+    r_high = resistance - r_low
+    r_par = r_low * load / (r_low + load)
+    return (r_high + r_par) / r_par
+
+
+def _divider_data(d: ModelSpec) -> list[Finding]:
+    """A caution when a divider's recorded attenuation and its recorded resistance, output
+    resistance and required load disagree by more than :data:`DIVIDER_DATA_TOLERANCE` (see
+    :func:`loaded_divider_attenuation`); nothing when any of the four is not recorded."""
+    if None in (d.attenuation, d.resistance, d.output_resistance, d.required_load):
+        return []
+    fields = (f"model {d.key}: attenuation {d.attenuation:g}:1, resistance "
+              f"{fq(d.resistance, RESISTANCE)}, output_resistance "
+              f"{fq(d.output_resistance, RESISTANCE)}, required_load "
+              f"{fq(d.required_load, RESISTANCE)}")
+    computed = loaded_divider_attenuation(d.resistance, d.output_resistance, d.required_load)
+    if computed is None:
+        return [_f("loading", "caution", d.key, f"The recorded data of {d.key} do not fit a "
+                   f"resistive divider ({fields}): an output resistance cannot exceed a "
+                   "quarter of the input resistance. Check these fields against the maker's "
+                   "data; readings through it are scaled by the recorded attenuation.",
+                   SRC_DIVIDER_DATA, f"{d.attenuation:g}:1", "no divider fits")]
+    off = abs(computed - d.attenuation) / d.attenuation
+    if off <= DIVIDER_DATA_TOLERANCE:
+        return []
+    return [_f("loading", "caution", d.key, f"The recorded data of {d.key} disagree ({fields}): "
+               f"its resistances into the required load give about {_ratio_text(computed)}:1, "
+               f"{off:.0%} from the recorded attenuation. Check these fields against the "
+               "maker's data; readings through it are scaled by the recorded attenuation.",
+               SRC_DIVIDER_DATA, f"{d.attenuation:g}:1", f"{_ratio_text(computed)}:1")]
+
+
+def _ratio_text(ratio: float) -> str:
+    return f"{ratio:.4g}" if ratio < 1e4 else f"{ratio:.0f}"
+
+
 def check_loading(ctx: SetupContext) -> list[Finding]:
     plan, mode, c = ctx.plan, ctx.mode, ctx.plan.circuit
     if plan.task in ("measure-current", "discharge") or mode.clamp or ctx.current_clamp:
@@ -447,6 +508,7 @@ def check_loading(ctx: SetupContext) -> list[Finding]:
     d = ctx.divider
     if d is not None:
         out += _divider_load(ctx, d)
+        out += _divider_data(d)
     return out
 
 

@@ -1,10 +1,11 @@
-"""What the file formats share: quantity fields for pydantic, reading JSON or YAML, and turning
-pydantic's errors into :class:`InvalidInput` with paths like ``models[2].modes[1].max_input``."""
+"""What the file formats share: quantity and text fields for pydantic, the one JSON and YAML
+reader (YAML 1.2 core schema, no aliases), and turning pydantic's errors into :class:`InvalidInput` with paths like ``models[2].modes[1].max_input``."""
 
 from __future__ import annotations
 
 import json
 import math
+import re
 from datetime import date
 from pathlib import Path
 from typing import Annotated, Any
@@ -104,7 +105,7 @@ def _friendly(err: dict) -> str:
     if kind in ("literal_error", "enum"):
         expected = err.get("ctx", {}).get("expected", "")
         return f"'{err.get('input')}' is not allowed; use {expected}"
-    if kind == "quantity":
+    if kind in ("quantity", "text", "ratio"):
         return err["msg"]
     msg = err["msg"]
     return msg[0].lower() + msg[1:] if msg else kind
@@ -119,32 +120,224 @@ def problems_from(exc: ValidationError, prefix: tuple = ()) -> list[FieldProblem
     return problems
 
 
-def read_document(path: str | Path) -> Any:
-    """Read a JSON or YAML file; unreadable or malformed text raises InvalidInput."""
-    p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise InvalidInput(f"file '{p}' does not exist") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InvalidInput(f"cannot read '{p}': {exc}") from None
-    return parse_text(text, json_only=p.suffix.lower() == ".json")
+# -- reading YAML and JSON ---------------------------------------------------------------------
+#
+# Every YAML the package reads (fleet files, plan files, the web model form's boxes, plans
+# loaded on the web) goes through :func:`load_yaml`. PyYAML's own ``safe_load`` follows YAML
+# 1.1, which reads an unquoted ratio ``1000:1`` as the base-60 integer 60001, ``NO``/``on`` as
+# booleans and ``0123`` as octal 83; :class:`CoreLoader` resolves plain scalars by the YAML 1.2
+# core schema instead (YAML 1.2.2, 10.3 "Core Schema"), so ``1000:1`` stays text.
 
 
-def parse_text(text: str, *, json_only: bool = False) -> Any:
-    if json_only:
+class TextInt(int):
+    """An integer read from a plain scalar, with the text it was written as (``.text``, also
+    its ``str``), so a text field given ``0123`` keeps ``"0123"`` rather than ``"123"``."""
+
+    text: str
+
+    def __str__(self) -> str:
+        return self.text
+
+
+class TextFloat(float):
+    """A float read from a plain scalar, with the text it was written as (``.text``, also its
+    ``str``)."""
+
+    text: str
+
+    def __str__(self) -> str:
+        return self.text
+
+
+def _with_text(cls, value, text: str):
+    out = cls(value)
+    out.text = text
+    return out
+
+
+class CoreLoader(yaml.SafeLoader):
+    """PyYAML's safe loader with the YAML 1.2 core schema's implicit resolvers and only its
+    types (null, bool, int, float, str, sequence, mapping); anchors and aliases are refused
+    (an alias bomb must not expand) and so is a key given twice in one mapping."""
+
+    yaml_implicit_resolvers: dict = {}
+
+    def compose_node(self, parent, index):
+        event = self.peek_event()
+        if isinstance(event, yaml.AliasEvent) or getattr(event, "anchor", None) is not None:
+            raise yaml.composer.ComposerError(
+                None, None, "anchors and aliases (&name, *name) are not accepted; write each "
+                "value out in full", event.start_mark)
+        return super().compose_node(parent, index)
+
+    def construct_mapping(self, node, deep=False):
+        if isinstance(node, yaml.MappingNode):
+            seen = set()
+            for key_node, _ in node.value:
+                key = self.construct_object(key_node, deep=True)
+                try:
+                    again = key in seen
+                except TypeError:
+                    continue  # an unhashable key: the base class says so
+                if again:
+                    raise yaml.constructor.ConstructorError(
+                        None, None, f"the key '{key}' is given twice in one mapping",
+                        key_node.start_mark)
+                seen.add(key)
+        return super().construct_mapping(node, deep)
+
+    def construct_core_bool(self, node):
+        return self.construct_scalar(node) in ("true", "True", "TRUE")
+
+    def construct_core_int(self, node):
+        text = self.construct_scalar(node)
+        body = text.strip()
         try:
-            return json.loads(text)
-        except json.JSONDecodeError as exc:
-            raise InvalidInput(f"not valid JSON: {exc.msg} at line {exc.lineno} "
-                               f"column {exc.colno}") from None
+            if "_" in body:  # YAML 1.1's digit separators are not 1.2's
+                raise ValueError
+            if body[:2] == "0o":
+                value = int(body[2:], 8)
+            elif body[:2] == "0x":
+                value = int(body[2:], 16)
+            else:
+                value = int(body, 10)
+        except ValueError:
+            raise yaml.constructor.ConstructorError(
+                None, None, f"'{text}' is not an integer", node.start_mark) from None
+        return _with_text(TextInt, value, text)
+
+    def construct_core_float(self, node):
+        text = self.construct_scalar(node)
+        body = text.lower()
+        try:
+            if body.lstrip("+-") == ".inf":
+                value = -math.inf if body.startswith("-") else math.inf
+            elif body == ".nan":
+                value = math.nan
+            elif "_" in body:
+                raise ValueError
+            else:
+                value = float(body)
+        except ValueError:
+            raise yaml.constructor.ConstructorError(
+                None, None, f"'{text}' is not a number", node.start_mark) from None
+        return _with_text(TextFloat, value, text)
+
+    def construct_not_core(self, node):
+        raise yaml.constructor.ConstructorError(
+            None, None, f"the tag {node.tag} is not accepted here", node.start_mark)
+
+
+# The core schema's resolvers, in this order: an int is tried before a float.
+_CORE_RESOLVERS = (
+    ("tag:yaml.org,2002:null", r"^(?:~|null|Null|NULL|)$", ["~", "n", "N", ""]),
+    ("tag:yaml.org,2002:bool", r"^(?:true|True|TRUE|false|False|FALSE)$", list("tTfF")),
+    ("tag:yaml.org,2002:int", r"^(?:[-+]?[0-9]+|0o[0-7]+|0x[0-9a-fA-F]+)$",
+     list("-+0123456789")),
+    ("tag:yaml.org,2002:float",
+     r"^(?:[-+]?(?:\.[0-9]+|[0-9]+(?:\.[0-9]*)?)(?:[eE][-+]?[0-9]+)?"
+     r"|[-+]?\.(?:inf|Inf|INF)|\.(?:nan|NaN|NAN))$", list("-+.0123456789")),
+)
+for _tag, _pattern, _first in _CORE_RESOLVERS:
+    CoreLoader.add_implicit_resolver(_tag, re.compile(_pattern), _first)
+CoreLoader.yaml_constructors = {
+    "tag:yaml.org,2002:null": yaml.SafeLoader.construct_yaml_null,
+    "tag:yaml.org,2002:bool": CoreLoader.construct_core_bool,
+    "tag:yaml.org,2002:int": CoreLoader.construct_core_int,
+    "tag:yaml.org,2002:float": CoreLoader.construct_core_float,
+    "tag:yaml.org,2002:str": yaml.SafeLoader.construct_yaml_str,
+    "tag:yaml.org,2002:seq": yaml.SafeLoader.construct_yaml_seq,
+    "tag:yaml.org,2002:map": yaml.SafeLoader.construct_yaml_map,
+    None: CoreLoader.construct_not_core,
+}
+
+
+def load_yaml(text: str, *, what: str = "") -> Any:
+    """The one YAML reader: ``text`` read with :class:`CoreLoader`. Malformed text raises
+    :class:`InvalidInput` saying where (``what`` names the file or box, if given)."""
     try:
-        return yaml.safe_load(text)  # JSON is YAML too
+        return yaml.load(text, Loader=CoreLoader)  # noqa: S506 - a safe loader
     except yaml.YAMLError as exc:
         mark = getattr(exc, "problem_mark", None)
         where = f" at line {mark.line + 1} column {mark.column + 1}" if mark else ""
-        raise InvalidInput(f"not valid YAML or JSON{where}: "
-                           f"{getattr(exc, 'problem', None) or exc}") from None
+        problem = getattr(exc, "problem", None) or str(exc).splitlines()[0]
+        raise InvalidInput(f"{what + ' is ' if what else ''}not valid YAML or JSON{where}: "
+                           f"{problem}") from None
+
+
+def load_json(text: str, *, what: str = "") -> Any:
+    """JSON text, numbers keeping the text they were written as (like :func:`load_yaml`)."""
+    try:
+        return json.loads(text, parse_int=lambda s: _with_text(TextInt, int(s), s),
+                          parse_float=lambda s: _with_text(TextFloat, float(s), s))
+    except json.JSONDecodeError as exc:
+        raise InvalidInput(f"{what + ' is ' if what else ''}not valid JSON: {exc.msg} at line "
+                           f"{exc.lineno} column {exc.colno}") from None
+
+
+def read_text(path: str | Path) -> str:
+    """A file's text, which must be UTF-8; a missing, unreadable or non-UTF-8 file raises
+    :class:`InvalidInput` naming it."""
+    p = Path(path)
+    try:
+        data = p.read_bytes()
+    except FileNotFoundError:
+        raise InvalidInput(f"cannot read '{p}': the file does not exist") from None
+    except OSError as exc:
+        raise InvalidInput(f"cannot read '{p}': {exc.strerror or exc}") from None
+    try:
+        return data.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        raise InvalidInput(not_utf8(p, exc)) from None
+
+
+def not_utf8(path: str | Path, exc: UnicodeDecodeError) -> str:
+    return (f"'{path}' is not UTF-8 text (byte 0x{exc.object[exc.start]:02x} at "
+            f"offset {exc.start}); save it as UTF-8 and try again")
+
+
+def read_document(path: str | Path) -> Any:
+    """Read a JSON or YAML file; unreadable or malformed text raises InvalidInput."""
+    p = Path(path)
+    return parse_text(read_text(p), json_only=p.suffix.lower() == ".json", what=f"'{p}'")
+
+
+def parse_text(text: str, *, json_only: bool = False, what: str = "") -> Any:
+    if json_only:
+        return load_json(text, what=what)
+    return load_yaml(text, what=what)  # JSON is YAML too
+
+
+# -- text fields -------------------------------------------------------------------------------
+
+def as_text(value: Any) -> Any:
+    """A text field's value: text as given; a number read from a plain scalar as the exact
+    text it was written as (serial ``0123`` stays ``"0123"``); a true/false value or a float
+    with no written text is refused (:class:`ValueError`) with a hint to quote it. Anything else
+    is returned for the field's own validation to refuse."""
+    if isinstance(value, bool):
+        word = "true" if value else "false"
+        raise ValueError(f"reads as the yes/no value {word}, not text; if '{word}' is the text, "
+                         f"put it in quotes: \"{word}\"")
+    if isinstance(value, (TextInt, TextFloat)):
+        return value.text
+    if isinstance(value, int):
+        return str(value)
+    if isinstance(value, float):
+        raise ValueError(f"reads as the number {value!r}, not text; put it in quotes so it "
+                         "keeps its exact text")
+    return value
+
+
+def _text_validator(value: Any) -> Any:
+    try:
+        return as_text(value)
+    except ValueError as exc:
+        raise PydanticCustomError("text", str(exc)) from None
+
+
+# A pydantic text field that keeps a number's written text (see :func:`as_text`).
+Text = Annotated[str, BeforeValidator(_text_validator)]
 
 
 def text_of(value: float | None, dim: u.Dimension) -> str | None:

@@ -8,18 +8,21 @@ same file.
 
 from __future__ import annotations
 
+import math
 import re
 from dataclasses import dataclass
 from datetime import date
 from typing import Annotated, Any, Literal
 
-from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, ValidationError, field_validator
+from pydantic import (BaseModel, BeforeValidator, ConfigDict, Field, ValidationError,
+                      WithJsonSchema, field_validator)
+from pydantic_core import PydanticCustomError
 
 from .. import units as u
 from ..engine import spec
 from ..errors import FieldProblem, InvalidInput
 from .common import (Capacitance, Current, Duration, Energy, I2t, Length, Power, Resistance,
-                     Voltage, path_of, problems_from, read_document, text_defaults, text_of)
+                     Text, Voltage, path_of, problems_from, read_document, text_defaults, text_of)
 
 FORMAT = "withstand-fleet/1"
 
@@ -42,19 +45,54 @@ class _Doc(BaseModel):
     model_config = ConfigDict(extra="forbid", frozen=True)
 
 
-def _ratio(value: Any) -> Any:
-    """An attenuation as a bare ratio: 1000, "1000", or "1000:1"."""
+_NUMBER = r"[0-9]+(?:\.[0-9]*)?(?:[eE][-+]?[0-9]+)?|\.[0-9]+(?:[eE][-+]?[0-9]+)?"
+_RATIO = re.compile(rf"\s*({_NUMBER})\s*(?::\s*({_NUMBER})\s*)?")
+RATIO_PATTERN = rf"^{_RATIO.pattern}$"
+
+
+def parse_ratio(value: Any) -> float:
+    """A divider's attenuation, input over output: a bare number (``1000``, ``"1000"``),
+    ``"N:1"`` or ``"N:M"`` (N/M), at least 1. Anything else raises :class:`ValueError`; a ratio
+    is never read any other way (YAML 1.1 would have made ``1000:1`` the number 60001)."""
+    if isinstance(value, bool):
+        raise ValueError(f"'{str(value).lower()}' is a true/false value, not a ratio; write it "
+                         "as 1000:1 or 1000")
+    if not isinstance(value, (int, float, str)):
+        raise ValueError(f"'{value}' is not a ratio; write it as 1000:1 or 1000")
     if isinstance(value, str):
-        m = re.fullmatch(r"\s*([0-9.eE+-]+)\s*(?::\s*1\s*)?", value)
+        m = _RATIO.fullmatch(value)
         if not m:
-            raise ValueError(f"'{value}' is not a ratio; write it as 1000 or '1000:1'")
-        return float(m.group(1))
-    return value
+            raise ValueError(f"'{value}' is not a ratio; write it as 1000:1 or 1000")
+        out = float(m.group(1))
+        if m.group(2) is not None:
+            below = float(m.group(2))
+            if below == 0:
+                raise ValueError(f"'{value}' divides by zero; write the ratio as input:output, "
+                                 "e.g. 1000:1")
+            out /= below
+    else:
+        out = float(value)
+    if not math.isfinite(out) or out < 1:
+        raise ValueError(f"'{value}' is not an attenuation: the ratio is input:output and at "
+                         "least 1:1, e.g. 1000:1")
+    return out
 
 
-Ratio = Annotated[float, BeforeValidator(_ratio), Field(ge=1)]
-Name = Annotated[str, Field(min_length=1, max_length=120)]
-Key = Annotated[str, Field(min_length=1, max_length=64, pattern=r"^[A-Za-z0-9][A-Za-z0-9._-]*$")]
+def _ratio(value: Any) -> float:
+    try:
+        return parse_ratio(value)
+    except ValueError as exc:
+        raise PydanticCustomError("ratio", str(exc)) from None
+
+
+Ratio = Annotated[float, BeforeValidator(_ratio), WithJsonSchema({
+    "anyOf": [{"type": "number", "minimum": 1}, {"type": "string", "pattern": RATIO_PATTERN}],
+    "description": "a ratio, input:output, at least 1: 1000:1, 2000:2 or 1000"})]
+Name = Annotated[Text, Field(min_length=1, max_length=120)]
+_KEY = r"^[A-Za-z0-9][A-Za-z0-9._-]*$"
+# (pydantic leaves a pattern behind a before-validator out of the schema: it is given again)
+Key = Annotated[Text, Field(min_length=1, max_length=64, pattern=_KEY,
+                            json_schema_extra={"pattern": _KEY})]
 
 
 class SiteDoc(_Doc):
@@ -99,7 +137,7 @@ class RatingDoc(_Doc):
 
 class ModeDoc(_Doc):
     key: Key
-    label: str = ""
+    label: Text = ""
     measures: Literal[spec.MEASURES]  # type: ignore[valid-type]
     waveform: Literal[spec.WAVEFORMS] = "both"  # type: ignore[valid-type]
     terminals: list[Name] = []
@@ -111,7 +149,7 @@ class ModeDoc(_Doc):
     discharge_energy: Energy | None = None
     clamp: bool = False
     fuse: FuseDoc | None = None
-    closes: list[str] = []
+    closes: list[Text] = []
 
 
 class ElementDoc(BaseModel):
@@ -125,17 +163,17 @@ class ElementDoc(BaseModel):
 
 class ModelDoc(_Doc):
     key: Key
-    maker: str = ""
-    name: str = ""
+    maker: Text = ""
+    name: Text = ""
     kind: Literal[spec.KINDS]  # type: ignore[valid-type]
-    connectors: list[str] = []
+    connectors: list[Text] = []
     integrated_leads: bool = False
     max_altitude: Length = spec.DEFAULT_MAX_ALTITUDE
     pollution_degree: Literal[1, 2, 3, 4] = spec.DEFAULT_POLLUTION_DEGREE
     ratings: list[RatingDoc] = []
     modes: list[ModeDoc] = []
     front_end: list[ElementDoc] = []
-    connector: str | None = None
+    connector: Text | None = None
     current_rating: Current | None = None
     tip_exposure: Length | None = None
     fuse: FuseDoc | None = None
@@ -152,13 +190,13 @@ class ModelDoc(_Doc):
 class UnitDoc(_Doc):
     tag: Key
     model: Key
-    serial: str = ""
-    site: str | None = None
-    custodian: str = ""
+    serial: Text = ""
+    site: Text | None = None
+    custodian: Text = ""
     status: Literal[spec.UNIT_STATUSES] = "in-service"  # type: ignore[valid-type]
     verified_on: date | None = None
     verification_due: date | None = None
-    notes: str = ""
+    notes: Text = ""
 
 
 class FleetDoc(_Doc):

@@ -12,12 +12,13 @@ from __future__ import annotations
 
 import math
 import re
-from datetime import date, datetime
+from datetime import date, datetime, time, timedelta
 from pathlib import Path
 
 import pandas as pd
 
 from ..errors import FieldProblem, InvalidInput
+from ..formats.common import not_utf8
 from ..formats.fleet import FORMAT, UnitDoc, parse_fleet, unit_to_document
 from .db import Database
 from .fleet import ImportReport, apply_fleet, known_keys
@@ -41,15 +42,24 @@ def _read(path: Path) -> pd.DataFrame:
         return pd.read_excel(path, dtype=object, engine="openpyxl")
     except FileNotFoundError:
         raise InvalidInput(f"file '{path}' does not exist") from None
+    except UnicodeDecodeError as exc:
+        raise InvalidInput(not_utf8(path, exc)) from None
     except Exception as exc:  # a damaged workbook, a binary file named .csv
         raise InvalidInput(f"cannot read '{path}' as a spreadsheet: "
                            f"{exc.__class__.__name__}: {exc}") from None
 
 
 def _cell(value, column: str):
-    """A cell as the fleet file would hold it: text, a date, or absent (``None``)."""
+    """A cell as the fleet file would hold it: text, a date, or absent (``None``). A time of
+    day or a duration is refused (:class:`ValueError`): that is what a spreadsheet makes of
+    ``10:1`` typed into a cell, and its text is gone."""
     if value is None or (isinstance(value, float) and math.isnan(value)):
         return None
+    if isinstance(value, pd.Timedelta):
+        value = value.to_pytimedelta()
+    if isinstance(value, (time, timedelta)):
+        raise ValueError(f"holds a time ({value}), which is what a spreadsheet makes of text "
+                         "such as 10:1; format the cell as text and type it again")
     if isinstance(value, pd.Timestamp):
         value = value.to_pydatetime()
     if isinstance(value, datetime):
@@ -82,12 +92,18 @@ def sheet_rows(path: str | Path) -> tuple[list[dict], list[int], list[str]]:
         doc = {}
         for h, v in zip(headers, raw.tolist()):
             if h in COLUMNS:
-                cell = _cell(v, h)
+                try:
+                    cell = _cell(v, h)
+                except ValueError as exc:
+                    problems.append(FieldProblem(f"row {i + 2}, column {h}", str(exc)))
+                    continue
                 if cell is not None:
                     doc[h] = cell
         if doc:
             rows.append(doc)
             numbers.append(i + 2)
+    if problems:
+        raise InvalidInput(problems)
     return rows, numbers, [h for h in headers if h in COLUMNS]
 
 

@@ -16,7 +16,7 @@ from flask import Blueprint, Response, abort, render_template, request, url_for
 from ..engine.spec import PLAN_WAVEFORMS, SUPPLIES, TASKS
 from ..errors import InvalidInput
 from ..extensions import db
-from ..formats.common import parse_date, parse_text
+from ..formats.common import not_utf8, parse_date, parse_text
 from ..plans import CIRCUIT_QUANTITIES, FORMAT
 from ..store import queries
 from ..checking import plan_from, run_check
@@ -289,8 +289,12 @@ def save_plan():
 def load_plan():
     errors = FieldErrors()
     upload = request.files.get("plan_file")
-    text = upload.read().decode("utf-8", "replace") if upload and upload.filename else \
-        request.form.get("plan_text", "")
+    try:
+        text = upload.read().decode("utf-8-sig") if upload and upload.filename else \
+            request.form.get("plan_text", "")
+    except UnicodeDecodeError as exc:
+        errors.add("plan_file", not_utf8(upload.filename, exc))
+        return _form(fields_from({}), errors, 400)
     if not text.strip():
         errors.add("plan_file", "choose a plan file (YAML or JSON) to load")
         return _form(fields_from({}), errors, 400)

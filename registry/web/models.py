@@ -1,7 +1,8 @@
 """The model library: a list, a page per model, and the steward's edit form.
 
 The edit form takes the ratings, modes and front end as the fleet file writes them (YAML or
-JSON text) and validates the whole model with the fleet file's own validator, so the messages
+JSON text, read by the fleet file's own reader, ``formats.common.load_yaml``) and validates
+the whole model with the fleet file's own validator, so the messages
 and the paths (``modes[1].max_input``) are the ones an import would give.
 """
 
@@ -17,7 +18,7 @@ from sqlalchemy.orm import selectinload
 from ..engine import spec
 from ..errors import FieldProblem, InvalidInput
 from ..extensions import db
-from ..formats.common import text_of
+from ..formats.common import load_yaml, text_of
 from ..formats.fleet import ELEMENT_PARAM_DIMS, FORMAT, model_to_document, parse_fleet
 from ..store import models as m
 from ..store.fleet import diff_documents, known_keys, record_changes
@@ -113,9 +114,9 @@ def parse_edit(row: m.Model, form, errors: FieldErrors) -> spec.ModelSpec | None
                  "name": form.get("name", "").strip()}
     other_text = form.get("other", "")
     try:
-        other = yaml.safe_load(other_text) if other_text.strip() else {}
-    except yaml.YAMLError as exc:
-        errors.add("other", f"not valid YAML: {getattr(exc, 'problem', None) or exc}")
+        other = load_yaml(other_text) if other_text.strip() else {}
+    except InvalidInput as exc:
+        errors.add("other", exc.problems[0].message)
         other = {}
     if not isinstance(other, dict):
         errors.add("other", "must be a mapping of fields, e.g. 'max_altitude: 3000 m'")
@@ -128,12 +129,9 @@ def parse_edit(row: m.Model, form, errors: FieldErrors) -> spec.ModelSpec | None
     for section in SECTIONS:
         text = form.get(section, "")
         try:
-            value = yaml.safe_load(text) if text.strip() else []
-        except yaml.YAMLError as exc:
-            mark = getattr(exc, "problem_mark", None)
-            where = f" at line {mark.line + 1}" if mark else ""
-            errors.add(section, f"not valid YAML{where}: "
-                       f"{getattr(exc, 'problem', None) or exc}")
+            value = load_yaml(text) if text.strip() else []
+        except InvalidInput as exc:
+            errors.add(section, exc.problems[0].message)
             continue
         if not isinstance(value, list):
             errors.add(section, "must be a list, one entry per line starting with '- '")

@@ -178,9 +178,11 @@ def test_loading_caution_on_a_soft_source():
 
 
 def test_divider_into_the_wrong_load_is_a_caution_with_its_error():
+    # A 10 kohm output and 1000:1 into 10 Mohm fit a divider of about 10 Mohm (9.99 Mohm over
+    # 10.01 kohm), so the divider's own data agree and only the load is wrong.
     div = ModelSpec("dv-1", "hv-divider", ratings=(Rating("none", 40e3, 48e3),),
                     connector="4mm", attenuation=1000.0, required_load=10e6,
-                    output_resistance=10e3, resistance=1e9, min_voltage=1e3)
+                    output_resistance=10e3, resistance=10e6, min_voltage=1e3)
     m = meter()
     fleet = fleet_of([m, div], [unit("M1", "mx-3"), unit("D1", "dv-1")])
     plan = Plan("measure-voltage", Circuit("isolated", "dc", 20e3), altitude=40.0, on=JOB_DAY)
@@ -195,6 +197,58 @@ def test_divider_into_the_wrong_load_is_a_caution_with_its_error():
     # a divider is not offered below its min_voltage
     plan = Plan("measure-voltage", Circuit("isolated", "dc", 500.0), altitude=40.0, on=JOB_DAY)
     assert all(s.accessories != ("D1",) for s in evaluate(plan, fleet).setups)
+
+
+def test_loaded_divider_attenuation_worked_example():
+    # Worked by hand (series/parallel resistors, Thevenin): Rt = 999 Mohm over Rb = 1.25 Mohm,
+    # loaded by 5 Mohm: Rb||RL = 1.25*5/6.25 = 1 Mohm, so A = (999 + 1)/1 = 1000. The divider
+    # alone: R = Rt + Rb = 1000.25 Mohm, Rout = Rt*Rb/R = 999*1.25/1000.25 Mohm.
+    r, r_out = 1000.25e6, 999e6 * 1.25e6 / 1000.25e6
+    assert checks.loaded_divider_attenuation(r, r_out, 5e6) == pytest.approx(1000.0, rel=1e-9)
+    # unloaded (RL -> infinity) it is R/Rb = 1000.25/1.25 = 800.2
+    assert checks.loaded_divider_attenuation(r, r_out, 1e30) == pytest.approx(800.2, rel=1e-9)
+    # Rt||Rb can be at most (Rt + Rb)/4 (equal legs): 1 Mohm with 300 kohm out is no divider
+    assert checks.loaded_divider_attenuation(1e6, 300e3, 10e6) is None
+
+
+def _divider(**kw):
+    data = dict(ratings=(Rating("none", 40e3, 48e3),), connector="4mm", attenuation=1000.0,
+                required_load=5e6, resistance=1000.25e6,
+                output_resistance=999e6 * 1.25e6 / 1000.25e6)
+    data.update(kw)
+    return ModelSpec("dv-1", "hv-divider", **data)
+
+
+def _data_findings(div):
+    fleet = fleet_of([meter(), div], [unit("M1", "mx-3"), unit("D1", "dv-1")])
+    plan = Plan("measure-voltage", Circuit("isolated", "dc", 20e3), altitude=40.0, on=JOB_DAY)
+    s = _only(evaluate(plan, fleet), "M1", "vdc")
+    return [f for f in _by(s, "loading", "dv-1") if "recorded data" in f.message], s
+
+
+def test_divider_data_that_agree_give_no_caution():
+    # the worked example above: its resistances give 1000:1, as recorded
+    assert _data_findings(_divider())[0] == []
+
+
+def test_divider_data_more_than_10_percent_apart_is_a_caution_naming_the_fields():
+    # the same resistances recorded as 1200:1: 1000 vs 1200 is 16.7 % apart (> 10 %)
+    (f,), s = _data_findings(_divider(attenuation=1200.0))
+    assert f.status == "caution" and s.verdict == "conditional"
+    for field in ("attenuation 1200:1", "resistance", "output_resistance", "required_load"):
+        assert field in f.message
+    assert "about 1000:1" in f.message and "17%" in f.message
+    # 1100:1 is 9.1 % from 1000:1 (within 10 %): no caution
+    assert _data_findings(_divider(attenuation=1100.0))[0] == []
+    # 1 Gohm with a 10 kohm output into 10 Mohm is about 100100:1, not 1000:1
+    (f,), _ = _data_findings(_divider(resistance=1e9, output_resistance=10e3,
+                                      required_load=10e6))
+    assert "about 100099:1" in f.message
+
+
+def test_divider_data_no_divider_can_have_is_a_caution():
+    (f,), _ = _data_findings(_divider(resistance=1e6, output_resistance=300e3))
+    assert f.status == "caution" and "quarter of the input resistance" in f.message
 
 
 def test_low_z_longer_than_its_limit_fails():

@@ -74,7 +74,12 @@ def test_hv_supply_through_the_divider(fleet):
     r = run(fleet, "hv-supply-divider")
     best = verdict(r, "BL-0001", "vdc")
     assert best.accessories == ("BL-0005",)
-    assert best.verdict != "unsuitable"
+    assert best.verdict == "suitable"
+    # the plan's comment: a 1000:1 divider shows 20 kV / 1000 = 20 V at the meter (read as
+    # YAML 1.1, "1000:1" was the base-60 number 60001 and the meter was said to see 333 mV)
+    assert any("20 kV down to 20 V at the instrument" in f.message for f in best.findings)
+    # its recorded resistances agree with its ratio: no data caution
+    assert not [f for f in best.findings if "recorded data" in f.message]
     for s in r.setups:
         if "BL-0005" not in s.accessories:
             assert s.verdict == "unsuitable"  # nothing else takes 20 kV

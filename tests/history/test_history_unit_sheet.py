@@ -1,7 +1,7 @@
 """Units from a spreadsheet: xlsx (written with openpyxl, dates as real date cells) and csv;
 a dry run changes nothing; a bad row names its row and column and writes nothing."""
 
-from datetime import date
+from datetime import date, time, timedelta
 
 import openpyxl
 import pytest
@@ -106,3 +106,45 @@ def test_unknown_column_and_missing_tag(demo, tmp_path):
         import_unit_sheet(demo, path)
     text = str(err.value)
     assert "column colour: is not a unit field" in text and "column tag: is missing" in text
+
+
+def test_csv_cells_keep_text_a_yaml_reader_would_convert(demo, tmp_path):
+    # YAML 1.1 would read NO as false, 0123 as octal 83 and 10:1 as the base-60 number 601;
+    # a spreadsheet cell is text and keeps it exactly.
+    path = tmp_path / "units.csv"
+    path.write_text("tag,model,serial,notes\nNO,kx-3,0123,10:1 divider\nNB-0103,kx-3,0o17,"
+                    "1000:1\n", encoding="utf-8")
+    import_unit_sheet(demo, path)
+    with demo.transaction() as s:
+        rows = dict(s.execute(select(m.Unit.tag, m.Unit.serial)
+                              .where(m.Unit.tag.in_(["NO", "NB-0103"]))).all())
+        notes = s.scalar(select(m.Unit.notes).where(m.Unit.tag == "NB-0103"))
+    assert rows == {"NO": "0123", "NB-0103": "0o17"} and notes == "1000:1"
+
+
+def test_a_time_cell_is_refused_with_its_row_and_column(runner, demo, tmp_path):
+    # A spreadsheet stores 10:1 typed into a cell as the time 10:01 (and 100:1 as a duration
+    # of 100 h 1 min); the text is gone, so the cell is refused rather than read as "10:01:00".
+    before = snapshot(demo)
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(HEADER)
+    ws.append(["NB-0104", "kx-7", time(10, 1), "North bench", "", "in-service", None, None,
+               None])
+    ws.append(["NB-0105", "kx-7", "1", "North bench", "", "in-service", None, None,
+               timedelta(hours=100, minutes=1)])
+    ws["I3"].number_format = "[h]:mm"
+    wb.save(tmp_path / "units.xlsx")
+    result = runner.invoke(main, ["import", str(tmp_path / "units.xlsx")])
+    assert result.exit_code == 2, result.output
+    assert "row 2, column serial: holds a time (10:01:00)" in result.output
+    assert "row 3, column notes: holds a time" in result.output
+    assert snapshot(demo) == before
+
+
+def test_a_csv_that_is_not_utf8_is_a_message(runner, demo, tmp_path):
+    path = tmp_path / "units.csv"
+    path.write_bytes("tag,model,custodian\nNB-0106,kx-7,Jörg Wendt\n".encode("latin-1"))
+    result = runner.invoke(main, ["import", str(path)])
+    assert result.exit_code == 2 and "is not UTF-8 text" in result.output
+    assert str(path) in result.output and "Traceback" not in result.output

@@ -3,6 +3,7 @@
 import re
 from datetime import date, timedelta
 
+import pytest
 import yaml
 from sqlalchemy import select
 
@@ -192,6 +193,32 @@ def test_model_edit_rejects_bad_yaml_and_unknown_switch(client, demo):
     assert "closes[0]: &#39;S9&#39; is not a switch" in response.get_data(as_text=True)
 
 
+@pytest.mark.parametrize("ratio,value", [("10:1", 10.0), ("100:1", 100.0), ("1000:1", 1000.0)])
+def test_model_edit_reads_an_unquoted_ratio_as_that_ratio(client, demo, ratio, value):
+    # YAML 1.1 would read 1000:1 as the base-60 number 60001; the form reads YAML 1.2
+    login_as(client, "steward")
+    form = _edit_form(client, "ks-hv40")
+    other = re.sub(r"(?m)^attenuation: .*$", f"attenuation: {ratio}", form["other"])
+    assert f"attenuation: {ratio}\n" in other
+    response = client.post("/models/ks-hv40/edit", data=dict(form, other=other))
+    assert response.status_code == 302, response.get_data(as_text=True)
+    with demo.transaction() as s:
+        assert s.scalar(select(m.Model.attenuation).where(m.Model.key == "ks-hv40")) == value
+
+
+def test_model_edit_refuses_an_inverted_ratio_and_an_alias(client, demo):
+    login_as(client, "steward")
+    form = _edit_form(client, "ks-hv40")
+    other = re.sub(r"(?m)^attenuation: .*$", "attenuation: 1:1000", form["other"])
+    response = client.post("/models/ks-hv40/edit", data=dict(form, other=other))
+    page = response.get_data(as_text=True)
+    assert response.status_code == 400 and "attenuation: &#39;1:1000&#39; is not an" in page
+    response = client.post("/models/ks-hv40/edit",
+                           data=dict(form, other="min_voltage: &v 1 kV\nmax_voltage: *v\n"))
+    assert response.status_code == 400
+    assert "anchors and aliases" in response.get_data(as_text=True)
+
+
 def test_check_form_result_and_derived_values(client, demo):
     login_as(client, "viewer")
     assert client.get("/checks/").status_code == 200
@@ -258,6 +285,23 @@ def test_plan_file_save_and_load(client, demo):
                                                    "plan_file": (f, "dc.yaml")},
                              content_type="multipart/form-data")
     assert 'value="2 mF"' in loaded.get_data(as_text=True)
+
+
+def test_loading_a_plan_file_that_is_not_utf8_is_a_400_naming_it(client, demo):
+    import io
+    login_as(client, "viewer")
+    text = "format: withstand-plan/1\ntitle: Prüfung 0123\n".encode("latin-1")
+    loaded = client.post("/checks/load", data={"csrf_token": csrf_from(client, "/checks/"),
+                                               "plan_file": (io.BytesIO(text), "p.yaml")},
+                         content_type="multipart/form-data")
+    assert loaded.status_code == 400 and "is not UTF-8 text" in loaded.get_data(as_text=True)
+    # a title written as 0123 comes back into the form as written, not as 123
+    text = ("format: withstand-plan/1\ntitle: 0123\ntask: measure-voltage\ncircuit: {supply: "
+            "isolated, waveform: dc, voltage: 20 V}\nsite: {name: North bench}\n").encode()
+    loaded = client.post("/checks/load", data={"csrf_token": csrf_from(client, "/checks/"),
+                                               "plan_file": (io.BytesIO(text), "p.yaml")},
+                         content_type="multipart/form-data")
+    assert 'value="0123"' in loaded.get_data(as_text=True)
 
 
 def test_users_page_add_role_deactivate_tokens(client, demo):
