@@ -145,12 +145,18 @@ def test_stored_energy_hand_worked():
 
 
 def test_probe_tips():
-    # HSE GS38 (4th edition, 2015) para 9: not exceeding 4 mm, 2 mm or less recommended.
+    # HSE GS38 (4th edition, 2015) para 9: not exceeding 4 mm, 2 mm or less recommended;
+    # IEC 61010-031:2015 holds CAT III / CAT IV probe assemblies to 4 mm (from memory).
     assert probe_tips.MAX_EXPOSURE == 4e-3
     assert probe_tips.PREFERRED_EXPOSURE == 2e-3
     assert probe_tips.tip_status(2e-3, "III") == "pass"
+    assert probe_tips.tip_status(3e-3, "III") == "caution"
     assert probe_tips.tip_status(4e-3, "IV") == "caution"
-    assert probe_tips.tip_status(19e-3, "III") == "caution"
-    assert probe_tips.tip_status(19e-3, "II") == "pass"
+    assert probe_tips.tip_status(4.5e-3, "III") == "fail"
+    assert probe_tips.tip_status(19e-3, "IV") == "fail"
+    # CAT II and isolated hazardous-live work: GS38 as a caution, never the CAT III/IV fail
+    assert probe_tips.tip_status(19e-3, "II") == "caution"
+    assert probe_tips.tip_status(4.5e-3, None) == "caution"
+    assert probe_tips.tip_status(2e-3, None) == "pass"
     assert probe_tips.tip_status(None, "IV") == "unknown"
-    assert probe_tips.tip_status(None, None) == "pass"
+    assert probe_tips.tip_status(None, None) == "unknown"
