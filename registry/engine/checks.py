@@ -136,45 +136,92 @@ def _touching_item(ctx: SetupContext) -> ModelSpec | None:
 
 
 def check_tip(ctx: SetupContext) -> list[Finding]:
+    """Exposed metal at the tip of the item that touches the circuit.
+
+    Runs on every CAT III or CAT IV circuit and on every other hazardous-live circuit (the
+    plan's voltage above the hazardous-live level the engine derives), isolated ones included.
+    On CAT III and CAT IV work more than 4 mm fails (IEC 61010-031:2015 for CAT III/IV probe
+    assemblies; HSE GS38) and more than 2 mm is a caution (GS38's 2 mm recommendation).
+    Elsewhere (CAT II, and isolated circuits, which have no category) IEC 61010-031's 4 mm
+    limit for CAT III/IV probes does not apply, but GS38 covers low-voltage work generally:
+    more than 2 mm is a caution, the message saying whether it is also beyond GS38's 4 mm.
+    GS38 is written for low-voltage systems; above low voltage the same caution is kept, since
+    the hazard of a bare tip only grows (common practice, no source). Off the categories a
+    discharge tool is left out: its contact is not a test probe, which is what GS38's tip
+    guidance is for. Unrecorded: unknown."""
     c = ctx.plan.circuit
     item = _touching_item(ctx)
-    if item is None or c.supply != "mains":
+    if item is None:
         return []
-    status = probe_tips.tip_status(item.tip_exposure, c.category)
+    cat = c.category if c.supply == "mains" else None
+    if cat not in probe_tips.FAIL_CATEGORIES and (not ctx.derived.hazardous
+                                                  or ctx.is_discharge_tool):
+        return []
+    status = probe_tips.tip_status(item.tip_exposure, cat)
     limit = fq(probe_tips.PREFERRED_EXPOSURE, LENGTH)
-    if status == "pass" and c.category not in probe_tips.CAUTION_CATEGORIES:
-        return []
+    top = fq(probe_tips.MAX_EXPOSURE, LENGTH)
+    work = f"CAT {cat} work" if cat else "isolated hazardous-live work"
+    source = probe_tips.SOURCE_CAT if cat in probe_tips.FAIL_CATEGORIES else probe_tips.SOURCE
     if status == "unknown":
-        msg = (f"The exposed metal at the tip of {item.key} is not recorded; on CAT "
-               f"{c.category} work it should be {limit} or less.")
-        return [_f("tip", "unknown", item.key, msg, probe_tips.SOURCE, f"<= {limit}")]
+        msg = (f"The exposed metal at the tip of {item.key} is not recorded; on {work} it "
+               f"should be {limit} or less"
+               + (" (HSE GS38; an isolated circuit has no measurement category)." if cat is None
+                  else "."))
+        return [_f("tip", "unknown", item.key, msg, source, f"<= {limit}")]
     have = fq(item.tip_exposure, LENGTH)
+    beyond = item.tip_exposure > probe_tips.MAX_EXPOSURE
     if status == "pass":
         msg = f"{item.key} leaves {have} of exposed metal at the tip ({limit} or less)."
-    elif item.tip_exposure > probe_tips.MAX_EXPOSURE:
-        msg = (f"{item.key} leaves {have} of exposed metal at the tip, more than the 4 mm "
-               f"limit; on CAT {c.category} work fit tip shrouds of {limit} or less.")
+    elif status == "fail":
+        msg = (f"{item.key} must not be used here: it leaves {have} of exposed metal at the "
+               f"tip, more than the {top} allowed on {work}; fit tip shrouds of {limit} or "
+               "less.")
+    elif beyond:
+        msg = (f"{item.key} leaves {have} of exposed metal at the tip, more than the {top} "
+               f"GS38 allows; on {work} fit tip shrouds of {limit} or less.")
     else:
-        msg = (f"{item.key} leaves {have} of exposed metal at the tip; on CAT {c.category} "
-               f"work {limit} or less is recommended (fit tip shrouds).")
-    return [_f("tip", status, item.key, msg, probe_tips.SOURCE, f"<= {limit}", have)]
+        msg = (f"{item.key} leaves {have} of exposed metal at the tip; on {work} {limit} or "
+               "less is recommended (fit tip shrouds).")
+    if cat is None and status != "pass":
+        msg += (" An isolated circuit has no measurement category: IEC 61010-031's 4 mm limit "
+                "for CAT III/IV probes does not apply, GS38's guidance does, as a caution.")
+    required = f"<= {top}" if status == "fail" else f"<= {limit}"
+    return [_f("tip", status, item.key, msg, source, required, have)]
 
 
 # -- check 3: transient -----------------------------------------------------------------------
 
-def withstand_of(item: ModelSpec) -> float | None:
-    """The highest impulse withstand (V peak) any rating of ``item`` stands for: the table's
-    value for a category rating, a stated ``transient`` where one is given."""
+def rating_withstand(r: Rating) -> float | None:
+    """The impulse withstand (V peak) one rating stands for: the higher of the table's value
+    for its category and voltage and a stated ``transient``; ``None`` when neither is given.
+    Source: :data:`~registry.standards.impulse.SOURCE`."""
+    values = [v for v in (impulse.withstand_of_rating(r.category, r.voltage), r.transient)
+              if v is not None]
+    return max(values) if values else None
+
+
+def withstand_of(item: ModelSpec, ratings: list[Rating] | None = None) -> float | None:
+    """The highest impulse withstand (V peak) that ``ratings`` (by default every rating of
+    ``item``) stand for, per :func:`rating_withstand`. A check of a plan passes only the
+    ratings that cover the requirement (:func:`fitting_ratings`), so that another rating of
+    the same item, such as a higher category at a lower voltage, never stands in."""
     best = None
-    for r in item.ratings:
-        values = [v for v in (impulse.withstand_of_rating(r.category, r.voltage), r.transient)
-                  if v is not None]
-        if values and (best is None or max(values) > best):
-            best = max(values)
+    for r in (item.ratings if ratings is None else ratings):
+        v = rating_withstand(r)
+        if v is not None and (best is None or v > best):
+            best = v
     return best
 
 
 def check_transient(ctx: SetupContext) -> list[Finding]:
+    """The impulse withstand of each item against the transient the circuit can deliver.
+
+    The withstand comes only from the ratings that cover the working voltage (the ratings check
+    2 accepts, :func:`fitting_ratings`); among those the highest. A CAT IV 600 V rating of an
+    item also rated CAT II 1000 V does not vouch for anything on an 800 V circuit. An item
+    with ratings but none covering fails; one without ratings, or whose covering ratings give
+    no withstand, is unknown. Source: IEC 61010-2-030 / IEC 60664-1 Table F.1 impulse values
+    (:data:`~registry.standards.impulse.SOURCE`)."""
     c = ctx.plan.circuit
     expected = ctx.derived.transient
     if expected is None:
@@ -190,17 +237,30 @@ def check_transient(ctx: SetupContext) -> list[Finding]:
             continue
         need = ctx.seen_transient if item is ctx.instrument else expected
         required = f"{fq(need, VOLTAGE)} peak"
-        have = withstand_of(item)
+        cat, need_v = category_requirement(ctx, item)
+        covering = fitting_ratings(item, cat, need_v)
+        have = withstand_of(item, covering)
+        if item.ratings and not covering:
+            cover = (f"CAT {cat} " if cat else "") + fq(need_v, VOLTAGE)
+            out.append(_f("transient", "fail", item.key,
+                          f"{item.key} has no rating that covers {cover}, so none of its "
+                          f"impulse withstands applies here; {required} is not withstood.",
+                          impulse.SOURCE, required,
+                          ", ".join(rating_text(r) for r in item.ratings)))
+            continue
         if have is None:
             out.append(_f("transient", "unknown", item.key,
                           f"{item.key} states no impulse withstand (a 'none' rating without "
                           f"a transient); {required} cannot be checked.", impulse.SOURCE,
                           required))
             continue
+        by = max((r for r in covering if rating_withstand(r) == have),
+                 key=lambda r: r.voltage)
         ok = have >= need
         out.append(_f("transient", "pass" if ok else "fail", item.key,
-                      f"{item.key} withstands {fq(have, VOLTAGE)} peak; the circuit can "
-                      f"deliver {required}" + ("." if ok else ": it may flash over."),
+                      f"{item.key} withstands {fq(have, VOLTAGE)} peak by its rating "
+                      f"{rating_text(by)}; the circuit can deliver {required}"
+                      + ("." if ok else ": it may flash over."),
                       ctx.derived.transient_source, required, f"{fq(have, VOLTAGE)} peak",
                       headroom(have, need)))
     return out
@@ -215,12 +275,19 @@ def rating_altitude(item: ModelSpec, r: Rating) -> float:
 
 
 def _factor_text(h: float, rated: float) -> str:
+    """The clearance factor a site at ``h`` (m) asks of an item rated up to ``rated`` (m), in
+    words: IEC 60664-1 Table A.2 read conservatively, the next row up for the site (2500 m
+    takes the 3000 m row, 1.14) and the row at or below for the rating, no interpolation."""
     try:
-        f = alt.altitude_factor(h) / alt.altitude_factor(rated)
+        row, f_site = alt.table_row(h)
     except alt.BeyondAltitudeTable:
-        return "the altitude is beyond any clearance correction"
-    extra = "" if alt.in_table(h) else ", extrapolated beyond the table"
-    return f"clearances would need to be {f:.2f} times larger (IEC 60664-1{extra})"
+        return ("the altitude is above the last row of IEC 60664-1 Table A.2 (20 000 m): no "
+                "clearance correction is given for it")
+    f_rated = alt.credited_factor(rated)
+    return (f"IEC 60664-1 Table A.2 gives a factor of {f_site:.2f} at {fq(h, LENGTH)} (its row "
+            f"up to {fq(row, LENGTH)}, no interpolation) against {f_rated:.2f} for the rated "
+            f"{fq(rated, LENGTH)}: clearances would need to be {f_site / f_rated:.2f} times "
+            "larger")
 
 
 def check_altitude(ctx: SetupContext) -> list[Finding]:
@@ -240,9 +307,14 @@ def check_altitude(ctx: SetupContext) -> list[Finding]:
         top_rating = max(relevant, key=lambda r: rating_altitude(item, r))
         top = rating_altitude(item, top_rating)
         if h <= top:
+            note = ""
+            if DEFAULT_MAX_ALTITUDE < h and alt.in_table(h):
+                note = (f" (IEC 60664-1 Table A.2 factor there: {alt.altitude_factor(h):.2f}, "
+                        "read from the next row up)")
             out.append(_f("altitude", "pass", item.key,
                           f"{item.key}'s rating {rating_text(top_rating)} holds up to "
-                          f"{fq(top, LENGTH)}; the site is at {fq(h, LENGTH)}.", SRC_ALTITUDE,
+                          f"{fq(top, LENGTH)}; the site is at {fq(h, LENGTH)}{note}.",
+                          SRC_ALTITUDE,
                           fq(h, LENGTH), fq(top, LENGTH), headroom(top, h)))
         else:
             out.append(_f("altitude", "fail", item.key,

@@ -85,6 +85,92 @@ def test_rating_stated_for_high_altitude_holds():
     assert s.verdict == "suitable"
 
 
+def test_impulse_withstand_comes_from_the_rating_that_covers_the_circuit():
+    # An item rated CAT IV 600 V and CAT II 1000 V on a CAT II circuit at 800 V (to earth
+    # 800 V) where a site survey gives 7 kV: only CAT II 1000 V covers 800 V, and it stands
+    # for 6 kV (IEC 61010-2-030 Table 102 / IEC 60664-1 Table F.1, 1000 V row); the 8 kV of
+    # CAT IV 600 V belongs to a rating that does not cover the circuit and must not be used.
+    m = meter("mx-6", ratings=(Rating("IV", 600.0), Rating("II", 1000.0)))
+    fleet = fleet_of([m, leads()], [unit("M6", "mx-6"), unit("L1", "tl-4")])
+    plan = panel_plan(circuit={"category": "II", "voltage": 800.0, "voltage_to_earth": 800.0,
+                               "transient": 7000.0})
+    s = _only(evaluate(plan, fleet), "M6", "vac")
+    assert [f.status for f in _by(s, "category", "mx-6")] == ["pass"]
+    (t,) = _by(s, "transient", "mx-6")
+    assert t.status == "fail" and t.available == "6 kV peak" and t.required == "7 kV peak"
+    assert "by its rating CAT II 1 kV" in t.message
+    # the leads' CAT III 1000 V covers it: 8 kV (Table 102, CAT III 1000 V row)
+    (tl,) = _by(s, "transient", "tl-4")
+    assert tl.status == "pass" and tl.available == "8 kV peak"
+
+
+def test_a_rating_that_does_not_cover_the_circuit_vouches_for_no_impulse():
+    # CAT IV 300 V on a CAT III 480 V / 277 V board: the 6 kV that CAT IV 300 V stands for
+    # (Table 102) would exceed the 4 kV the board delivers, but the rating does not cover
+    # 480 V, so no withstand applies: the transient check fails with the category check.
+    m = meter("mx-4", ratings=(Rating("IV", 300.0),))
+    fleet = fleet_of([m, leads()], [unit("M4", "mx-4"), unit("L1", "tl-4")])
+    s = _only(evaluate(panel_plan(), fleet), "M4", "vac")
+    (t,) = _by(s, "transient", "mx-4")
+    assert t.status == "fail" and "no rating that covers CAT III 480 V" in t.message
+    assert checks.withstand_of(m) == 6000.0  # all ratings: what a logged event is held to
+
+
+def _tip_setup(exposure, plan):
+    l = leads("tl-t", tip_exposure=exposure)
+    fleet = fleet_of([meter(ratings=(Rating("IV", 1000.0),)), l],
+                     [unit("M1", "mx-3"), unit("LT", "tl-t")])
+    return _only(evaluate(plan, fleet), "M1", "vdc" if plan.circuit.waveform == "dc"
+                 else "vac")
+
+
+def test_tip_over_4_mm_fails_on_cat_iii_and_over_2_mm_is_a_caution():
+    # IEC 61010-031:2015 (CAT III/IV probe assemblies) and HSE GS38 para 9: at most 4 mm of
+    # exposed metal; GS38 recommends 2 mm or less.
+    s = _tip_setup(4.5e-3, panel_plan())
+    (f,) = _by(s, "tip")
+    assert f.status == "fail" and f.required == "<= 4 mm" and "IEC 61010-031" in f.source
+    assert s.verdict == "unsuitable"
+    (f,) = _by(_tip_setup(3e-3, panel_plan()), "tip")
+    assert f.status == "caution" and f.required == "<= 2 mm"
+    (f,) = _by(_tip_setup(2e-3, panel_plan()), "tip")
+    assert f.status == "pass"
+
+
+def test_tip_is_checked_on_isolated_hazardous_live_work():
+    # 500 V dc is above the 60 V dc hazardous-live level (IEC 61010-031:2015), so the tip is
+    # checked though the circuit is isolated; with no category GS38 applies as a caution.
+    plan = Plan("measure-voltage", Circuit("isolated", "dc", 500.0), altitude=40.0,
+                on=JOB_DAY)
+    (f,) = _by(_tip_setup(4.5e-3, plan), "tip")
+    assert f.status == "caution" and "GS38" in f.source and "no measurement category" in \
+        f.message
+    (f,) = _by(_tip_setup(None, plan), "tip")
+    assert f.status == "unknown"
+    # 24 V dc is below the hazardous-live level: no tip rule applies
+    low = Plan("measure-voltage", Circuit("isolated", "dc", 24.0), altitude=40.0, on=JOB_DAY)
+    assert _by(_tip_setup(4.5e-3, low), "tip") == []
+
+
+def test_altitude_factor_is_the_next_row_up_and_stated():
+    # IEC 60664-1 Table A.2 read conservatively: 2500 m takes the 3000 m row, 1.14 (not the
+    # 1.07 of interpolation); a rating valid to 2000 m does not hold there.
+    fleet = fleet_of([meter(), leads()], [unit("M1", "mx-3"), unit("L1", "tl-4")])
+    s = _only(evaluate(panel_plan(altitude=2500.0), fleet), "M1", "vac")
+    (f,) = _by(s, "altitude", "mx-3")
+    assert f.status == "fail" and "factor of 1.14" in f.message and "1.14 times" in f.message
+    assert "row up to 3000 m" in f.message
+    # 2000 m exactly: the 2000 m row, 1.00; the rating holds
+    s = _only(evaluate(panel_plan(altitude=2000.0), fleet), "M1", "vac")
+    assert [f.status for f in _by(s, "altitude")] == ["pass", "pass"]
+    # a rating stated to 5000 m holds at 4500 m, where the factor is 1.48 (the 5000 m row)
+    m = meter("mx-h", ratings=(Rating("III", 600.0, max_altitude=5000.0),))
+    fleet = fleet_of([m, leads()], [unit("MH", "mx-h"), unit("L1", "tl-4")])
+    s = _only(evaluate(panel_plan(altitude=4500.0), fleet), "MH", "vac")
+    (f,) = _by(s, "altitude", "mx-h")
+    assert f.status == "pass" and "1.48" in f.message
+
+
 def _current_plan(**circuit):
     c = dict(voltage=400.0, voltage_to_earth=230.0, frequency=50.0, source_impedance=0.05,
              current=5.0)
@@ -182,7 +268,8 @@ def test_divider_into_the_wrong_load_is_a_caution_with_its_error():
     # 10.01 kohm), so the divider's own data agree and only the load is wrong.
     div = ModelSpec("dv-1", "hv-divider", ratings=(Rating("none", 40e3, 48e3),),
                     connector="4mm", attenuation=1000.0, required_load=10e6,
-                    output_resistance=10e3, resistance=10e6, min_voltage=1e3)
+                    output_resistance=10e3, resistance=10e6, min_voltage=1e3,
+                    tip_exposure=2e-3)  # its tip is checked on hazardous-live work too
     m = meter()
     fleet = fleet_of([m, div], [unit("M1", "mx-3"), unit("D1", "dv-1")])
     plan = Plan("measure-voltage", Circuit("isolated", "dc", 20e3), altitude=40.0, on=JOB_DAY)

@@ -5,6 +5,7 @@ import dataclasses
 
 from hypothesis import HealthCheck, given, settings, strategies as st
 
+from registry.engine.derived import derive
 from registry.engine.evaluate import evaluate
 from registry.engine.spec import Circuit, Fuse, Mode, ModelSpec, Plan, Rating
 
@@ -162,6 +163,8 @@ def test_missing_instrument_data_never_yields_suitable(m, plan, missing):
                   and (plan.circuit.source_impedance is not None
                        or plan.circuit.capacitance is not None),
                   "fuse": s.mode == "a" and plan.circuit.source_impedance is not None,
-                  "tip_exposure": plan.circuit.category in ("III", "IV")}[missing]
+                  # the tip rule: every CAT III/IV circuit and every hazardous-live one
+                  "tip_exposure": plan.circuit.category in ("III", "IV")
+                  or derive(plan).hazardous}[missing]
         if needed:
             assert s.verdict != "suitable", (missing, s.mode, s.findings)

@@ -32,6 +32,10 @@ SRC_RESISTOR_PULSE = ("resistor datasheet pulse energy; impulse energy Vp^2/R ti
 SRC_GAP = f"{clearance.SOURCE}, altitude corrected by {clearance.ALTITUDE_SOURCE}"
 SRC_STATED_GAP = (f"the switch's stated withstand, altitude corrected by "
                   f"{clearance.ALTITUDE_SOURCE}")
+SRC_STEADY_GAP = f"{clearance.STEADY_SOURCE}, altitude corrected by {clearance.ALTITUDE_SOURCE}"
+SRC_STEADY_STATED_GAP = (f"the switch's stated impulse withstand read as a gap in "
+                         f"{clearance.SOURCE}, then {SRC_STEADY_GAP} (common practice, no "
+                         "source)")
 SRC_FUSE = "fuse datasheet rating (IEC 60127 / IEC 60269 breaking capacity and rated voltage)"
 SRC_PRACTICE = "common practice (no source)"
 
@@ -98,16 +102,36 @@ def held(element: str, scenario: str, quantity: str, seen: float, limit: float |
                   source, seen, limit, seen_t, lim_t)
 
 
-def gap_limit(sw, altitude: float) -> tuple[float | None, str, str]:
-    """(withstand V, its name, its source) of an open switch, altitude corrected."""
-    if sw.get("withstand") is not None:
-        return (clearance.stated_withstand(sw.get("withstand"), altitude),
-                f"stated withstand at {altitude:.0f} m", SRC_STATED_GAP)
-    if sw.get("gap") is not None:
-        gap = sw.get("gap")
-        return (clearance.gap_withstand(gap, altitude),
-                f"gap withstand ({gap * 1e3:.3g} mm at {altitude:.0f} m)", SRC_GAP)
-    return None, "gap or withstand", SRC_GAP
+def gap_limit(sw, altitude: float, kind: str = "impulse") -> tuple[float | None, str, str]:
+    """(withstand V peak, its name, its source) of an open switch, altitude corrected.
+
+    ``kind`` ``impulse``: IEC 60664-1 Table F.2 for a gap, or the stated withstand.
+    ``steady`` (the steady state and the discharge: working, temporary or recurring peak
+    voltages): IEC 60664-1:2020 Table F.8 (F.7 in the 2007 edition) for a gap; for a switch
+    known only by its stated impulse withstand, Table F.8 read for the gap that withstand
+    implies in Table F.2 (:func:`~registry.standards.clearance.implied_gap`)."""
+    if kind not in ("impulse", "steady"):
+        raise ValueError(f"kind must be impulse or steady, not {kind!r}")
+    stated, gap = sw.get("withstand"), sw.get("gap")
+    if kind == "impulse":
+        if stated is not None:
+            return (clearance.stated_withstand(stated, altitude),
+                    f"stated withstand at {altitude:.0f} m", SRC_STATED_GAP)
+        if gap is not None:
+            return (clearance.gap_withstand(gap, altitude),
+                    f"gap withstand ({gap * 1e3:.3g} mm at {altitude:.0f} m)", SRC_GAP)
+        return None, "gap or withstand", SRC_GAP
+    if gap is not None:
+        return (clearance.gap_steady_withstand(gap, altitude),
+                f"steady-state gap withstand ({gap * 1e3:.3g} mm at {altitude:.0f} m)",
+                SRC_STEADY_GAP)
+    if stated is not None:
+        implied = clearance.implied_gap(stated)
+        return (clearance.gap_steady_withstand(implied, altitude),
+                f"steady-state withstand of the {implied * 1e3:.3g} mm gap its stated "
+                f"{stated:.0f} V impulse withstand implies, at {altitude:.0f} m",
+                SRC_STEADY_STATED_GAP)
+    return None, "gap or withstand", SRC_STEADY_GAP
 
 
 def _stressed(v: float, i: float) -> bool:
@@ -200,7 +224,7 @@ def steady_limits(net: Netlist, res: SteadyResult, waveform: str, altitude: floa
         elif e.type == "switch":
             if net.is_closed(e):
                 continue
-            lim, name, src = gap_limit(e, altitude)
+            lim, name, src = gap_limit(e, altitude, "steady")
             out.append(held(e.id, "steady", "voltage", vp, lim, VOLTAGE,
                             "peak voltage across the open contacts", name, src, ctx(lvp)))
         elif e.type == "gas-tube":
@@ -248,6 +272,11 @@ def impulse_limits(net: Netlist, res: ImpulseResult, altitude: float) -> list[St
                             f"{_q(v, VOLTAGE)} across it at the peak, an energy of",
                             "pulse_energy", SRC_RESISTOR_PULSE))
         elif e.type == "input":
+            out.append(held(e.id, "impulse", "voltage", v, e.get("max_voltage"), VOLTAGE,
+                            "peak voltage across it", "max_voltage", SRC_DATASHEET))
+        elif e.type == "ptc":
+            # A PTC's maximum voltage is the most it may have across it at all, tripped or not;
+            # an impulse does not get a pass for being short (datasheet rating).
             out.append(held(e.id, "impulse", "voltage", v, e.get("max_voltage"), VOLTAGE,
                             "peak voltage across it", "max_voltage", SRC_DATASHEET))
         elif e.type == "switch" and not net.is_closed(e):
@@ -301,7 +330,7 @@ def discharge_limits(net: Netlist, res: DischargeResult, altitude: float) -> lis
             out.append(held(e.id, "discharge", "voltage", res.v0, e.get("voltage_dc"), VOLTAGE,
                             "dc voltage it may have to break", "voltage_dc", SRC_FUSE))
         elif e.type == "switch" and not net.is_closed(e):
-            lim, name, src = gap_limit(e, altitude)
+            lim, name, src = gap_limit(e, altitude, "steady")
             out.append(held(e.id, "discharge", "voltage", v, lim, VOLTAGE,
                             "largest voltage across the open contacts", name, src))
     return out
