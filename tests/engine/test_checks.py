@@ -456,3 +456,17 @@ def test_other_mode_on_the_same_terminals_is_held_to_its_time_limit():
     s = _only(evaluate(panel_plan(duration=20.0), fleet), "T1", "detect")
     (f,) = [f for f in _by(s, "misuse", "vt-1/load") if f.message.startswith("If ")]
     assert f.status == "pass"
+
+
+def test_another_current_range_on_the_same_sockets_is_held_to_its_maximum_current():
+    # Switching from the 10 A range to a 400 mA range on the same A/COM sockets with 5 A
+    # flowing overloads it (check 5 held against the misused mode; the maker's rating).
+    base = meter()
+    ma = Mode("ma", "Milliamps", "current", "both", ("A", "COM"), max_current=0.4,
+              input_resistance=1.0, fuse=base.mode("amp").fuse)
+    m = replace(base, key="mx-7", modes=base.modes + (ma,))
+    fleet = fleet_of([m, leads(current_rating=10.0)], [unit("M7", "mx-7"), unit("L1", "tl-4")])
+    s = _only(evaluate(_current_plan(current=5.0), fleet), "M7", "amp")
+    (f,) = [f for f in _by(s, "misuse", "mx-7/ma") if "maximum current" in f.message]
+    assert f.status == "caution" and f.required == "5 A" and f.available == "400 mA"
+    assert s.verdict == "conditional"
