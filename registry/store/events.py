@@ -126,8 +126,8 @@ def log_event(db: Database, *, unit: str, kind: str, by: str, mode: str | None =
               duration: float | None = None, symptoms=(), note: str = "",
               at: datetime | None = None, waveform: str | None = None) -> LoggedEvent:
     """Validate and record one event (SI floats; ``at`` naive UTC, default now; ``waveform``
-    ``ac``, ``dc`` or ``None`` when not known), opening a hold when SPEC §3 says so. Nothing
-    is written when anything is invalid."""
+    ``ac``, ``dc`` or ``None`` when not known), opening a hold when the assessment calls for
+    one. Nothing is written when anything is invalid."""
     stress = Stress(kind, voltage, energy, duration, waveform)
     with db.transaction(immediate=True) as session:
         lock_chain(session)  # before reading anything the append depends on
