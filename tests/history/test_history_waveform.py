@@ -167,3 +167,15 @@ def test_cli_waveform_option(runner, demo):
     assert bad.exit_code == 2 and "--waveform" in bad.output and "Traceback" not in bad.output
     with demo.transaction() as s:
         assert len(list(s.scalars(select(m.Event)))) == 2
+
+
+def test_audit_events_sheet_carries_the_waveform(demo):
+    # the waveform is hashed when logged, so the workbook's events carry it beside the hash
+    from registry.store.audit import build_audit
+    log_event(demo, unit="NB-0004", kind="overvoltage", mode="amp", voltage=100.0,
+              waveform="dc", by="tech")
+    log_event(demo, unit="NB-0001", kind="overvoltage", mode="vdc", voltage=400.0, by="tech")
+    with demo.transaction() as s:
+        events = build_audit(s).sheets["Events"]
+    assert list(events.columns).index("waveform") == list(events.columns).index("duration_s") + 1
+    assert list(events.sort_values("id")["waveform"].fillna("")) == ["dc", ""]
