@@ -351,6 +351,9 @@ def event():
               help="Applied voltage, e.g. '1200 V' (rms or dc; the peak for a transient).")
 @click.option("--energy", default=None, help="Energy discharged, e.g. '40 J'.")
 @click.option("--duration", default=None, help="How long it lasted, e.g. '90 s'.")
+@click.option("--waveform", default=None, type=click.Choice(["ac", "dc"]),
+              help="Whether the applied voltage was ac or dc; left out, a current input's "
+                   "fuse is judged on the lower of its ac and dc ratings.")
 @click.option("--symptom", "symptoms", multiple=True,
               help="arc, smell, heat, visible-damage, fuse-open, wrong-reading or none; "
                    "repeat for several.")
@@ -361,7 +364,7 @@ def event():
               help="When it happened, ISO 8601 (local time unless an offset is given); "
                    "default now.")
 @reports_errors
-def event_add(unit, kind, mode, voltage, energy, duration, symptoms, note, by, at):
+def event_add(unit, kind, mode, voltage, energy, duration, waveform, symptoms, note, by, at):
     """Log an event; print whether it was within rating and whether a hold opened."""
     from . import units as u
     from .store.events import log_event
@@ -372,11 +375,13 @@ def event_add(unit, kind, mode, voltage, energy, duration, symptoms, note, by, a
     database = _env().database()
     try:
         logged = log_event(database, unit=unit, kind=kind, by=_by(by), mode=mode,
-                           symptoms=symptoms, note=note, at=when, **values)
+                           symptoms=symptoms, note=note, at=when, waveform=waveform,
+                           **values)
     except InvalidInput as exc:  # name the options, as the user typed them
         from .errors import FieldProblem
         option = {"mode": "--mode", "kind": "--kind", "symptoms": "--symptom", "at": "--at",
-                  "voltage": "--voltage", "energy": "--energy", "duration": "--duration"}
+                  "voltage": "--voltage", "energy": "--energy", "duration": "--duration",
+                  "waveform": "--waveform"}
         raise InvalidInput([FieldProblem(option.get(p.path, p.path), p.message)
                             for p in exc.problems]) from None
     a = logged.assessment

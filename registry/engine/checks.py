@@ -9,6 +9,7 @@ naming the plan field. Never ``pass`` on a guess.
 from __future__ import annotations
 
 import math
+from dataclasses import replace
 
 from ..standards import altitude as alt
 from ..standards import impulse, probe_tips
@@ -18,15 +19,18 @@ from .quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, POWER, RESISTANCE, 
 # discharge_time and absorbed_in live with the one discharge rule; kept importable from here
 from .discharge import (SRC_FRONT_END, DischargeProfile, DischargeUnsolved, absorbed_in,  # noqa: F401
                         absorbed_to, discharge_profile, discharge_time, time_text)
-from .setups import LOW_Z, SetupContext
+from .setups import LOW_Z, VOLTAGE_TASKS, SetupContext
 from .rules import rating_covers
-from .spec import DEFAULT_MAX_ALTITUDE, Fuse, ModelSpec, Rating
+from .spec import DEFAULT_MAX_ALTITUDE, Fuse, Mode, ModelSpec, Rating
 
 SRC_CATEGORY = "IEC 61010-1:2010 (instruments), IEC 61010-031:2015 (probe assemblies): " \
                "measurement category and rated voltage"
 SRC_ALTITUDE = "IEC 61010-1:2010 1.4 (rated up to 2000 m unless stated); " + alt.SOURCE
 SRC_MODE = "maker's rating for the mode (overload / max input), IEC 61010-2-033"
 SRC_MISUSE = "IEC 61010-2-033 reasonably foreseeable misuse (other modes, fused current inputs)"
+SRC_CHAIN_CURRENT = "IEC 61010-031:2015 rated current of probe assemblies: each lead, tip and " \
+                    "clip carrying a series current must be rated for it, the lowest governs"
+SRC_MISUSE_ENERGY = SRC_MISUSE + "; E = C*V0**2/2*(1-exp(-2t/(RC))) (circuit theory)"
 SRC_LOADING = "Ohm's law, voltage divider V*Zin/(Zin+Zs) (common practice, no source)"
 SRC_LOWZ = "P = V**2/R, maker's max_duration for the mode (common practice, no source)"
 SRC_DISCHARGE = "RC discharge: t = RC ln(V0/Vs), E = C(V0**2-Vs**2)/2 (circuit theory)"
@@ -350,7 +354,7 @@ def check_mode_input(ctx: SetupContext) -> list[Finding]:
                     _f("mode-input", "pass", subject, f"{inst.key} reads the clamp's output "
                        f"in {mode.label}; it is not connected to the circuit.", SRC_MODE)]
         return [_limit("mode-input", subject, f"{mode.label} maximum current",
-                       mode.max_current, c.current, CURRENT, SRC_MODE)]
+                       mode.max_current, c.current, CURRENT, SRC_MODE)] + chain_current(ctx)
     seen = ctx.seen_voltage
     if ctx.plan.task == "discharge":
         seen = ctx.derived.peak_voltage / ctx.attenuation  # a capacitor holds the peak
@@ -359,47 +363,79 @@ def check_mode_input(ctx: SetupContext) -> list[Finding]:
                    seen, VOLTAGE, SRC_MODE, note)]
 
 
+def chain_current(ctx: SetupContext) -> list[Finding]:
+    """In a series current measurement the whole current I flows through every lead, tip and
+    clip of the chain: each needs ``current_rating`` >= I (A), and the lowest rating governs
+    (IEC 61010-031:2015, the rated current of a probe assembly). An item without a rating is
+    ``unknown``; the instrument's own input is held against its ``max_current`` above."""
+    need = ctx.plan.circuit.current
+    carriers = [a for a in ctx.accessories if a.kind != "current-clamp"]
+    if need is None or not carriers:
+        return []
+    required = fq(need, CURRENT)
+    out = [_f("mode-input", "unknown", a.key, f"{a.key} carries the {required} in series but "
+              "its rated current is not recorded.", SRC_CHAIN_CURRENT, required)
+           for a in carriers if a.current_rating is None]
+    rated = [a for a in carriers if a.current_rating is not None]
+    if rated:
+        low = min(rated, key=lambda a: a.current_rating)
+        have = low.current_rating
+        listing = ", ".join(f"{a.key} {fq(a.current_rating, CURRENT)}" for a in rated)
+        ok = have >= need
+        out.append(_f("mode-input", "pass" if ok else "fail", low.key,
+                      f"The chain carries {required} in series; the lowest rated current in "
+                      f"it is {low.key}'s {fq(have, CURRENT)} ({listing})"
+                      + ("." if ok else ": it would overheat."), SRC_CHAIN_CURRENT, required,
+                      fq(have, CURRENT), headroom(have, need)))
+    return out
+
+
 # -- check 6: reasonably foreseeable misuse ---------------------------------------------------
 
 def _fuse_findings(ctx: SetupContext, subject: str, label: str, fuses, status_bad: str):
-    """Fuses that a current input puts across the circuit: breaking capacity against the
-    prospective current, voltage (dc rating for dc) against the working voltage."""
+    """Fuses that a current input puts across the circuit: voltage (dc rating for dc) against
+    the working voltage, always; breaking capacity against the prospective current, which
+    only a plan with a prospective current (or source impedance) allows: ``not-run`` without
+    one. IEC 61010-2-033 foreseeable misuse; a fuse must be rated for the circuit's voltage
+    to interrupt it (its ac rating says nothing of dc)."""
     c = ctx.plan.circuit
     ipc = ctx.prospective_current
-    if ipc is None:
-        return [_f("misuse", "not-run", subject,
-                   f"{label} across the circuit not checked: the plan gives neither "
-                   "circuit.source_impedance nor circuit.prospective_current.", SRC_MISUSE)]
     fuses = [(who, f) for who, f in fuses if f is not None]
     if not fuses:
+        across = fq(c.voltage, VOLTAGE) + (f" ({fq(ipc, CURRENT)} prospective)"
+                                           if ipc is not None else "")
         return [_f("misuse", "unknown", subject,
                    f"{label}: no fuse is recorded; whether it survives being put across "
-                   f"{fq(c.voltage, VOLTAGE)} ({fq(ipc, CURRENT)} prospective) is not known.",
-                   SRC_MISUSE, fq(ipc, CURRENT))]
+                   f"{across} is not known.", SRC_MISUSE,
+                   fq(ipc, CURRENT) if ipc is not None else fq(c.voltage, VOLTAGE))]
     out = []
     v_need = c.voltage
     for who, fuse in fuses:
         v_have = fuse.voltage_dc if c.waveform == "dc" else fuse.voltage
         v_word = "dc voltage rating" if c.waveform == "dc" else "voltage rating"
         problems, unknowns = [], []
-        if fuse.breaking_capacity is None:
-            unknowns.append("breaking capacity")
-        elif fuse.breaking_capacity < ipc:
-            problems.append(f"breaks only {fq(fuse.breaking_capacity, CURRENT)} of the "
-                            f"{fq(ipc, CURRENT)} prospective current")
+        if ipc is not None:
+            if fuse.breaking_capacity is None:
+                unknowns.append("breaking capacity")
+            elif fuse.breaking_capacity < ipc:
+                problems.append(f"breaks only {fq(fuse.breaking_capacity, CURRENT)} of the "
+                                f"{fq(ipc, CURRENT)} prospective current")
         if v_have is None:
             unknowns.append(v_word)
         elif v_have < v_need:
             problems.append(f"its {v_word} {fq(v_have, VOLTAGE)} is below "
                             f"{fq(v_need, VOLTAGE)}")
         margins = [m for m in (
-            headroom(fuse.breaking_capacity, ipc) if fuse.breaking_capacity is not None
-            else None,
+            headroom(fuse.breaking_capacity, ipc)
+            if ipc is not None and fuse.breaking_capacity is not None else None,
             headroom(v_have, v_need) if v_have is not None else None) if m is not None]
         margin = min(margins) if margins else None
-        required = f"{fq(ipc, CURRENT)}, {fq(v_need, VOLTAGE)}"
-        available = ", ".join(x for x in (fq(fuse.breaking_capacity, CURRENT),
-                                          fq(v_have, VOLTAGE)) if x)
+        if ipc is not None:
+            required = f"{fq(ipc, CURRENT)}, {fq(v_need, VOLTAGE)}"
+            available = ", ".join(x for x in (fq(fuse.breaking_capacity, CURRENT),
+                                              fq(v_have, VOLTAGE)) if x)
+        else:
+            required, available = fq(v_need, VOLTAGE), fq(v_have, VOLTAGE)
         if problems:
             out.append(_f("misuse", status_bad, subject,
                           f"{label}, put across the circuit, meets a fuse ({who}) that "
@@ -410,22 +446,119 @@ def _fuse_findings(ctx: SetupContext, subject: str, label: str, fuses, status_ba
                           f"{label}: the fuse ({who}) has no recorded "
                           + " or ".join(unknowns) + ".", SRC_MISUSE, required, available,
                           margin))
-        else:
+        elif ipc is not None:
             out.append(_f("misuse", "pass", subject,
                           f"{label}: the fuse ({who}) breaks "
                           f"{fq(fuse.breaking_capacity, CURRENT)} at {fq(v_have, VOLTAGE)}, "
                           f"enough for {fq(ipc, CURRENT)} at {fq(v_need, VOLTAGE)}.",
                           SRC_MISUSE, required, available, margin))
+        else:
+            out.append(_f("misuse", "pass", subject,
+                          f"{label}: the fuse ({who}) has a {v_word} of "
+                          f"{fq(v_have, VOLTAGE)}, enough for {fq(v_need, VOLTAGE)}.",
+                          SRC_MISUSE, required, available, margin))
+    if ipc is None:
+        out.append(_f("misuse", "not-run", subject,
+                      f"{label}: the fuse's breaking capacity is not checked: the plan gives "
+                      "neither circuit.source_impedance nor circuit.prospective_current.",
+                      SRC_MISUSE))
     return out
 
 
-def _chain_fuses(ctx: SetupContext, mode_fuse: Fuse | None):
-    items = [("in the meter", mode_fuse)]
+def _chain_fuses(ctx: SetupContext, mode_fuse: Fuse | None, mode: Mode | None = None):
+    """The fuses in series with a current input, each with the words naming it: the meter's
+    (with the front-end fuse element at the input's terminals and the fuse's rated current,
+    where recorded), then those of fused accessories."""
+    where = "in the meter"
+    if mode is not None:
+        ids = [e.id for e in ctx.instrument.front_end
+               if e.type == "fuse" and set(e.between) & set(mode.terminals)]
+        if ids:
+            where += ", " + "/".join(ids)
+    if mode_fuse is not None and mode_fuse.current is not None:
+        where += f", {fq(mode_fuse.current, CURRENT)}"
+    items = [(where, mode_fuse)]
     items += [(f"in {a.key}", a.fuse) for a in ctx.accessories if a.fuse is not None]
     return items
 
 
+def _as_misuse(findings: list[Finding], other: Mode) -> list[Finding]:
+    """Another check's findings for ``other``, a mode selected by mistake, as misuse findings:
+    a fail or an unknown limit is a caution on the planned setup (do not switch to it)."""
+    out = []
+    for f in findings:
+        status = "caution" if f.status in ("fail", "unknown") else f.status
+        out.append(_f("misuse", status, f.subject,
+                      f"If {other.label} is selected by mistake on the same terminals: "
+                      + f.message
+                      + (" Do not switch to it while connected." if status == "caution"
+                         else ""), SRC_MISUSE + "; " + f.source, f.required, f.available,
+                      f.margin))
+    return out
+
+
+def _misuse_energy(ctx: SetupContext, other: Mode) -> list[Finding]:
+    """A low-Z mode (or one with a recorded energy limit) selected by mistake on a charged
+    capacitance takes E = C*V0**2/2*(1-exp(-2t/(RC))) (J) in the plan's duration t through
+    its input resistance R (all of C*V0**2/2 when R is not recorded); beyond its
+    ``discharge_energy``, or with that limit unknown, it is a caution (IEC 61010-2-033
+    foreseeable misuse; the energy by circuit theory)."""
+    cap = ctx.capacitance
+    if ctx.plan.task == "measure-current" or ctx.divider is not None or cap is None:
+        return []  # in series, or behind a divider, the input is not across the capacitance
+    r, limit = other.input_resistance, other.discharge_energy
+    low_z = r is not None and r < LOW_Z and other.measures != "current"
+    if not low_z and limit is None:
+        return []  # a high-impedance input takes no more than check 5 already covers
+    v0, t = ctx.derived.peak_voltage, ctx.plan.duration
+    e = absorbed_to(cap, v0, 0.0) if r is None else absorbed_in(cap, v0, r, t)
+    subject = f"{ctx.instrument.key}/{other.key}"
+    path = "" if r is None else f" through {fq(r, RESISTANCE)}"
+    facts = (f"{other.label}, selected by mistake on the {fq(cap, CAPACITANCE)} charged to "
+             f"{fq(v0, VOLTAGE)}, would take {fq(e, ENERGY)}{path} in {fq(t, TIME)}")
+    required = fq(e, ENERGY)
+    if limit is None:
+        return [_f("misuse", "caution", subject, facts + "; the energy it may absorb is not "
+                   "recorded. Do not switch to it while connected.", SRC_MISUSE_ENERGY,
+                   required)]
+    if e > limit:
+        return [_f("misuse", "caution", subject, facts + f", more than its "
+                   f"{fq(limit, ENERGY)} limit. Do not switch to it while connected.",
+                   SRC_MISUSE_ENERGY, required, fq(limit, ENERGY), headroom(limit, e))]
+    return [_f("misuse", "pass", subject, facts + f", within its {fq(limit, ENERGY)} limit.",
+               SRC_MISUSE_ENERGY, required, fq(limit, ENERGY), headroom(limit, e))]
+
+
+def _current_sockets(ctx: SetupContext) -> list[Finding]:
+    """Voltage tasks: leads left in a current socket of the instrument put that input's fuse
+    across the circuit. Its breaking capacity against the prospective current and its voltage
+    rating (dc for dc) against the working voltage; a shortfall is a caution naming the fuse
+    (IEC 61010-2-033 foreseeable misuse, fused current inputs)."""
+    inst, mode = ctx.instrument, ctx.mode
+    if (ctx.plan.task not in VOLTAGE_TASKS or ctx.divider is not None
+            or inst.integrated_leads):
+        return []  # fixed leads cannot be moved; a divider's plug is not on the circuit
+    out, seen = [], set()
+    for other in inst.modes:
+        if other.clamp or other.measures != "current":
+            continue
+        sockets = frozenset(other.terminals)
+        if sockets == frozenset(mode.terminals) or sockets in seen:
+            continue  # the same terminals are the selector's misuse, checked below
+        seen.add(sockets)
+        out += _fuse_findings(ctx, f"{inst.key}/{other.key}",
+                              f"The {other.label} input ({'/'.join(other.terminals)}), "
+                              "with the leads left in its sockets",
+                              _chain_fuses(ctx, other.fuse, other), "caution")
+    return out
+
+
 def check_misuse(ctx: SetupContext) -> list[Finding]:
+    """Reasonably foreseeable misuse (the idea of IEC 61010-2-033): the current input put
+    across the circuit on a current task; on a voltage task, leads left in a current socket;
+    every other mode on the same terminals held against checks 5 (its maximum input, or its
+    fuse for a current mode), 8 (its time limit, the power of a low-Z input) and 9 (the
+    stored energy a low-Z input would take)."""
     mode, inst = ctx.mode, ctx.instrument
     if mode.clamp or ctx.current_clamp is not None or ctx.is_discharge_tool:
         return []  # no terminals of the instrument touch the circuit
@@ -434,7 +567,8 @@ def check_misuse(ctx: SetupContext) -> list[Finding]:
     if ctx.plan.task == "measure-current" and mode.measures == "current":
         out += _fuse_findings(ctx, f"{inst.key}/{mode.key}",
                               f"The {mode.label} input ({'/'.join(mode.terminals)})",
-                              _chain_fuses(ctx, mode.fuse), "fail")
+                              _chain_fuses(ctx, mode.fuse, mode), "fail")
+    out += _current_sockets(ctx)
     for other in inst.modes:
         if other.key == mode.key or other.clamp:
             continue
@@ -444,9 +578,12 @@ def check_misuse(ctx: SetupContext) -> list[Finding]:
         if other.measures == "current":
             out += _fuse_findings(ctx, subject,
                                   f"{other.label}, selected by mistake on the same terminals",
-                                  _chain_fuses(ctx, other.fuse), "caution")
-            continue
-        if other.max_input is None:
+                                  _chain_fuses(ctx, other.fuse, other), "caution")
+            if ctx.plan.task == "measure-current":
+                out += _as_misuse([_limit("mode-input", subject,
+                                          f"{other.label} maximum current", other.max_current,
+                                          ctx.plan.circuit.current, CURRENT, SRC_MODE)], other)
+        elif other.max_input is None:
             out.append(_f("misuse", "unknown", subject,
                           f"{other.label} shares the terminals {'/'.join(mode.terminals)}; its "
                           f"maximum input is not recorded, so selecting it by mistake on "
@@ -464,6 +601,8 @@ def check_misuse(ctx: SetupContext) -> list[Finding]:
                           f"{fq(other.max_input, VOLTAGE)}, enough for {fq(seen, VOLTAGE)} "
                           "if selected by mistake.", SRC_MISUSE, fq(seen, VOLTAGE),
                           fq(other.max_input, VOLTAGE), headroom(other.max_input, seen)))
+        out += _as_misuse(check_duration(replace(ctx, mode=other)), other)
+        out += _misuse_energy(ctx, other)
     return out
 
 

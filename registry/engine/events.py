@@ -14,6 +14,9 @@ The stress is held against the model the way a job plan would be:
   tool's ``energy``), and a stated voltage against the tool's ``max_voltage`` (check 9).
 - ``fuse-open``, ``mechanical``, ``other``: a stated voltage is held as an overvoltage;
   without one nothing shows the unit stayed within its rating.
+- A current input without ``max_input`` is held against its fuse's voltage rating: the ac
+  rating for an ``ac`` event, the dc rating for a ``dc`` one, and the lower of the two when
+  the event's ``waveform`` is not given (a fuse's ac rating says nothing of dc).
 
 ``within_rating`` is ``True``, ``False`` or ``None`` (the data to decide is missing). ``None``
 opens a hold like ``False``: a stress not shown to be within rating is treated as one that was
@@ -29,7 +32,7 @@ from dataclasses import dataclass
 from ..errors import FieldProblem, InvalidInput
 from .checks import withstand_of
 from .quantity import ENERGY, TIME, VOLTAGE, format_quantity as fq
-from .spec import EVENT_KINDS, SYMPTOMS, Mode, ModelSpec
+from .spec import EVENT_KINDS, EVENT_WAVEFORMS, SYMPTOMS, Fuse, Mode, ModelSpec
 
 SRC_RATING = "IEC 61010-1:2010 rated voltage; isolated source, any category"
 SRC_MODE = "maker's rating for the mode"
@@ -43,17 +46,21 @@ CLAMP_TYPES = ("varistor", "tvs", "gas-tube")
 @dataclass(frozen=True)
 class Stress:
     """What was applied: ``voltage`` V (rms or dc; peak for a transient), ``energy`` J,
-    ``duration`` s; ``None`` where not known."""
+    ``duration`` s, ``waveform`` ``ac`` or ``dc``; ``None`` where not known."""
 
     kind: str
     voltage: float | None = None
     energy: float | None = None
     duration: float | None = None
+    waveform: str | None = None
 
     def __post_init__(self):
         if self.kind not in EVENT_KINDS:
             raise InvalidInput(f"'{self.kind}' is not an event kind; use "
                                f"{', '.join(EVENT_KINDS)}", "kind")
+        if self.waveform is not None and self.waveform not in EVENT_WAVEFORMS:
+            raise InvalidInput(f"'{self.waveform}' is not a waveform; use "
+                               f"{' or '.join(EVENT_WAVEFORMS)}, or leave it out", "waveform")
         for name in ("voltage", "energy", "duration"):
             v = getattr(self, name)
             if v is not None and (isinstance(v, bool) or not isinstance(v, (int, float))
@@ -127,13 +134,28 @@ def rating_voltage_verdict(model: ModelSpec, voltage: float) -> Verdict:
                   SRC_RATING)
 
 
+def fuse_voltage_for(fuse: Fuse, waveform: str | None) -> tuple[float | None, str]:
+    """The fuse voltage rating (V) an event of ``waveform`` is held against, and its name:
+    ``voltage`` for ac, ``voltage_dc`` for dc, and for an unknown waveform the lower of the
+    two (``None`` if either is missing, since the lower is then not known)."""
+    if waveform == "ac":
+        return fuse.voltage, "fuse voltage rating (ac)"
+    if waveform == "dc":
+        return fuse.voltage_dc, "fuse dc voltage rating"
+    if fuse.voltage is None or fuse.voltage_dc is None:
+        return None, "lower of the fuse's ac and dc voltage ratings (waveform not given)"
+    return (min(fuse.voltage, fuse.voltage_dc),
+            "lower of the fuse's ac and dc voltage ratings (waveform not given)")
+
+
 def mode_input_verdicts(model: ModelSpec, mode: Mode, voltage: float,
-                        duration: float | None) -> list[Verdict]:
+                        duration: float | None, waveform: str | None = None) -> list[Verdict]:
     """The mode's overload rating for ``voltage`` V and its time limit for ``duration`` s.
 
     A clamp-jaw mode has no electrical contact: only the model's ratings apply. A current
     input without ``max_input`` is held against its fuse's voltage rating, the most the
-    input is rated to interrupt."""
+    input is rated to interrupt: for ``waveform`` ac or dc that rating, for an unknown
+    waveform the lower of the two (:func:`fuse_voltage_for`)."""
     label = f"{model.key}/{mode.key} ({mode.label or mode.key})"
     if mode.clamp:
         return []
@@ -141,8 +163,8 @@ def mode_input_verdicts(model: ModelSpec, mode: Mode, voltage: float,
     if mode.max_input is not None or mode.fuse is None:
         out.append(_limit(f"{label} max input", mode.max_input, voltage, VOLTAGE, SRC_MODE))
     else:
-        out.append(_limit(f"{label} fuse voltage rating", mode.fuse.voltage, voltage, VOLTAGE,
-                          SRC_MODE))
+        have, what = fuse_voltage_for(mode.fuse, waveform)
+        out.append(_limit(f"{label} {what}", have, voltage, VOLTAGE, SRC_MODE))
     if duration is not None and mode.max_duration is not None:
         out.append(_limit(f"{label} max duration", mode.max_duration, duration, TIME,
                           SRC_MODE))
@@ -246,13 +268,13 @@ def _combine(verdicts: list[Verdict]) -> tuple[bool | None, tuple[str, ...]]:
 
 
 def _voltage_verdicts(model: ModelSpec, mode: Mode | None, voltage: float,
-                      duration: float | None) -> list[Verdict]:
+                      duration: float | None, waveform: str | None = None) -> list[Verdict]:
     out = [rating_voltage_verdict(model, voltage)]
     if mode is not None:
-        out += mode_input_verdicts(model, mode, voltage, duration)
+        out += mode_input_verdicts(model, mode, voltage, duration, waveform)
     elif model.is_instrument and model.modes and model.kind != "discharge-tool":
         # The mode is not known: within only if it would be within in every mode.
-        per_mode = [_combine(mode_input_verdicts(model, x, voltage, duration))[0]
+        per_mode = [_combine(mode_input_verdicts(model, x, voltage, duration, waveform))[0]
                     for x in model.modes]
         if all(v is True for v in per_mode):
             out.append((True, f"Every mode of {model.key} takes {fq(voltage, VOLTAGE)} "
@@ -277,7 +299,7 @@ def assess(model: ModelSpec, mode_key: str | None, stress: Stress, symptoms=()) 
     elif kind == "discharge":
         verdicts = discharge_verdicts(model, mode, stress.energy, v)
     elif v is not None:
-        verdicts = _voltage_verdicts(model, mode, v, stress.duration)
+        verdicts = _voltage_verdicts(model, mode, v, stress.duration, stress.waveform)
     elif kind == "overvoltage":
         verdicts = [(None, "The applied voltage was not given, so the ratings cannot be "
                            f"checked ({SRC_RATING}).")]

@@ -39,6 +39,7 @@ TASKS = ("measure-voltage", "verify-absence", "measure-current", "measure-resist
          "discharge")
 SUPPLIES = ("mains", "isolated")
 PLAN_WAVEFORMS = ("ac", "dc")
+EVENT_WAVEFORMS = PLAN_WAVEFORMS  # an event's waveform, when it was logged
 
 # Parameters each front-end element type may carry (SPEC §3), all SI floats.
 ELEMENT_PARAMS: dict[str, tuple[str, ...]] = {
@@ -254,9 +255,12 @@ class PastEvent:
     within_rating: bool | None
     occurred_at: datetime | None = None
     clamp_conducted: bool = False
+    waveform: str | None = None  # ac or dc; None when not logged
 
     def __post_init__(self):
         _check_choice(self.kind, EVENT_KINDS, "event.kind")
+        if self.waveform is not None:
+            _check_choice(self.waveform, EVENT_WAVEFORMS, "event.waveform")
 
 
 @dataclass(frozen=True)

@@ -260,7 +260,8 @@ def build_audit(session: Session, *, since: date | None = None, site: str | None
         "id": e.id, "occurred_at": _as_date(e.occurred_at), "logged_at": _as_date(e.logged_at),
         "logged_by": e.logged_by.username if e.logged_by else None, "unit": e.unit.tag,
         "model": e.unit.model.key, "mode": e.mode_key, "kind": e.kind, "voltage_V": e.voltage,
-        "energy_J": e.energy, "duration_s": e.duration, "symptoms": ", ".join(e.symptoms or []),
+        "energy_J": e.energy, "duration_s": e.duration, "waveform": e.waveform,
+        "symptoms": ", ".join(e.symptoms or []),
         "within_rating": {True: "yes", False: "no", None: "unknown"}[e.within_rating],
         "clamp_conducted": bool(e.clamp_conducted), "hold": hold_of_event.get(e.id),
         "notes": e.notes, "hash": e.hash, "prev_hash": e.prev_hash} for e in events]
@@ -339,7 +340,8 @@ _MODE_COLUMNS = ["model", "mode", "label", "measures", "waveform", "terminals",
                  "max_duration_s", "discharge_energy_J", "clamp", "fuse_current_A",
                  "fuse_voltage_V", "fuse_voltage_dc_V", "fuse_breaking_capacity_A", "closes"]
 _EVENT_COLUMNS = ["id", "occurred_at", "logged_at", "logged_by", "unit", "model", "mode",
-                  "kind", "voltage_V", "energy_J", "duration_s", "symptoms", "within_rating",
+                  "kind", "voltage_V", "energy_J", "duration_s", "waveform", "symptoms",
+                  "within_rating",
                   "clamp_conducted", "hold", "notes", "hash", "prev_hash"]
 _HOLD_COLUMNS = ["id", "unit", "event", "opened_at", "reason", "released_at", "released_by",
                  "result", "notes", "days_open"]

@@ -52,8 +52,12 @@ def _iso(t: datetime | None) -> str | None:
 
 
 def canonical_content(row: m.Event) -> dict:
-    """The hashed fields of an event, as plain JSON values (ids, ISO times, SI floats)."""
-    return {
+    """The hashed fields of an event, as plain JSON values (ids, ISO times, SI floats).
+
+    ``waveform`` (added by migration 0002) enters only when it was logged: an event without
+    one hashes exactly as it did before the field existed, so chains written earlier still
+    verify, while setting, changing or clearing a logged waveform changes the hash."""
+    content = {
         "id": row.id, "unit_id": row.unit_id, "occurred_at": _iso(row.occurred_at),
         "logged_at": _iso(row.logged_at), "logged_by_id": row.logged_by_id,
         "mode": row.mode_key, "kind": row.kind,
@@ -63,6 +67,9 @@ def canonical_content(row: m.Event) -> dict:
         "symptoms": list(row.symptoms or []), "notes": row.notes or "",
         "within_rating": row.within_rating, "clamp_conducted": bool(row.clamp_conducted),
     }
+    if row.waveform is not None:
+        content["waveform"] = row.waveform
+    return content
 
 
 def event_hash(row: m.Event, prev_hash: str) -> str:
@@ -117,10 +124,11 @@ def append_event(session: Session, row: m.Event) -> m.Event:
 def log_event(db: Database, *, unit: str, kind: str, by: str, mode: str | None = None,
               voltage: float | None = None, energy: float | None = None,
               duration: float | None = None, symptoms=(), note: str = "",
-              at: datetime | None = None) -> LoggedEvent:
-    """Validate and record one event (SI floats; ``at`` naive UTC, default now), opening a
-    hold when SPEC §3 says so. Nothing is written when anything is invalid."""
-    stress = Stress(kind, voltage, energy, duration)
+              at: datetime | None = None, waveform: str | None = None) -> LoggedEvent:
+    """Validate and record one event (SI floats; ``at`` naive UTC, default now; ``waveform``
+    ``ac``, ``dc`` or ``None`` when not known), opening a hold when the assessment calls for
+    one. Nothing is written when anything is invalid."""
+    stress = Stress(kind, voltage, energy, duration, waveform)
     with db.transaction(immediate=True) as session:
         lock_chain(session)  # before reading anything the append depends on
         user = get_user(session, by)
@@ -135,7 +143,7 @@ def log_event(db: Database, *, unit: str, kind: str, by: str, mode: str | None =
         row = append_event(session, m.Event(
             unit_id=row_unit.id, occurred_at=occurred, logged_at=now, logged_by_id=user.id,
             mode_key=mode, kind=kind, voltage=voltage, energy=energy, duration=duration,
-            symptoms=list(ev_engine.check_symptoms(symptoms)), notes=note or "",
+            waveform=waveform, symptoms=list(ev_engine.check_symptoms(symptoms)), notes=note or "",
             within_rating=assessment.within_rating,
             clamp_conducted=assessment.clamp_conducted))
         hold_id, hold_note = None, ""

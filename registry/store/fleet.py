@@ -180,7 +180,8 @@ def engine_fleet(session: Session) -> spec.Fleet:
     for ev in session.scalars(select(m.Event).order_by(m.Event.id)):
         history.setdefault(ev.unit_id, []).append(spec.PastEvent(
             mode=ev.mode_key, kind=ev.kind, within_rating=ev.within_rating,
-            occurred_at=ev.occurred_at, clamp_conducted=ev.clamp_conducted))
+            occurred_at=ev.occurred_at, clamp_conducted=ev.clamp_conducted,
+            waveform=ev.waveform))
     units = tuple(spec.UnitState(
         tag=u.tag, model=u.model.key, status=u.status, site=u.site.name if u.site else None,
         verification_due=u.verification_due, open_hold=u.id in open_holds,

@@ -240,6 +240,7 @@ class Event(Base):
     __tablename__ = "event"
     __table_args__ = (
         _one_of("kind", spec.EVENT_KINDS),
+        _one_of("waveform", spec.EVENT_WAVEFORMS, nullable=True),
         *_non_negative("voltage", "energy", "duration"),
     )
 
@@ -254,6 +255,7 @@ class Event(Base):
     voltage: Mapped[float | None] = mapped_column(Quantity)
     energy: Mapped[float | None] = mapped_column(Quantity)
     duration: Mapped[float | None] = mapped_column(Quantity)
+    waveform: Mapped[str | None] = mapped_column(String(8))  # ac or dc; None: not logged
     symptoms: Mapped[list] = mapped_column(JSON, default=list)
     notes: Mapped[str] = mapped_column(Text, default="")
     within_rating: Mapped[bool | None] = mapped_column(Boolean)

@@ -129,6 +129,7 @@ def event_json(e: m.Event) -> dict:
             "voltage": None if e.voltage is None else u.format_quantity(e.voltage, u.VOLTAGE, digits=12),
             "energy": None if e.energy is None else u.format_quantity(e.energy, u.ENERGY, digits=12),
             "duration": None if e.duration is None else u.format_quantity(e.duration, u.TIME, digits=12),
+            "waveform": e.waveform,
             "symptoms": list(e.symptoms or []), "note": e.notes,
             "within_rating": e.within_rating, "hash": e.hash}
 

@@ -24,7 +24,7 @@ from .schemas import EventRequest, HoldRelease, validated
 
 bp = Blueprint("events", __name__)
 
-EVENT_FIELDS = ("mode", "kind", "voltage", "energy", "duration", "note", "at")
+EVENT_FIELDS = ("mode", "kind", "voltage", "energy", "duration", "waveform", "note", "at")
 
 
 def naive_utc(t: datetime | None) -> datetime | None:
@@ -46,12 +46,14 @@ def record(req: EventRequest, username: str):
     end_read()
     return log_event(db.database, unit=req.unit, kind=req.kind, by=username, mode=req.mode,
                      voltage=req.voltage, energy=req.energy, duration=req.duration,
-                     symptoms=req.symptoms, note=req.note, at=naive_utc(req.at))
+                     symptoms=req.symptoms, note=req.note, at=naive_utc(req.at),
+                     waveform=req.waveform)
 
 
 def _event_form(unit, typed, errors, status=200):
     return render_template("events/new.html", unit=unit, typed=typed, errors=errors,
                            kinds=spec.EVENT_KINDS, symptoms=spec.SYMPTOMS,
+                           waveforms=spec.EVENT_WAVEFORMS,
                            modes=unit.model.modes), status
 
 
@@ -66,7 +68,7 @@ def new(tag: str):
     typed["symptoms"] = request.form.getlist("symptoms")
     data = {"unit": unit.tag, "kind": typed["kind"] or None, "symptoms": typed["symptoms"],
             "note": typed["note"]}
-    for k in ("mode", "voltage", "energy", "duration", "at"):
+    for k in ("mode", "voltage", "energy", "duration", "waveform", "at"):
         if typed[k]:
             data[k] = typed[k]
     try:

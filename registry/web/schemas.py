@@ -36,6 +36,9 @@ class EventRequest(_Request):
     voltage: Voltage | None = None
     energy: Energy | None = None
     duration: Duration | None = None
+    waveform: Literal[spec.EVENT_WAVEFORMS] | None = Field(  # type: ignore[valid-type]
+        None, description="ac or dc; left out, a current input's fuse is judged on the lower "
+                          "of its ac and dc voltage ratings")
     symptoms: list[Literal[spec.SYMPTOMS]] = []  # type: ignore[valid-type]
     note: Note = ""
     at: datetime | None = Field(None, description="when it happened (ISO 8601); default now")

@@ -13,7 +13,9 @@ DUE = date(2027, 1, 1)
 
 def meter(key="mx-3", ratings=(Rating("III", 600.0),), *, amp_fuse=None, lowz=True,
           max_input=1000.0, **kw) -> ModelSpec:
-    """A handheld multimeter of the invented maker Quillby Instruments."""
+    """A handheld multimeter of the invented maker Quillby Instruments. Its Amps fuse breaks
+    50 kA, so leads left in the A socket on the panel plan (480 V / 20 mohm = 24 kA
+    prospective) do not make a voltage setup conditional."""
     modes = [Mode("vac", "AC volts", "voltage", "ac", ("V", "COM"), input_resistance=10e6,
                   max_input=max_input),
              Mode("vdc", "DC volts", "voltage", "dc", ("V", "COM"), input_resistance=10e6,
@@ -26,7 +28,7 @@ def meter(key="mx-3", ratings=(Rating("III", 600.0),), *, amp_fuse=None, lowz=Tr
     modes.append(Mode("amp", "Amps", "current", "both", ("A", "COM"), max_current=10.0,
                       input_resistance=0.01,
                       fuse=amp_fuse or Fuse(current=11.0, voltage=1000.0, voltage_dc=1000.0,
-                                            breaking_capacity=20e3)))
+                                            breaking_capacity=50e3)))
     return ModelSpec(key=key, kind="multimeter", maker="Quillby Instruments",
                      name=f"{key.upper()} multimeter", ratings=tuple(ratings),
                      modes=tuple(modes), connectors=("4mm",), **kw)

@@ -1,5 +1,6 @@
 """Worked examples for each check and each verdict (an invented lab; sources beside each)."""
 
+from dataclasses import replace
 from datetime import date, datetime
 
 import pytest
@@ -191,8 +192,8 @@ def test_fuse_breaking_less_than_the_prospective_current_fails_a_current_task():
 
 
 def test_adequate_fuse_passes_and_low_voltage_fuse_fails_on_dc():
-    m = meter()  # 20 kA, 1000 V ac and dc
-    fleet = fleet_of([m, leads()], [unit("M1", "mx-3"), unit("L1", "tl-4")])
+    m = meter()  # 50 kA, 1000 V ac and dc
+    fleet = fleet_of([m, leads(current_rating=10.0)], [unit("M1", "mx-3"), unit("L1", "tl-4")])
     s = _only(evaluate(_current_plan(), fleet), "M1", "amp")
     assert [f.status for f in _by(s, "misuse")] == ["pass"]
     assert s.verdict == "suitable"
@@ -208,7 +209,7 @@ def test_adequate_fuse_passes_and_low_voltage_fuse_fails_on_dc():
 def test_current_mode_above_its_maximum_fails():
     fleet = fleet_of([meter(), leads()], [unit("M1", "mx-3"), unit("L1", "tl-4")])
     s = _only(evaluate(_current_plan(current=60.0), fleet), "M1", "amp")
-    (f,) = _by(s, "mode-input")
+    (f,) = _by(s, "mode-input", "mx-3/amp")
     assert f.status == "fail" and f.required == "60 A" and f.available == "10 A"
 
 
@@ -470,3 +471,143 @@ def test_cautions_state_hazards_plainly():
     text = " ".join(result.cautions)
     assert "Prove the tester" in text and "protective equipment" in text
     assert "640 J" in text and "shock" in text and "hazardous live" in text
+
+
+# -- fuses, series current and foreseeable misuse ----------------------------------------------
+
+FUSE_125V_DC = Fuse(current=10.0, voltage=250.0, voltage_dc=125.0, breaking_capacity=1.5e3)
+
+
+def _dc_plan(task="measure-current", **circuit):
+    c = dict(supply="isolated", waveform="dc", voltage=400.0)
+    if task == "measure-current":
+        c["current"] = 5.0
+    c.update(circuit)
+    return Plan(task, Circuit(**c), altitude=40.0, on=JOB_DAY)
+
+
+def test_dc_fuse_voltage_is_checked_without_a_prospective_current():
+    # A fuse must be rated for the voltage it interrupts, its dc rating for dc (IEC 60269-1
+    # rated voltage; IEC 61010-2-033 fused current inputs): 125 V dc < 400 V dc fails the
+    # current task although the plan gives no prospective current; only the breaking capacity
+    # waits for one (not-run, naming the plan fields).
+    m = meter("mx-5", amp_fuse=FUSE_125V_DC)
+    fleet = fleet_of([m, leads(current_rating=10.0)], [unit("M5", "mx-5"), unit("L1", "tl-4")])
+    s = _only(evaluate(_dc_plan(), fleet), "M5", "amp")
+    assert s.verdict == "unsuitable"
+    fuse = _by(s, "misuse", "mx-5/amp")
+    assert [f.status for f in fuse] == ["fail", "not-run"]
+    assert "dc voltage rating 125 V is below 400 V" in fuse[0].message
+    assert fuse[0].margin == pytest.approx(125 / 400 - 1)
+    assert "breaking capacity" in fuse[1].message and "circuit.prospective_current" in fuse[1].message
+    # a 1000 V dc fuse passes the voltage part on the same plan, breaking capacity still not-run
+    s = _only(evaluate(_dc_plan(), fleet_of([meter(), leads(current_rating=10.0)],
+                                            [unit("M1", "mx-3"), unit("L1", "tl-4")])),
+              "M1", "amp")
+    assert [f.status for f in _by(s, "misuse", "mx-3/amp")] == ["pass", "not-run"]
+    assert s.verdict == "suitable"
+
+
+def test_series_current_needs_every_lead_tip_and_clip_rated_the_lowest_governs():
+    # IEC 61010-031:2015: a probe assembly carrying current has a rated current; in series
+    # the whole current flows through each item, so the lowest rated one decides.
+    tl = leads(current_rating=10.0)
+    clip = ModelSpec("ck-5", "clip", ratings=(Rating("III", 1000.0),), connector="tip-2mm",
+                     current_rating=5.0)
+    m = meter()
+
+    def chain(current):
+        plan = _current_plan(current=current)
+        ctx = SetupContext(plan, derive(plan), m, m.mode("amp"), tl, clip)
+        return [f for f in checks.check_mode_input(ctx) if f.source == checks.SRC_CHAIN_CURRENT]
+
+    (f,) = chain(8.0)
+    assert f.status == "fail" and f.subject == "ck-5"  # 5 A < 8 A although the leads take 10 A
+    assert f.required == "8 A" and f.available == "5 A" and f.margin == pytest.approx(5 / 8 - 1)
+    (f,) = chain(4.0)
+    assert f.status == "pass" and f.subject == "ck-5" and f.available == "5 A"
+    # a lead without a recorded rating is unknown, never a pass
+    fleet = fleet_of([meter(), leads()], [unit("M1", "mx-3"), unit("L1", "tl-4")])
+    s = _only(evaluate(_current_plan(current=4.0), fleet), "M1", "amp")
+    (f,) = [f for f in _by(s, "mode-input") if f.source == checks.SRC_CHAIN_CURRENT]
+    assert f.status == "unknown" and f.subject == "tl-4"
+    assert s.verdict == "unverified"
+
+
+def test_leads_left_in_the_current_socket_are_a_caution_naming_the_fuse():
+    # The panel: 480 V / 20 mohm = 24 kA prospective (Ohm's law). Leads left in the A socket
+    # of a meter set to AC volts put its 1.5 kA, 250 V fuse across it (IEC 61010-2-033
+    # foreseeable misuse): a caution naming that fuse, on both counts.
+    m = meter("mx-5", amp_fuse=FUSE_125V_DC)
+    fleet = fleet_of([m, leads()], [unit("M5", "mx-5"), unit("L1", "tl-4")])
+    s = _only(evaluate(panel_plan(), fleet), "M5", "vac")
+    assert s.verdict == "conditional"
+    (f,) = [f for f in _by(s, "misuse", "mx-5/amp")]
+    assert f.status == "caution" and "leads left in its sockets" in f.message
+    assert "in the meter, 10 A" in f.message
+    assert "breaks only 1.5 kA of the 24 kA" in f.message and "250 V is below 480 V" in f.message
+    # without a prospective current: the dc voltage rating still gives the caution, the
+    # breaking capacity is not-run
+    s = _only(evaluate(_dc_plan("measure-voltage"), fleet), "M5", "vdc")
+    found = _by(s, "misuse", "mx-5/amp")
+    assert [f.status for f in found] == ["caution", "not-run"]
+    assert "dc voltage rating 125 V is below 400 V" in found[0].message
+    assert s.verdict == "conditional"
+
+
+def _meter_lowz_limit(key, limit):
+    m = meter(key)
+    modes = tuple(replace(x, discharge_energy=limit) if x.key == "lowz" else x for x in m.modes)
+    return replace(m, modes=modes)
+
+
+def test_low_z_selected_by_mistake_on_a_charged_bank():
+    # 1 mF at 400 V dc stores E = C V^2 / 2 = 0.5 * 1e-3 * 400^2 = 80 J (circuit theory);
+    # through 3 kohm (tau 3 s) the low-Z input takes all of it within 60 s (1 - e^-40).
+    plan = _dc_plan("measure-voltage", capacitance=1e-3)
+    for limit, status in ((20.0, "caution"), (100.0, "pass"), (None, "caution")):
+        m = _meter_lowz_limit("mx-6", limit)
+        fleet = fleet_of([m, leads()], [unit("M6", "mx-6"), unit("L1", "tl-4")])
+        s = _only(evaluate(plan, fleet), "M6", "vdc")
+        (f,) = [f for f in _by(s, "misuse", "mx-6/lowz") if "charged" in f.message]
+        assert f.status == status, limit
+        assert f.required == "80 J" and "80 J" in f.message
+        if limit is None:
+            assert "not recorded" in f.message  # an unknown limit is a caution, not a pass
+        else:
+            assert f.margin == pytest.approx(limit / 80.0 - 1)
+        assert s.verdict == ("suitable" if status == "pass" else "conditional")
+
+
+def test_other_mode_on_the_same_terminals_is_held_to_its_time_limit():
+    # A tester's load-test position (7 kohm, 30 s at a time) on the same probes: a plan that
+    # stays connected 60 s makes the detect setup a caution (check 8 held against the misused
+    # mode; the maker's time limit, common practice, no source).
+    vt = ModelSpec("vt-1", "voltage-tester", ratings=(Rating("IV", 690.0),),
+                   integrated_leads=True, tip_exposure=2e-3,
+                   modes=(Mode("detect", "Indication", "voltage", "both", ("L1", "L2"),
+                               input_resistance=200e3, max_input=1000.0),
+                          Mode("load", "Load test", "voltage", "both", ("L1", "L2"),
+                               input_resistance=7e3, max_input=690.0, max_duration=30.0)))
+    fleet = fleet_of([vt], [unit("T1", "vt-1")])
+    s = _only(evaluate(panel_plan(duration=60.0), fleet), "T1", "detect")
+    (f,) = [f for f in _by(s, "misuse", "vt-1/load") if f.message.startswith("If ")]
+    assert f.status == "caution" and f.margin == pytest.approx(-0.5)
+    assert s.verdict == "conditional"
+    s = _only(evaluate(panel_plan(duration=20.0), fleet), "T1", "detect")
+    (f,) = [f for f in _by(s, "misuse", "vt-1/load") if f.message.startswith("If ")]
+    assert f.status == "pass"
+
+
+def test_another_current_range_on_the_same_sockets_is_held_to_its_maximum_current():
+    # Switching from the 10 A range to a 400 mA range on the same A/COM sockets with 5 A
+    # flowing overloads it (check 5 held against the misused mode; the maker's rating).
+    base = meter()
+    ma = Mode("ma", "Milliamps", "current", "both", ("A", "COM"), max_current=0.4,
+              input_resistance=1.0, fuse=base.mode("amp").fuse)
+    m = replace(base, key="mx-7", modes=base.modes + (ma,))
+    fleet = fleet_of([m, leads(current_rating=10.0)], [unit("M7", "mx-7"), unit("L1", "tl-4")])
+    s = _only(evaluate(_current_plan(current=5.0), fleet), "M7", "amp")
+    (f,) = [f for f in _by(s, "misuse", "mx-7/ma") if "maximum current" in f.message]
+    assert f.status == "caution" and f.required == "5 A" and f.available == "400 mA"
+    assert s.verdict == "conditional"

@@ -29,8 +29,13 @@ def verdict(result, tag, mode):
 
 def test_mains_panel(fleet):
     r = run(fleet, "mains-panel")
-    best = verdict(r, "SY-0005", "vac")  # a KX-7 at the yard
-    assert best.verdict == "suitable" and best.accessories == ("LD-0010", "PR-0010")
+    kx7 = verdict(r, "SY-0005", "vac")  # a KX-7 at the yard
+    assert kx7.accessories == ("LD-0010", "PR-0010")
+    # Leads left in its A socket put its 20 kA fuse F1 across 480 V / 20 mohm = 24 kA
+    # prospective (Ohm's law): foreseeable misuse (IEC 61010-2-033), a caution.
+    assert kx7.verdict == "conditional"
+    (f,) = [f for f in kx7.findings if f.status == "caution"]
+    assert f.check == "misuse" and "F1" in f.message and "24 kA" in f.message
     assert verdict(r, "SY-0001", "vac").verdict == "suitable"  # C40 clamp meter
     assert verdict(r, "SY-0007", "vac").verdict == "unsuitable"  # KX-3: CAT III 300 V only
     # the CAT II leads and the bare 19 mm tips are never part of a setup that fits
@@ -46,7 +51,10 @@ def test_mains_panel(fleet):
 def test_service_entrance(fleet):
     r = run(fleet, "service-entrance")
     assert r.derived.transient == 6000.0  # CAT IV, 300 V row
-    assert verdict(r, "SY-0005", "vac").verdict == "suitable"
+    # the KX-7's 20 kA fuse is short of the 50 kA fault level if the leads are left in its
+    # A socket (IEC 61010-2-033 foreseeable misuse): conditional; the C40 has no such socket
+    assert verdict(r, "SY-0005", "vac").verdict == "conditional"
+    assert verdict(r, "SY-0001", "vac").verdict == "suitable"
     assert verdict(r, "SY-0007", "vac").verdict == "unsuitable"
 
 
