@@ -2,7 +2,8 @@
 
 The checks depend on the models (instrument, mode, accessories) and the plan only, so each
 combination is evaluated once however many units share it; units then bring their state
-(exclusions), their history (check 11), their site and verification date (ranking).
+(exclusions), their history (check 11), their site and verification date (ranking). Every
+accessory unit that could join a setup is listed with the best verdict it takes part in.
 """
 
 from __future__ import annotations
@@ -12,20 +13,24 @@ from typing import Callable, Sequence
 
 from .checks import CHECKS
 from .derived import derive
-from .findings import Finding, verdict_of
+from .dead_work import check_proving_dead
+from .findings import _SEVERITY, Finding, verdict_of
 from .history import check_history, exclusion_reason, plan_cautions
-from .result import Excluded, Result, SetupResult, setup_margin, sort_key
+from .result import (VERDICT_ORDER, AccessoryResult, Excluded, Result, SetupResult,
+                     deciding_finding, setup_margin, sort_key)
 from .setups import SetupContext, check_setup, enumerate_setups
 from .spec import Fleet, Plan, SpecError, UnitState
 
 ExtraCheck = Callable[[SetupContext], list[Finding]]
+# Rules of the task beside checks 2 to 9 (engine/dead_work.py).
+TASK_CHECKS: tuple[ExtraCheck, ...] = (check_proving_dead,)
 
 
 def findings_for(ctx: SetupContext, extra_checks: Sequence[ExtraCheck] = ()) -> tuple[Finding, ...]:
-    """Every check's findings for one combination: check 1, checks 2 to 9, then the extra
-    checks (check 10, the front-end analysis, plugs in here)."""
+    """Every check's findings for one combination: check 1, checks 2 to 9, the task's rules,
+    then the extra checks (check 10, the front-end analysis, plugs in here)."""
     out = list(check_setup(ctx))
-    for check in tuple(CHECKS) + tuple(extra_checks):
+    for check in tuple(CHECKS) + TASK_CHECKS + tuple(extra_checks):
         out.extend(check(ctx))
     return tuple(out)
 
@@ -47,9 +52,39 @@ def _choice_key(s: SetupResult, site: str | None):
     ones that leave the fewest problems."""
     count = {k: sum(1 for f in s.findings if f.status == k) for k in ("fail", "unknown",
                                                                        "caution")}
-    rank = sort_key(s, site)
-    return (rank[0], count["fail"], count["unknown"], count["caution"], rank[1],
-            sum(1 for where in s.accessory_sites if where != site)) + rank[2:]
+    rank = sort_key(s, site)  # (verdict, tester rank, -margin, site, due, ...)
+    return (rank[0], count["fail"], count["unknown"], count["caution"], rank[2],
+            sum(1 for where in s.accessory_sites if where != site)) + rank[3:]
+
+
+def _own(f: Finding, model_key: str, tag: str) -> bool:
+    """Whether a finding is about the accessory itself (its model, a part of it, its unit)."""
+    return f.subject in (model_key, tag) or f.subject.split("/")[0] == model_key
+
+
+def accessory_offer(tag: str, model, findings, instrument: str, mode: str,
+                    accessories: tuple[str, ...]):
+    """(rank, AccessoryResult) of one accessory unit in one setup. Rank: the verdict, then how
+    bad its own worst finding is (a setup where it is not at fault first), then the larger
+    margin. The reason, when the setup does not fit: its own worst finding if that is as bad
+    as the verdict ("do not use these leads"), else the setup's deciding finding."""
+    verdict = verdict_of(findings)
+    own = [f for f in findings if _own(f, model.key, tag)]
+    own_sev = max((_SEVERITY[f.status] for f in own), default=0)
+    worst = max((_SEVERITY[f.status] for f in findings), default=0)
+    fitting = verdict in ("suitable", "conditional")
+    if fitting:
+        reason = None
+        margin = setup_margin(findings)
+    else:
+        reason = deciding_finding(own) if own and own_sev == worst else \
+            deciding_finding(findings)
+        margin = reason.margin if reason is not None else None
+    m = margin if margin is not None else float("-inf")
+    rank = (VERDICT_ORDER.index(verdict), own_sev, -m, instrument, mode)
+    return rank, AccessoryResult(unit=tag, model=model.key, kind=model.kind, verdict=verdict,
+                                 instrument=instrument, mode=mode, accessories=accessories,
+                                 margin=margin, reason=reason, findings=tuple(findings))
 
 
 def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = ()) -> Result:
@@ -76,6 +111,14 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
             (ctx, findings_for(ctx, extra_checks)))
 
     setups: list[SetupResult] = []
+    history: dict[str, list[Finding]] = {}
+
+    def accessory_history(u: UnitState) -> list[Finding]:
+        if u.tag not in history:
+            history[u.tag] = check_history(u, None)
+        return history[u.tag]
+
+    offers: dict[str, tuple] = {}  # accessory tag -> (rank, AccessoryResult), the best
     for unit in fleet.units:
         if unit.model not in available or unit not in available[unit.model]:
             continue
@@ -86,14 +129,29 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
             if inst_key != model.key:
                 continue
             best = None
+            own_history = check_history(unit, mode_key)
             for ctx, found in options:
                 acc_units = []
                 for acc in ctx.accessories:
                     pool = [u for u in available.get(acc.key, []) if u.tag != unit.tag]
                     acc_units.append(min(pool, key=lambda u: _unit_rank(u, plan, unit.site)))
-                findings = list(found) + check_history(unit, mode_key)
+                findings = list(found) + own_history
                 for u in acc_units:
-                    findings += check_history(u, None)
+                    findings += accessory_history(u)
+                # every accessory unit of these models, in this setup in place of the one
+                # chosen for it
+                for i, acc in enumerate(ctx.accessories):
+                    for u in available.get(acc.key, []):
+                        if u.tag == unit.tag:
+                            continue
+                        units_here = acc_units[:i] + [u] + acc_units[i + 1:]
+                        f_here = list(found) + own_history
+                        for x in units_here:
+                            f_here += accessory_history(x)
+                        offer = accessory_offer(u.tag, acc, f_here, unit.tag, mode_key,
+                                                tuple(x.tag for x in units_here))
+                        if u.tag not in offers or offer[0] < offers[u.tag][0]:
+                            offers[u.tag] = offer
                 candidate = SetupResult(
                     instrument=unit.tag, mode=mode_key,
                     accessories=tuple(u.tag for u in acc_units),
@@ -102,12 +160,15 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
                     accessory_models=tuple(a.key for a in ctx.accessories),
                     accessory_sites=tuple(u.site for u in acc_units),
                     mode_label=ctx.mode.label, site=unit.site,
-                    verification_due=unit.verification_due)
+                    verification_due=unit.verification_due, instrument_kind=model.kind)
                 if best is None or (_choice_key(candidate, plan.site)
                                     < _choice_key(best, plan.site)):
                     best = candidate
             if best is not None:
                 setups.append(best)
-    setups.sort(key=lambda s: sort_key(s, plan.site))
+    setups.sort(key=lambda s: sort_key(s, plan.site, plan.task))
+    accessories = [offer for _rank, offer in offers.values()]
+    accessories.sort(key=lambda a: (VERDICT_ORDER.index(a.verdict), a.kind, a.unit))
     return Result(plan=plan, derived=derived, setups=tuple(setups), excluded=tuple(excluded),
-                  cautions=tuple(plan_cautions(plan, derived)), on=on)
+                  cautions=tuple(plan_cautions(plan, derived)), on=on,
+                  accessories=tuple(accessories))
