@@ -8,6 +8,7 @@ accessory unit that could join a setup is listed with the best verdict it takes 
 
 from __future__ import annotations
 
+from dataclasses import dataclass
 from datetime import date
 from typing import Callable, Sequence
 
@@ -57,34 +58,53 @@ def _choice_key(s: SetupResult, site: str | None):
             sum(1 for where in s.accessory_sites if where != site)) + rank[3:]
 
 
-def _own(f: Finding, model_key: str, tag: str) -> bool:
+def _own(f: Finding, model_key: str, tag: str | None) -> bool:
     """Whether a finding is about the accessory itself (its model, a part of it, its unit)."""
     return f.subject in (model_key, tag) or f.subject.split("/")[0] == model_key
 
 
-def accessory_offer(tag: str, model, findings, instrument: str, mode: str,
-                    accessories: tuple[str, ...]):
-    """(rank, AccessoryResult) of one accessory unit in one setup. Rank: the verdict, then how
-    bad its own worst finding is (a setup where it is not at fault first), then the larger
-    margin. The reason, when the setup does not fit: its own worst finding if that is as bad
-    as the verdict ("do not use these leads"), else the setup's deciding finding."""
-    verdict = verdict_of(findings)
-    own = [f for f in findings if _own(f, model.key, tag)]
-    own_sev = max((_SEVERITY[f.status] for f in own), default=0)
-    worst = max((_SEVERITY[f.status] for f in findings), default=0)
-    fitting = verdict in ("suitable", "conditional")
-    if fitting:
+@dataclass(frozen=True)
+class _Part:
+    """What an accessory offer needs of a list of findings: the worst severity, the deciding
+    finding, and the same for the findings about the accessory itself."""
+
+    worst: int
+    deciding: Finding | None
+    own_worst: int
+    own_deciding: Finding | None
+    has_own: bool
+
+
+def _part(findings, model_key: str, tag: str | None) -> _Part:
+    own = [f for f in findings if _own(f, model_key, tag)]
+    return _Part(max((_SEVERITY[f.status] for f in findings), default=0),
+                 deciding_finding(findings), max((_SEVERITY[f.status] for f in own), default=0),
+                 deciding_finding(own), bool(own))
+
+
+def _joined(a: _Part, b: _Part) -> _Part:
+    """The part of two lists of findings together (the deciding finding is a minimum)."""
+    pick = lambda x, y: deciding_finding([f for f in (x, y) if f is not None])
+    return _Part(max(a.worst, b.worst), pick(a.deciding, b.deciding),
+                 max(a.own_worst, b.own_worst), pick(a.own_deciding, b.own_deciding),
+                 a.has_own or b.has_own)
+
+
+def accessory_rank(p: _Part, instrument: str, mode: str):
+    """(rank, verdict, margin, reason) of one accessory unit in one setup. Rank: the verdict,
+    then how bad its own worst finding is (a setup where it is not at fault first), then the
+    larger margin. The reason, when the setup does not fit: its own worst finding if that is as
+    bad as the verdict ("do not use these leads"), else the setup's deciding finding."""
+    verdict = {0: "suitable", 1: "conditional", 2: "unverified", 3: "unsuitable"}[p.worst]
+    if verdict in ("suitable", "conditional"):
         reason = None
-        margin = setup_margin(findings)
+        margin = p.deciding.margin if p.deciding is not None else None
     else:
-        reason = deciding_finding(own) if own and own_sev == worst else \
-            deciding_finding(findings)
+        reason = p.own_deciding if p.has_own and p.own_worst == p.worst else p.deciding
         margin = reason.margin if reason is not None else None
     m = margin if margin is not None else float("-inf")
-    rank = (VERDICT_ORDER.index(verdict), own_sev, -m, instrument, mode)
-    return rank, AccessoryResult(unit=tag, model=model.key, kind=model.kind, verdict=verdict,
-                                 instrument=instrument, mode=mode, accessories=accessories,
-                                 margin=margin, reason=reason, findings=tuple(findings))
+    return (VERDICT_ORDER.index(verdict), p.own_worst, -m, instrument, mode), verdict, \
+        margin, reason
 
 
 def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = ()) -> Result:
@@ -119,6 +139,7 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
         return history[u.tag]
 
     offers: dict[str, tuple] = {}  # accessory tag -> (rank, AccessoryResult), the best
+    parts: dict[tuple[int, int], tuple] = {}  # (combination, slot) -> (findings, _Part)
     for unit in fleet.units:
         if unit.model not in available or unit not in available[unit.model]:
             continue
@@ -139,19 +160,28 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
                 for u in acc_units:
                     findings += accessory_history(u)
                 # every accessory unit of these models, in this setup in place of the one
-                # chosen for it
+                # chosen for it; the combination's own findings are summed up once per model
                 for i, acc in enumerate(ctx.accessories):
+                    key = (id(found), i)
+                    if key not in parts:
+                        parts[key] = (found, _part(found, acc.key, None))
+                    base = parts[key][1]
                     for u in available.get(acc.key, []):
                         if u.tag == unit.tag:
                             continue
                         units_here = acc_units[:i] + [u] + acc_units[i + 1:]
-                        f_here = list(found) + own_history
+                        extra = list(own_history)
                         for x in units_here:
-                            f_here += accessory_history(x)
-                        offer = accessory_offer(u.tag, acc, f_here, unit.tag, mode_key,
-                                                tuple(x.tag for x in units_here))
-                        if u.tag not in offers or offer[0] < offers[u.tag][0]:
-                            offers[u.tag] = offer
+                            extra += accessory_history(x)
+                        p = _joined(base, _part(extra, acc.key, u.tag)) if extra else base
+                        rank, verdict, margin, reason = accessory_rank(p, unit.tag, mode_key)
+                        if u.tag in offers and not rank < offers[u.tag][0]:
+                            continue
+                        offers[u.tag] = (rank, AccessoryResult(
+                            unit=u.tag, model=acc.key, kind=acc.kind, verdict=verdict,
+                            instrument=unit.tag, mode=mode_key,
+                            accessories=tuple(x.tag for x in units_here), margin=margin,
+                            reason=reason, findings=tuple(found) + tuple(extra)))
                 candidate = SetupResult(
                     instrument=unit.tag, mode=mode_key,
                     accessories=tuple(u.tag for u in acc_units),
