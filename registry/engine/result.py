@@ -230,10 +230,11 @@ class Result:
             s = self.setups[0]
             acc = (" with " + ", ".join(s.accessories)) if s.accessories else ""
             d = s.deciding
-            on = f" on {d.check}" if d is not None and s.margin is not None else ""
+            margin = "" if s.margin is None or d is None else \
+                f", margin {format_ratio(s.margin_ratio)} on {d.check}"
+            why = f" ({d.check}: {d.message})" if s.verdict != "suitable" and d else ""
             return (f"Best setup: {s.instrument} ({s.instrument_model}) in "
-                    f"{s.mode_label or s.mode}{acc}: {s.verdict}, margin "
-                    f"{format_ratio(s.margin_ratio)}{on}.")
+                    f"{s.mode_label or s.mode}{acc}: {s.verdict}{margin}.{why}")
         head = "No setup in the fleet can take this job"
         if not self.setups:
             return (head + f": no available instrument has a mode that does "
