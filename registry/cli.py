@@ -252,6 +252,7 @@ def check(plan: Path, as_json: bool, show_all: bool, on: str | None, explain: st
         result = check_registry(parsed, session)
     if explain and not any(s.instrument == explain or explain in s.accessories
                            for s in result.setups) and \
+            result.accessory(explain) is None and \
             not any(x.unit == explain for x in result.excluded):
         raise InvalidInput(f"no unit '{explain}' in this result", "--explain")
     if as_json:

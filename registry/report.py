@@ -2,11 +2,9 @@
 
 from __future__ import annotations
 
-import math
-
 from .engine.quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, RESISTANCE, TIME, VOLTAGE,
                               format_quantity as fq)
-from .engine.result import Result, SetupResult
+from .engine.result import Result, SetupResult, format_ratio, margin_ratio
 
 DEFAULT_LIMIT = 20  # setups shown without --all (SPEC §4)
 _MARK = {"pass": "ok", "caution": "CAUTION", "fail": "FAIL", "unknown": "UNKNOWN",
@@ -19,11 +17,8 @@ def exit_code(result: Result) -> int:
 
 
 def _margin(m: float | None) -> str:
-    if m is None:
-        return "-"
-    if math.isinf(m):
-        return "n/a" if m > 0 else "-inf"
-    return f"{m:+.0%}"
+    """A headroom (available - required) / required shown as the ratio available / required."""
+    return format_ratio(margin_ratio(m))
 
 
 def _reason(s: SetupResult) -> str:
@@ -88,9 +83,55 @@ def derived_lines(result: Result) -> list[str]:
     return out
 
 
+def accessory_lines(result: Result) -> list[str]:
+    """Every accessory unit that could join a setup, its best verdict and, when none fits,
+    the reason (so "do not use these leads" is said)."""
+    rows = []
+    for a in result.accessories:
+        setup = f"{a.instrument} {a.mode}" + (
+            " with " + ", ".join(t for t in a.accessories if t != a.unit)
+            if len(a.accessories) > 1 else "")
+        why = "" if a.reason is None else f"{a.reason.check}: {a.reason.message} " \
+                                         f"({a.reason.source})"
+        rows.append([a.unit, a.kind, a.verdict, _margin(a.margin), setup,
+                     why or "fits"])
+    return _table(rows, ["unit", "kind", "best verdict", "margin", "in setup",
+                         "reason when none fits"])
+
+
+def _accessory_explain(result: Result, tag: str) -> list[str]:
+    a = result.accessory(tag)
+    others = [t for t in a.accessories if t != a.unit]
+    out = [f"{a.unit} ({a.kind} {a.model}): best verdict {a.verdict.upper()}, in "
+           f"{a.instrument} {a.mode}" + (f" with {', '.join(others)}" if others else "")
+           + f", margin {_margin(a.margin)}"]
+    if a.reason is not None:
+        f = a.reason
+        req = f" [needs {f.required}; has {f.available}]" if f.required or f.available else ""
+        out.append(f"  do not use {a.unit}: {f.message}{req}")
+        out.append(f"  source: {f.source}")
+    out.append("  every finding of that setup:")
+    out += _finding_lines(a.findings)
+    return out
+
+
+def _finding_lines(findings) -> list[str]:
+    out = []
+    for f in findings:
+        req = f" [needs {f.required}; has {f.available}]" if f.required or f.available else ""
+        out.append(f"  {_MARK[f.status]:8} {f.check:10} {f.subject}: {f.message}{req}")
+        out.append(f"  {'':8} {'':10} source: {f.source}")
+    return out
+
+
 def explain_lines(result: Result, tag: str) -> list[str]:
     setups = result.setups_for(tag)
     out = [f"Findings for {tag}:"]
+    if result.accessory(tag) is not None:
+        out += _accessory_explain(result, tag)
+        if not setups:
+            return out
+        out += ["", f"Ranked setups with {tag}:"]
     if not setups:
         why = next((e.reason for e in result.excluded if e.unit == tag), None)
         out.append(f"  {tag} is not offered for this plan"
@@ -101,17 +142,14 @@ def explain_lines(result: Result, tag: str) -> list[str]:
         out.append("")
         out.append(f"{s.instrument} {s.mode} ({s.mode_label}) with {acc}: {s.verdict.upper()}, "
                    f"margin {_margin(s.margin)}")
-        for f in s.findings:
-            req = f" [needs {f.required}; has {f.available}]" if f.required or f.available else ""
-            out.append(f"  {_MARK[f.status]:8} {f.check:10} {f.subject}: {f.message}{req}")
-            out.append(f"  {'':8} {'':10} source: {f.source}")
+        out += _finding_lines(s.findings)
     return out
 
 
 def render_text(result: Result, *, show_all: bool = False, explain: str | None = None) -> str:
     """The ranked table, the plan's derived values, then the cautions (and with ``explain``
     every finding of that unit's setups)."""
-    lines = derived_lines(result)
+    lines = [result.summary, ""] + derived_lines(result)
     lines.append("")
     shown = result.setups if show_all else result.setups[:DEFAULT_LIMIT]
     if not result.setups:
@@ -124,6 +162,10 @@ def render_text(result: Result, *, show_all: bool = False, explain: str | None =
                                "deciding reason"])
         if len(shown) < len(result.setups):
             lines.append(f"... {len(result.setups) - len(shown)} more setups (use --all)")
+    if result.accessories:
+        lines.append("")
+        lines.append("Accessories (each unit's best setup; the reason when none fits):")
+        lines += accessory_lines(result)
     if result.excluded:
         lines.append("")
         lines.append("Not offered: " + ", ".join(f"{e.unit} ({e.reason})"

@@ -54,8 +54,12 @@ def test_front_end_findings_reach_the_result(runner, demo):
     assert any(f["status"] == "fail" and "S1" in f["subject"] for f in paths)
     kx7 = [s for s in doc["setups"] if s["instrument"] == "SY-0005" and s["mode"] == "vac"]
     # conditional: its 20 kA Amps fuse falls short of the board's 24 kA (480 V / 20 mohm,
-    # Ohm's law) were the leads left in the A socket (IEC 61010-2-033 foreseeable misuse)
+    # Ohm's law) were the leads left in the A socket (IEC 61010-2-033 foreseeable misuse), and
+    # proving dead with a multimeter is a caution (a two-pole voltage tester is preferred;
+    # common practice, no source)
     assert kx7 and kx7[0]["verdict"] == "conditional"
+    assert {f["check"] for f in kx7[0]["findings"]
+            if f["status"] not in ("pass", "not-run")} == {"misuse", "proving-dead"}
     assert any(f["check"] == "protection-path" for f in kx7[0]["findings"])
 
 
@@ -98,3 +102,17 @@ def test_a_plan_that_is_not_utf8_exits_2_naming_it(runner, demo, tmp_path):
     assert result.exit_code == 2, result.output
     assert f"'{bad}' is not UTF-8 text" in result.output
     assert "Traceback" not in result.output and isinstance(result.exception, SystemExit)
+
+
+def test_summary_first_and_explain_an_accessory(runner, demo):
+    result = check(runner, plan_path("mains-panel"), "--on", "2026-12-02", "--explain",
+                   "LD-0003")
+    assert result.exit_code == 0
+    out = result.output
+    assert out.splitlines()[0].startswith("Best setup: ")
+    assert "Accessories (each unit's best setup; the reason when none fits):" in out
+    # the demo's LD-2 leads are CAT II 600 V; the board is CAT III (IEC 61010-031:2015)
+    assert "do not use LD-0003: bw-ld2 must not be used here" in out
+    doc = json.loads(check(runner, plan_path("mains-panel"), "--on", "2026-12-02",
+                           "--json").output)
+    assert doc["summary"]["text"] == out.splitlines()[0]

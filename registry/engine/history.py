@@ -9,6 +9,7 @@ from __future__ import annotations
 from datetime import date
 
 from ..standards import stored_energy as se
+from .dead_work import DEAD_TASKS, isolation_caution
 from .derived import Derived
 from .findings import Finding
 from .quantity import ENERGY, VOLTAGE, format_quantity as fq
@@ -87,6 +88,8 @@ def plan_cautions(plan: Plan, d: Derived) -> list[str]:
     if plan.task == "verify-absence":
         out.append(PROVE_TESTER)
     out.append(PPE)
+    if plan.task in DEAD_TASKS:
+        out.append(isolation_caution(c.voltage, c.waveform))
     level = fq(d.hazardous_live, VOLTAGE) + (" rms" if c.waveform == "ac" else " dc")
     if d.hazardous:
         out.append(f"The circuit is hazardous live: {fq(c.voltage, VOLTAGE)} "

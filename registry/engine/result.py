@@ -1,5 +1,5 @@
-"""The result of a check (SPEC §4, ``withstand-result/1``): setups ranked, units left out,
-cautions."""
+"""The result of a check (``withstand-result/1``): a one-line summary, setups ranked, the
+accessory units and the best each takes part in, units left out, cautions."""
 
 from __future__ import annotations
 
@@ -7,12 +7,14 @@ import math
 from dataclasses import dataclass
 from datetime import date
 
+from .dead_work import tester_rank
 from .derived import Derived
 from .findings import _SEVERITY, Finding
 from .spec import Plan
 
 FORMAT = "withstand-result/1"
 VERDICT_ORDER = ("suitable", "conditional", "unverified", "unsuitable")
+FITTING = ("suitable", "conditional")
 
 
 def _clean(x):
@@ -20,9 +22,37 @@ def _clean(x):
 
 
 def setup_margin(findings) -> float | None:
-    """A setup's margin: the smallest relative headroom over its numeric findings."""
-    margins = [f.margin for f in findings if f.margin is not None]
-    return min(margins) if margins else None
+    """A setup's margin: the relative headroom (available - required) / required of its
+    deciding finding (the one named as the reason), ``None`` when that finding is not numeric.
+    Not the smallest headroom of any finding: a pass with little room does not speak for a
+    setup that a failing check decides."""
+    f = deciding_finding(findings)
+    return None if f is None else f.margin
+
+
+def margin_ratio(margin: float | None) -> float | None:
+    """What an item may take over what it must take, available / required = 1 + headroom
+    (headroom as :func:`~registry.engine.findings.headroom` gives it); ``None`` when not
+    numeric; ``inf`` when nothing is required; never below 0."""
+    if margin is None:
+        return None
+    if math.isinf(margin):
+        return math.inf if margin > 0 else 0.0
+    return max(0.0, 1.0 + margin)
+
+
+def format_ratio(ratio: float | None) -> str:
+    """A ratio as text, "x1.33", "x0.62": rounded down, so a ratio just under 1 never reads
+    "x1.00" and nothing reads better than it is; "no limit" when nothing is required."""
+    if ratio is None:
+        return "-"
+    if math.isinf(ratio):
+        return "no limit"
+    if ratio >= 100:
+        return f"x{math.floor(ratio):.0f}"
+    if ratio >= 10:
+        return f"x{math.floor(ratio * 10) / 10:.1f}"
+    return f"x{math.floor(ratio * 100 + 1e-9) / 100:.2f}"
 
 
 def deciding_finding(findings) -> Finding | None:
@@ -49,17 +79,65 @@ class SetupResult:
     mode_label: str = ""
     site: str | None = None
     verification_due: date | None = None
+    instrument_kind: str = ""
 
     @property
     def deciding(self) -> Finding | None:
         return deciding_finding(self.findings)
 
+    @property
+    def margin_ratio(self) -> float | None:
+        """The deciding finding's available / required."""
+        return margin_ratio(self.margin)
+
     def as_dict(self) -> dict:
+        d = self.deciding
         return {"instrument": self.instrument, "mode": self.mode,
                 "accessories": list(self.accessories), "verdict": self.verdict,
-                "margin": _clean(self.margin),
-                "findings": [dict(f.as_dict(), margin=_clean(f.margin))
+                "margin": _clean(self.margin), "margin_ratio": _clean(self.margin_ratio),
+                "deciding": None if d is None else {"check": d.check, "subject": d.subject,
+                                                    "message": d.message},
+                "findings": [dict(f.as_dict(), margin=_clean(f.margin),
+                                  margin_ratio=_clean(margin_ratio(f.margin)))
                              for f in self.findings]}
+
+
+@dataclass(frozen=True)
+class AccessoryResult:
+    """One accessory unit that could join a setup for the job, with the best setup it takes
+    part in. ``reason`` is the finding that keeps it out when no setup with it fits: its own
+    worst finding when that is as bad as the setup's verdict, else the setup's deciding one."""
+
+    unit: str
+    model: str
+    kind: str
+    verdict: str
+    instrument: str
+    mode: str
+    accessories: tuple[str, ...]
+    margin: float | None = None
+    reason: Finding | None = None
+    findings: tuple[Finding, ...] = ()  # of that setup, for --explain; not in the JSON
+
+    @property
+    def fits(self) -> bool:
+        return self.verdict in FITTING
+
+    @property
+    def margin_ratio(self) -> float | None:
+        return margin_ratio(self.margin)
+
+    def as_dict(self) -> dict:
+        r = self.reason
+        return {"unit": self.unit, "model": self.model, "kind": self.kind,
+                "verdict": self.verdict,
+                "best_setup": {"instrument": self.instrument, "mode": self.mode,
+                               "accessories": list(self.accessories)},
+                "margin": _clean(self.margin), "margin_ratio": _clean(self.margin_ratio),
+                "reason": None if r is None else {
+                    "check": r.check, "status": r.status, "subject": r.subject,
+                    "required": r.required, "available": r.available, "message": r.message,
+                    "source": r.source}}
 
 
 @dataclass(frozen=True)
@@ -72,12 +150,14 @@ class Excluded:
         return {"unit": self.unit, "reason": self.reason}
 
 
-def sort_key(s: SetupResult, plan_site: str | None):
-    """SPEC §4: verdict order, then larger margin first (no margin last), then units at the
-    plan's site, then the latest verification due first; tag and mode keep it stable."""
+def sort_key(s: SetupResult, plan_site: str | None, task: str | None = None):
+    """Verdict order; for verify-absence, then purpose-built voltage testers ahead of other
+    instruments (:func:`~registry.engine.dead_work.tester_rank`); then the larger margin of
+    the deciding finding first (no margin last); then units at the plan's site, then the latest
+    verification due first; tag and mode keep it stable."""
     margin = s.margin if s.margin is not None else -math.inf
     due = s.verification_due.toordinal() if s.verification_due else 0
-    return (VERDICT_ORDER.index(s.verdict), -margin,
+    return (VERDICT_ORDER.index(s.verdict), tester_rank(task, s.instrument_kind), -margin,
             0 if (plan_site is not None and s.site == plan_site) else 1, -due,
             s.instrument, s.mode, s.accessories)
 
@@ -113,17 +193,75 @@ class Result:
     excluded: tuple[Excluded, ...] = ()
     cautions: tuple[str, ...] = ()
     on: date | None = None
+    accessories: tuple[AccessoryResult, ...] = ()
 
     def setups_for(self, tag: str) -> tuple[SetupResult, ...]:
         """The setups whose instrument or accessory is the unit ``tag``."""
         return tuple(s for s in self.setups if s.instrument == tag or tag in s.accessories)
 
+    def accessory(self, tag: str) -> AccessoryResult | None:
+        return next((a for a in self.accessories if a.unit == tag), None)
+
     @property
     def any_fit(self) -> bool:
-        return any(s.verdict in ("suitable", "conditional") for s in self.setups)
+        return any(s.verdict in FITTING for s in self.setups)
+
+    def commonest_reason(self) -> tuple[str, int, Finding] | None:
+        """Among the setups' deciding findings that are not a pass: the check that decides
+        most of them, how many, and the best-ranked setup's finding of that check."""
+        counts: dict[str, int] = {}
+        first: dict[str, Finding] = {}
+        for s in self.setups:
+            d = s.deciding
+            if d is None or d.status in ("pass", "not-run"):
+                continue
+            counts[d.check] = counts.get(d.check, 0) + 1
+            first.setdefault(d.check, d)
+        if not counts:
+            return None
+        check = max(counts, key=lambda k: (counts[k], -list(first).index(k)))
+        return check, counts[check], first[check]
+
+    @property
+    def summary(self) -> str:
+        """One line on what the job gets: the best setup and its verdict, or that no setup
+        in the fleet can take it and the commonest reason."""
+        if self.any_fit:
+            s = self.setups[0]
+            acc = (" with " + ", ".join(s.accessories)) if s.accessories else ""
+            d = s.deciding
+            margin = "" if s.margin is None or d is None else \
+                f", margin {format_ratio(s.margin_ratio)} on {d.check}"
+            why = f" ({d.check}: {d.message})" if s.verdict != "suitable" and d else ""
+            return (f"Best setup: {s.instrument} ({s.instrument_model}) in "
+                    f"{s.mode_label or s.mode}{acc}: {s.verdict}{margin}.{why}")
+        head = "No setup in the fleet can take this job"
+        if not self.setups:
+            return (head + f": no available instrument has a mode that does "
+                    f"{self.plan.task}.")
+        why = self.commonest_reason()
+        if why is None:
+            return head + "."
+        check, n, f = why
+        return (head + f"; the commonest reason ({check}, {n} of {len(self.setups)} "
+                f"setups): {f.message}")
+
+    def summary_dict(self) -> dict:
+        best = self.setups[0] if self.any_fit else None
+        why = None if self.any_fit else self.commonest_reason()
+        return {"text": self.summary, "fits": self.any_fit,
+                "best": None if best is None else {
+                    "instrument": best.instrument, "mode": best.mode,
+                    "accessories": list(best.accessories), "verdict": best.verdict,
+                    "margin_ratio": _clean(best.margin_ratio)},
+                "commonest_reason": None if why is None else {
+                    "check": why[0], "setups": why[1], "of": len(self.setups),
+                    "message": why[2].message}}
 
     def as_json(self) -> dict:
-        return {"format": FORMAT, "plan": plan_as_dict(self.plan, self.derived),
+        return {"format": FORMAT, "summary": self.summary_dict(),
+                "plan": plan_as_dict(self.plan, self.derived),
                 "setups": [s.as_dict() for s in self.setups],
+                "accessories": [a.as_dict() for a in self.accessories],
                 "excluded": [e.as_dict() for e in self.excluded],
                 "cautions": list(self.cautions)}

@@ -274,10 +274,21 @@ def openapi_document() -> dict:
                                                         "circuit.voltage; empty for the body"},
                                "reason": {"type": "string"}}}}}}}}
     schemas["Result"] = {"type": "object", "description": "withstand-result/1 (SPEC §4)",
-                         "required": ["format", "plan", "setups", "excluded", "cautions"],
+                         "required": ["format", "summary", "plan", "setups", "accessories",
+                                      "excluded", "cautions"],
                          "properties": {"format": {"const": "withstand-result/1"},
+                                        "summary": {"type": "object", "description":
+                                                    "one line on what the job gets (text), "
+                                                    "whether a setup fits, the best setup or "
+                                                    "the commonest reason none does"},
                                         "plan": {"type": "object"},
-                                        "setups": {"type": "array", "items": {"type": "object"}},
+                                        "setups": {"type": "array", "items": {"type": "object"},
+                                                   "description": "ranked; margin_ratio is the "
+                                                   "deciding finding's available / required"},
+                                        "accessories": {"type": "array", "items": {
+                                            "type": "object"}, "description": "every accessory "
+                                            "unit that could join a setup, its best verdict and "
+                                            "the reason when none fits"},
                                         "excluded": {"type": "array", "items": {"type": "object"}},
                                         "cautions": {"type": "array", "items": {"type": "string"}}}}
     ref = lambda name: {"$ref": f"#/components/schemas/{name}"}

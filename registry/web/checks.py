@@ -13,6 +13,7 @@ from datetime import date
 import yaml
 from flask import Blueprint, Response, abort, render_template, request, url_for
 
+from ..engine.result import format_ratio, margin_ratio
 from ..engine.spec import PLAN_WAVEFORMS, SUPPLIES, TASKS
 from ..errors import InvalidInput
 from ..extensions import db
@@ -312,6 +313,13 @@ def load_plan():
             errors.add(field_of(p.path), p.message)
         return _form(fields, errors, 400)
     return _form(fields, errors)
+
+
+@bp.app_template_filter("ratio")
+def ratio_filter(margin):
+    """A headroom (available - required) / required shown as available / required, "x1.33"."""
+    text = format_ratio(margin_ratio(margin))
+    return "—" if text == "-" else text
 
 
 @bp.app_template_filter("finite")

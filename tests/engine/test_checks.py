@@ -452,12 +452,14 @@ def test_json_has_the_result_format():
                                           unit("M9", "mx-3", status="away")])
     out = evaluate(panel_plan(), fleet).as_json()
     assert out["format"] == "withstand-result/1"
-    assert set(out) == {"format", "plan", "setups", "excluded", "cautions"}
+    assert set(out) == {"format", "summary", "plan", "setups", "accessories", "excluded",
+                        "cautions"}
     for key in ("transient", "energy", "prospective_current", "hazardous_live"):
         assert key in out["plan"]
     assert out["plan"]["transient"] == 4000.0
     s = out["setups"][0]
-    assert set(s) == {"instrument", "mode", "accessories", "verdict", "margin", "findings"}
+    assert set(s) == {"instrument", "mode", "accessories", "verdict", "margin", "margin_ratio",
+                      "deciding", "findings"}
     assert set(s["findings"][0]) >= {"check", "status", "subject", "required", "available",
                                      "message", "source"}
     assert out["excluded"] == [{"unit": "M9", "reason": "away"}]

@@ -32,11 +32,16 @@ def test_mains_panel(fleet):
     kx7 = verdict(r, "SY-0005", "vac")  # a KX-7 at the yard
     assert kx7.accessories == ("LD-0010", "PR-0010")
     # Leads left in its A socket put its 20 kA fuse F1 across 480 V / 20 mohm = 24 kA
-    # prospective (Ohm's law): foreseeable misuse (IEC 61010-2-033), a caution.
+    # prospective (Ohm's law): foreseeable misuse (IEC 61010-2-033), a caution; and proving
+    # dead with a multimeter is a caution too (a purpose-built two-pole tester is preferred;
+    # common practice, no source).
     assert kx7.verdict == "conditional"
-    (f,) = [f for f in kx7.findings if f.status == "caution"]
-    assert f.check == "misuse" and "F1" in f.message and "24 kA" in f.message
-    assert verdict(r, "SY-0001", "vac").verdict == "suitable"  # C40 clamp meter
+    cautions = {f.check: f for f in kx7.findings if f.status == "caution"}
+    assert set(cautions) == {"misuse", "proving-dead"}
+    f = cautions["misuse"]
+    assert "F1" in f.message and "24 kA" in f.message
+    assert kx7.deciding.check == "misuse"  # the caution with a number decides
+    assert verdict(r, "SY-0001", "vac").verdict == "conditional"  # C40 clamp meter
     assert verdict(r, "SY-0007", "vac").verdict == "unsuitable"  # KX-3: CAT III 300 V only
     # the CAT II leads and the bare 19 mm tips are never part of a setup that fits
     for s in r.setups:
