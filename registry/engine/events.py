@@ -37,7 +37,7 @@ from .spec import EVENT_KINDS, EVENT_WAVEFORMS, SYMPTOMS, Fuse, Mode, ModelSpec
 SRC_RATING = "IEC 61010-1:2010 rated voltage; isolated source, any category"
 SRC_MODE = "maker's rating for the mode"
 SRC_IMPULSE = "IEC 61010-2-030:2010 Table 102 impulse test voltage, or the stated withstand"
-SRC_HOLD = "SPEC §3: a symptom, a fuse-open or mechanical event, or a stress not within rating"
+SRC_HOLD = "hold rule: a symptom, a fuse-open or mechanical event, or a stress not within rating (common practice, no source)"
 
 HOLD_KINDS = ("fuse-open", "mechanical")  # these open a hold whatever the stress
 CLAMP_TYPES = ("varistor", "tvs", "gas-tube")

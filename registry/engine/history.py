@@ -16,7 +16,7 @@ from .quantity import ENERGY, VOLTAGE, format_quantity as fq
 from .rules import verification_overdue
 from .spec import Plan, UnitState
 
-SRC_HISTORY = "SPEC §5.11: the unit's logged events (common practice, no source)"
+SRC_HISTORY = "the unit's logged events (common practice, no source)"
 SRC_VARISTOR = "varistors degrade with each surge they clamp (maker's datasheets; common " \
                "practice, no source)"
 WORN_CLAMP_EVENTS = 3  # three or more clamped transients are a caution (SPEC §5.11)

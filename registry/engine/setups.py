@@ -16,7 +16,7 @@ from .findings import Finding
 from .quantity import RESISTANCE, VOLTAGE, format_quantity
 from .spec import LEAD_KINDS, TIP_KINDS, Mode, ModelSpec, Plan
 
-SOURCE = "SPEC §5.1 setup shape (common practice, no source)"
+SOURCE = "setup shape: connectors, accessories and mode fit the task (common practice, no source)"
 VOLTAGE_TASKS = ("measure-voltage", "verify-absence")
 # An input below this counts as low impedance: it loads a circuit and drains a capacitance
 # (SPEC §5.1: a voltage mode under 100 kohm may serve to discharge). Common practice, no source.

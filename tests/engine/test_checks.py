@@ -302,7 +302,8 @@ def test_loaded_divider_attenuation_worked_example():
 def _divider(**kw):
     data = dict(ratings=(Rating("none", 40e3, 48e3),), connector="4mm", attenuation=1000.0,
                 required_load=5e6, resistance=1000.25e6,
-                output_resistance=999e6 * 1.25e6 / 1000.25e6)
+                output_resistance=999e6 * 1.25e6 / 1000.25e6,
+                tip_exposure=2e-3)  # within GS38's 2 mm, so only the data caution shows
     data.update(kw)
     return ModelSpec("dv-1", "hv-divider", **data)
 
