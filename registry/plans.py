@@ -77,20 +77,6 @@ class _Problems:
                 self.add(path, f"is not a field of a plan{' ' + prefix if prefix else ''}; "
                          f"the fields are {', '.join(allowed)}")
 
-    def text(self, value, path: str):
-        """A text field: a number keeps the text it was written as (``as_text``)."""
-        if value is None:
-            return None
-        try:
-            value = as_text(value)
-        except ValueError as e:
-            self.add(path, str(e))
-            return None
-        if not isinstance(value, str):
-            self.add(path, "must be text")
-            return None
-        return value
-
     @staticmethod
     def name(data: dict, key: str):
         """A name field as text (the rules check it against their enumeration)."""
