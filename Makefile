@@ -10,22 +10,29 @@ $(BIN)/python:
 	$(PYTHON) -m venv $(VENV)
 	$(BIN)/python -m pip install --quiet --upgrade pip
 
-# Installs the project with its test extra; reinstalled when pyproject.toml changes.
+# `make run` installs the project alone; `make test` adds the test extra (pytest, Playwright,
+# ...). Each is redone when pyproject.toml changes.
 $(VENV)/.installed: pyproject.toml | $(BIN)/python
-	$(BIN)/python -m pip install --quiet -e '.[test]'
+	$(BIN)/python -m pip install --quiet -e .
 	touch $@
+
+$(VENV)/.installed-test: pyproject.toml | $(BIN)/python
+	$(BIN)/python -m pip install --quiet -e '.[test]'
+	touch $@ $(VENV)/.installed
 
 install: $(VENV)/.installed
 
 run: install
 	$(BIN)/withstand init --with-demo
-	@echo "Open http://127.0.0.1:$(PORT)/ and log in (demo logins above, e.g. steward / larkspur-steward)."
+	@echo "Open http://127.0.0.1:$(PORT)/ and log in; the demo logins are steward / larkspur-steward,"
+	@echo "tech / larkspur-tech and viewer / larkspur-viewer (unless you have changed them)."
+	@echo "The command line is $(BIN)/withstand (or activate the venv: . $(BIN)/activate)."
 	$(BIN)/withstand serve --host 127.0.0.1 --port $(PORT)
 
-test: install
+test: $(VENV)/.installed-test
 	$(BIN)/python -m pytest
 
-bench: install
+bench: $(VENV)/.installed-test
 	$(BIN)/python -m bench
 
 clean:
