@@ -1,0 +1,43 @@
+"""Form fields: a placeholder is escaped once, so the browser shows exactly the example text
+(an attribute string escaped as text showed its quotes: `"480` for `480 V`)."""
+
+from html.parser import HTMLParser
+
+from webhelp import login_as
+
+from registry.web.checks import EXAMPLES
+
+
+class _Inputs(HTMLParser):
+    def __init__(self):
+        super().__init__()
+        self.inputs: dict[str, dict[str, str | None]] = {}
+
+    def handle_starttag(self, tag, attrs):
+        if tag == "input":
+            a = dict(attrs)
+            if a.get("name"):
+                self.inputs[a["name"]] = a
+
+
+def inputs_of(page: str) -> dict[str, dict]:
+    parser = _Inputs()
+    parser.feed(page)
+    return parser.inputs
+
+
+def test_check_form_placeholders_are_the_example_text(client, demo):
+    login_as(client, "technician")
+    inputs = inputs_of(client.get("/checks/").get_data(as_text=True))
+    for name, example in EXAMPLES.items():
+        assert inputs[name]["placeholder"] == example, name
+    assert inputs["title"]["placeholder"] == "Feeder panel P3, verify absence"
+
+
+def test_fleet_and_event_form_placeholders_and_size(client, demo):
+    login_as(client, "technician")
+    fleet = inputs_of(client.get("/").get_data(as_text=True))
+    assert fleet["voltage"]["placeholder"] == "600 V" and fleet["voltage"]["size"] == "8"
+    event = inputs_of(client.get("/units/NB-0002/events/new").get_data(as_text=True))
+    assert event["voltage"]["placeholder"] == "1.2 kV"
+    assert event["energy"]["placeholder"] == "15 J"
