@@ -28,10 +28,11 @@ SELECTABLE_KINDS = ("multimeter", "clamp-meter")
 SRC_ISOLATE = ("isolate, secure and prove dead before a dead test; instrument makers' "
                "manuals say not to measure resistance on a live circuit (common practice, "
                "no source)")
+# From memory: HSE Guidance Note GS38 (fourth edition, 2015) on voltage indicators gives the
+# same advice; its paragraph was not read, so the source shown is common practice.
 SRC_PROVING = ("a purpose-built two-pole voltage tester is preferred for proving dead over a "
-               "multimeter, whose function or range can be set wrong; the advice of HSE "
-               "Guidance Note GS38 (fourth edition, 2015) on voltage indicators, from memory: "
-               "its paragraph was not read (common practice, no source)")
+               "multimeter, whose function or range can be set wrong (common practice, "
+               "no source)")
 
 
 def isolation_caution(voltage: float, waveform: str) -> str:

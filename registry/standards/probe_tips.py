@@ -11,8 +11,10 @@ Pure: SI floats (m).
 from __future__ import annotations
 
 SOURCE = "HSE GS38 (4th edition, 2015) para 9: exposed tip at most 4 mm, 2 mm or less preferred"
-SOURCE_CAT = ("IEC 61010-031:2015, CAT III / CAT IV probe assemblies: exposed tip at most 4 mm "
-              "(from memory); " + SOURCE)
+# From memory: IEC 61010-031:2015's 4 mm limit for CAT III / CAT IV probe assemblies (the
+# clause was not read; GS38's 4 mm, read, agrees).
+SOURCE_CAT = ("IEC 61010-031:2015, CAT III / CAT IV probe assemblies: exposed tip at most "
+              "4 mm; " + SOURCE)
 
 MAX_EXPOSURE = 4e-3        # m
 PREFERRED_EXPOSURE = 2e-3  # m
