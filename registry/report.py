@@ -62,9 +62,9 @@ def derived_lines(result: Result) -> list[str]:
            f"{fq(plan.altitude, LENGTH)}{' (wet)' if plan.wet else ''}; connected "
            f"{fq(plan.duration, TIME)}; on {result.on.isoformat() if result.on else '-'}"]
     if d.transient is not None:
-        out.append(f"  expected transient   {fq(d.transient, VOLTAGE)} peak ({d.transient_source})")
+        out.append(f"  expected transient   {fq(d.transient, VOLTAGE)} peak; source: {d.transient_source}")
     else:
-        out.append(f"  expected transient   not known ({d.transient_source})")
+        out.append(f"  expected transient   not known: {d.transient_source}")
     if d.prospective_current is not None:
         out.append(f"  prospective current  {fq(d.prospective_current, CURRENT)} "
                    f"(source impedance {fq(d.source_impedance, RESISTANCE)})")
@@ -77,9 +77,9 @@ def derived_lines(result: Result) -> list[str]:
         out.append("  stored energy        not given")
     unit = " rms" if c.waveform == "ac" else " dc"
     out.append(f"  hazardous live       above {fq(d.hazardous_live, VOLTAGE)}{unit}: the circuit "
-               f"{'IS' if d.hazardous else 'is not'} hazardous live ({d.hazardous_live_source})")
+               f"{'IS' if d.hazardous else 'is not'} hazardous live; source: {d.hazardous_live_source}")
     if plan.task == "discharge":
-        out.append(f"  safe level           {fq(d.safe_level, VOLTAGE)} ({d.safe_level_source})")
+        out.append(f"  safe level           {fq(d.safe_level, VOLTAGE)}; source: {d.safe_level_source}")
     return out
 
 
@@ -92,7 +92,7 @@ def accessory_lines(result: Result) -> list[str]:
             " with " + ", ".join(t for t in a.accessories if t != a.unit)
             if len(a.accessories) > 1 else "")
         why = "" if a.reason is None else f"{a.reason.check}: {a.reason.message} " \
-                                         f"({a.reason.source})"
+                                         f"Source: {a.reason.source}."
         rows.append([a.unit, a.kind, a.verdict, _margin(a.margin), setup,
                      why or "fits"])
     return _table(rows, ["unit", "kind", "best verdict", "margin", "in setup",
@@ -107,7 +107,7 @@ def _accessory_explain(result: Result, tag: str) -> list[str]:
            + f", margin {_margin(a.margin)}"]
     if a.reason is not None:
         f = a.reason
-        req = f" [needs {f.required}; has {f.available}]" if f.required or f.available else ""
+        req = needs_has(f)
         out.append(f"  do not use {a.unit}: {f.message}{req}")
         out.append(f"  source: {f.source}")
     out.append("  every finding of that setup:")
@@ -115,10 +115,17 @@ def _accessory_explain(result: Result, tag: str) -> list[str]:
     return out
 
 
+def needs_has(f) -> str:
+    """" [needs X; has Y]" for a finding, naming only the sides it states (no empty half)."""
+    parts = ([f"needs {f.required}"] if f.required else []) + \
+        ([f"has {f.available}"] if f.available else [])
+    return f" [{'; '.join(parts)}]" if parts else ""
+
+
 def _finding_lines(findings) -> list[str]:
     out = []
     for f in findings:
-        req = f" [needs {f.required}; has {f.available}]" if f.required or f.available else ""
+        req = needs_has(f)
         out.append(f"  {_MARK[f.status]:8} {f.check:10} {f.subject}: {f.message}{req}")
         out.append(f"  {'':8} {'':10} source: {f.source}")
     return out

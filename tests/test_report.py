@@ -50,3 +50,14 @@ def test_explain_prints_every_finding_of_the_unit():
 def test_exit_code():
     assert exit_code(_result()) == 0
     assert exit_code(_result(ratings=(Rating("II", 600.0),))) == 1
+
+
+def test_needs_and_has_show_only_the_sides_a_finding_states():
+    from registry.engine.findings import Finding
+    from registry.report import needs_has
+    both = Finding("mode-input", "pass", "m", "msg", "src", "480 V", "1 kV")
+    need = Finding("tip", "unknown", "m", "msg", "src", "<= 2 mm", "")
+    none = Finding("setup", "pass", "m", "msg", "src")
+    assert needs_has(both) == " [needs 480 V; has 1 kV]"
+    assert needs_has(need) == " [needs <= 2 mm]"
+    assert needs_has(none) == ""

@@ -23,9 +23,9 @@ from .setups import LOW_Z, VOLTAGE_TASKS, SetupContext
 from .rules import rating_covers
 from .spec import DEFAULT_MAX_ALTITUDE, Fuse, Mode, ModelSpec, Rating
 
-SRC_CATEGORY = "IEC 61010-1:2010 (instruments), IEC 61010-031:2015 (probe assemblies): " \
+SRC_CATEGORY = "IEC 61010-1:2010 for instruments, IEC 61010-031:2015 for probe assemblies: " \
                "measurement category and rated voltage"
-SRC_ALTITUDE = "IEC 61010-1:2010 1.4 (rated up to 2000 m unless stated); " + alt.SOURCE
+SRC_ALTITUDE = "IEC 61010-1:2010 1.4, rated up to 2000 m unless stated; " + alt.SOURCE
 SRC_MODE = "maker's rating for the mode (overload / max input), IEC 61010-2-033"
 SRC_MISUSE = "IEC 61010-2-033 reasonably foreseeable misuse (other modes, fused current inputs)"
 SRC_CHAIN_CURRENT = "IEC 61010-031:2015 rated current of probe assemblies: each lead, tip and " \

@@ -19,11 +19,11 @@ class LiveLevels:
 # Read: the IEC webstore abstract of IEC 61010-031:2015 says its levels changed to 30 V r.m.s.,
 # 42,4 V peak, 60 V d.c. "instead of 33 V r.m.s., 46,7 V peak, or 70 V d.c." (the Part 1
 # levels); a data-recorder manual lists 33 / 46.7 / 70 V against IEC 61010-1:2010.
-IEC_61010_1 = LiveLevels(33.0, 46.7, 70.0, "IEC 61010-1:2010 6.3.1 (normal condition)")
+IEC_61010_1 = LiveLevels(33.0, 46.7, 70.0, "IEC 61010-1:2010 6.3.1, normal condition")
 # From memory: the lower levels IEC 61010-1 6.3.1 gives for equipment used in wet locations.
 IEC_61010_1_WET = LiveLevels(16.0, 22.6, 35.0, "IEC 61010-1:2010 6.3.1, wet locations")
 # Read: IEC 61010-031:2015 (webstore abstract; scope of type A probe assemblies).
-IEC_61010_031 = LiveLevels(30.0, 42.4, 60.0, "IEC 61010-031:2015 (probe assemblies)")
+IEC_61010_031 = LiveLevels(30.0, 42.4, 60.0, "IEC 61010-031:2015, probe assemblies")
 
 
 def plan_level(waveform: str, wet: bool = False) -> tuple[float, str]:
