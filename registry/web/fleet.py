@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import io
+from datetime import date
 
 import segno
 from flask import (Blueprint, Response, abort, flash, redirect, render_template, request,
@@ -10,7 +11,7 @@ from flask import (Blueprint, Response, abort, flash, redirect, render_template,
 from flask_login import current_user
 from sqlalchemy import select
 
-from ..engine import spec
+from ..engine import rules, spec
 from ..engine.quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, POWER, RESISTANCE, TIME,
                                VOLTAGE, format_quantity)
 from ..errors import InvalidInput
@@ -72,6 +73,12 @@ def fleet_query(args, errors: FieldErrors) -> tuple[queries.FleetQuery, dict]:
     return fq, typed
 
 
+def _overdue_today():
+    """The engine's overdue rule for a unit row, on today's date."""
+    today = date.today()
+    return lambda u: rules.unit_overdue(u.status, u.verification_due, today)
+
+
 @bp.route("/")
 @role_required("viewer")
 def index():
@@ -86,10 +93,11 @@ def index():
         args.update({k: v for k, v in changes.items()})
         return url_for("fleet.index", **{k: v for k, v in args.items() if v not in ("", None)})
 
-    return render_template("fleet/index.html", result=result, typed=typed, errors=errors,
+    page = render_template("fleet/index.html", result=result, typed=typed, errors=errors,
                            kinds=spec.KINDS, statuses=spec.UNIT_STATUSES,
                            sites=queries.site_names(db.session), link=link,
-                           sort=fq.sort, desc=fq.desc), (400 if errors else 200)
+                           sort=fq.sort, desc=fq.desc, overdue=_overdue_today())
+    return page, (400 if errors else 200)
 
 
 @bp.route("/units/<tag>")

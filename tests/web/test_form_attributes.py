@@ -1,6 +1,7 @@
 """Form fields: a placeholder is escaped once, so the browser shows exactly the example text
 (an attribute string escaped as text showed its quotes: `"480` for `480 V`)."""
 
+import re
 from html.parser import HTMLParser
 
 from webhelp import login_as
@@ -41,3 +42,26 @@ def test_fleet_and_event_form_placeholders_and_size(client, demo):
     event = inputs_of(client.get("/units/NB-0002/events/new").get_data(as_text=True))
     assert event["voltage"]["placeholder"] == "1.2 kV"
     assert event["energy"]["placeholder"] == "15 J"
+
+
+def test_fleet_list_marks_overdue_units_by_the_engine_rule(client, demo):
+    # NB-0007's verification fell due 2026-10-01 (demo fleet); overdue means due before the
+    # day (common practice, no source), the rule the engine excludes units by.
+    from datetime import date
+    from registry.engine.rules import unit_overdue
+    login_as(client, "viewer")
+    page = client.get("/?q=NB-000").get_data(as_text=True)
+    rows = {m.group(1): m.group(0) for m in re.finditer(
+        r'<td class="tag"><a [^>]*>(NB-\d{4})</a></td>.*?</tr>', page, re.S)}
+    assert rows, page
+    overdue_today = unit_overdue("in-service", date(2026, 10, 1), date.today())
+    assert ("overdue</span>" in rows["NB-0007"]) == overdue_today
+    assert "overdue</span>" not in rows["NB-0002"]
+
+
+def test_pages_carry_a_favicon_that_is_served(client, demo):
+    login_as(client, "viewer")
+    page = client.get("/").get_data(as_text=True)
+    href = re.search(r'<link rel="icon" type="image/svg\+xml" href="([^"]+)"', page).group(1)
+    icon = client.get(href)
+    assert icon.status_code == 200 and b"<svg" in icon.data
