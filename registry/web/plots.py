@@ -110,10 +110,12 @@ def discharge_svg(path: DischargePath) -> str:
                    f'{escape(fq(p.energy_left, ENERGY))} left</text>')
     if math.isfinite(t_safe) and t_safe <= t_max:
         out.append(f'<circle cx="{x(t_safe):.1f}" cy="{y(v_safe):.1f}" r="5" fill="#1d2329"/>')
-        # the label goes left of the point when the point is near the right edge
-        right = x(t_safe) > LEFT + 0.6 * pw
-        out.append(f'<text x="{x(t_safe) + (-8 if right else 8):.1f}" y="{y(v_safe) + 18:.1f}" '
-                   f'text-anchor="{"end" if right else "start"}">reaches it after '
+        # The label sits in the plot's top right corner, which a falling curve leaves empty
+        # (below the safe-level line it ran into the time axis's tick labels), a line lower
+        # when the end-of-hold label is there.
+        y_label = TOP + (34 if not p.reached and p.duration < t_max else 16)
+        out.append(f'<text x="{LEFT + pw - 6:.1f}" y="{y_label}" text-anchor="end" '
+                   f'class="reach-label">reaches {escape(fq(v_safe, VOLTAGE))} after '
                    f'{escape(p.needed_text())}</text>')
     out.append(f'<text x="{LEFT + pw / 2}" y="{H - 8}" text-anchor="middle">time</text>')
     out.append(f'<text x="16" y="{TOP + ph / 2}" text-anchor="middle" '

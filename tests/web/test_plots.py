@@ -57,7 +57,12 @@ def test_drawing_follows_the_curve():
         assert v == pytest.approx(V0 * math.exp(-t / (R * C)), abs=V0 * 0.01)
     assert y0 == pytest.approx(30)  # starts at V0
     assert "safe level 50 V" in svg and "style=" not in svg and "<script" not in svg
-    assert "reaches it after 5.545 s" in svg and 'class="hold"' not in svg
+    assert "reaches 50 V after 5.545 s" in svg and 'class="hold"' not in svg
+    # the label stays clear of the time axis: in the top band of the 30..270 px plot area,
+    # far above the tick labels below it
+    y_label = float(re.search(r'<text x="[\d.]+" y="([\d.]+)"[^>]*class="reach-label"',
+                              svg).group(1))
+    assert y_label <= 30 + 240 / 3
 
 
 def crossing_time():
@@ -71,7 +76,7 @@ def test_a_hold_shorter_than_the_discharge_is_marked_with_what_is_left():
     p = rc_profile(100e3, C, V0, VS, HOLD)
     svg = discharge_svg(DischargePath("BL-0004 discharge", p, "unsuitable"))
     assert 'class="hold"' in svg and "held 60 s: 592.7 V, 351.2 J left" in svg
-    assert "reaches it after 554.5 s" in svg
+    assert "reaches 50 V after 554.5 s" in svg
 
 
 # the smallest 1-2-5 step giving at most five intervals: common practice (no source)
