@@ -24,7 +24,7 @@ from ..checking import plan_from, run_check
 from ..store.fleet import engine_fleet
 from .auth import role_required
 from .forms import FieldErrors
-from .plots import DischargePath, discharge_svg
+from .plots import DischargePath, discharge_svg, needs_has_svg
 
 bp = Blueprint("checks", __name__, url_prefix="/checks")
 
@@ -202,9 +202,24 @@ def result():
     plots = [{"path": p, "index": i, "outcome": p.profile.outcome()}
              for i, p in enumerate(paths, 1)]
     return render_template("checks/result.html", r=res, f=fields, show_all=show_all,
+                           grid=verdict_grid(res.setups), needs_has=needs_has_svg,
                            setups=res.setups if show_all else res.setups[:SHOWN],
                            shown=SHOWN, plots=plots, models=fleet.models,
                            query=_query(fields))
+
+
+def verdict_grid(setups) -> dict:
+    """Units down, modes across, each cell the verdict of that unit in that mode (its best
+    setup), in the ranked order: the whole result at a glance."""
+    units: list[str] = []
+    modes: dict[str, str] = {}  # mode key -> the label first seen
+    cells: dict[tuple[str, str], str] = {}
+    for s in setups:
+        if s.instrument not in units:
+            units.append(s.instrument)
+        modes.setdefault(s.mode, s.mode_label or s.mode)
+        cells.setdefault((s.instrument, s.mode), s.verdict)
+    return {"units": units, "modes": modes, "cells": cells}
 
 
 def _query(fields) -> dict:

@@ -1,5 +1,6 @@
-"""The discharge curve as a hand-built SVG: voltage against time through one path, with the
-safe level marked. Presentation attributes only (no style attribute, no script), so the page's
+"""Pictures drawn here as hand-built SVG: the discharge curve (voltage against time through one
+path, with the safe level marked) and a setup's needs-against-has bars. Presentation attributes
+only (no style attribute, no script), so the page's
 content security policy holds inside the image too."""
 
 from __future__ import annotations
@@ -10,6 +11,7 @@ from xml.sax.saxutils import escape
 
 from ..engine.discharge import DischargeProfile
 from ..engine.quantity import ENERGY, RESISTANCE, TIME, VOLTAGE, format_quantity as fq
+from ..engine.result import format_ratio, margin_ratio
 
 
 @dataclass(frozen=True)
@@ -124,5 +126,60 @@ def discharge_svg(path: DischargePath) -> str:
     if p.method == "rc":
         head += f", tau {fq(p.tau, TIME)}"
     out.append(f'<text x="{LEFT}" y="{TOP - 10}">{escape(head)}</text>')
+    out.append("</svg>")
+    return "\n".join(out)
+
+
+# -- needs against has --------------------------------------------------------------------------
+
+BAR_W, BAR_H, BAR_LEFT, BAR_SCALE_MAX = 420, 22, 150, 3.0
+
+
+def needs_has_rows(findings) -> list[dict]:
+    """The numeric findings of a setup as bars: what the item may take over what it must take
+    (available / required), the need at 1. Findings without a finite ratio are left out."""
+    rows = []
+    for f in findings:
+        ratio = margin_ratio(f.margin)
+        if ratio is None or not math.isfinite(ratio) or not (f.required and f.available):
+            continue
+        rows.append({"label": f"{f.check}: {f.subject}", "ratio": ratio, "status": f.status,
+                     "required": f.required, "available": f.available})
+    return rows
+
+
+def needs_has_svg(findings) -> str:
+    """An SVG of one bar per numeric finding: the bar is what the item may take, the dark mark
+    at x1 what the job needs; a bar short of the mark falls short. Drawn here, no script, so it
+    needs no internet and passes the page's content security policy."""
+    rows = needs_has_rows(findings)
+    if not rows:
+        return ""
+    top = 18
+    h = top + len(rows) * (BAR_H + 8) + 6
+    span = BAR_W - BAR_LEFT - 70
+
+    def x(r):
+        return BAR_LEFT + span * min(r, BAR_SCALE_MAX) / BAR_SCALE_MAX
+
+    colours = {"pass": "#2f6f3e", "caution": "#8a5a00", "fail": "#8b1f1f", "unknown": "#5a6570"}
+    out = [f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {BAR_W} {h}" width="100%" '
+           f'role="img" class="needs-has" font-family="sans-serif" font-size="11">',
+           f"<title>What each item may take against what the job needs</title>",
+           f'<text x="{x(1):.1f}" y="11" text-anchor="middle">needs (x1)</text>']
+    for i, row in enumerate(rows):
+        y = top + i * (BAR_H + 8)
+        colour = colours.get(row["status"], "#5a6570")
+        out.append(f'<text x="{BAR_LEFT - 6}" y="{y + 15}" text-anchor="end">'
+                   f'{escape(row["label"][:28])}</text>')
+        out.append(f'<rect x="{BAR_LEFT}" y="{y}" width="{x(row["ratio"]) - BAR_LEFT:.1f}" '
+                   f'height="{BAR_H}" fill="{colour}" class="bar bar-{row["status"]}">'
+                   f'<title>{escape(row["label"])}: has {escape(row["available"])}, needs '
+                   f'{escape(row["required"])}</title></rect>')
+        more = "+" if row["ratio"] > BAR_SCALE_MAX else ""
+        out.append(f'<text x="{x(row["ratio"]) + 4:.1f}" y="{y + 15}">'
+                   f'{escape(format_ratio(row["ratio"]))}{more}</text>')
+    out.append(f'<line x1="{x(1):.1f}" y1="{top - 3}" x2="{x(1):.1f}" y2="{h - 4}" '
+               f'stroke="#1d2329" stroke-width="2" class="need-mark"/>')
     out.append("</svg>")
     return "\n".join(out)

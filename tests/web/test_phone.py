@@ -75,3 +75,16 @@ def test_result_rows_are_cards_with_the_verdict_first(phone):
     assert others and verdict_top < min(others)
     # each cell says which column it is
     assert cells.first.get_attribute("data-label")
+
+
+def test_result_grid_and_bars(phone):
+    base, page = phone
+    page.goto(base + PAGES[11])
+    grid = page.locator("#grid")
+    # the VT2 tester SY-0003 in its detect mode: a symbol and a word, not colour alone
+    row = grid.locator("tbody tr", has_text="SY-0003")
+    cell = row.locator("td").first
+    assert "✔" in cell.inner_text() and "suitable" in cell.inner_text()
+    assert page.locator("figure.needs-has svg rect.bar").count() > 0
+    # the grid scrolls inside its box; the page itself stays the phone's width
+    assert page.evaluate("document.documentElement.scrollWidth") <= 390

@@ -83,3 +83,23 @@ def test_a_hold_shorter_than_the_discharge_is_marked_with_what_is_left():
 @pytest.mark.parametrize("span, step", [(10, 2), (7, 2), (640, 200), (0.03, 0.01), (1, 0.2)])
 def test_nice_step(span, step):
     assert nice_step(span) == pytest.approx(step)
+
+
+def test_needs_has_bars_are_the_ratio_of_has_to_needs():
+    # CAT IV 600 V against CAT III 480 V: 600 / 480 = 1.25 (arithmetic); a fuse breaking
+    # 20 kA of 24 kA: 20 / 24 = 0.83, short of the mark
+    from registry.engine.findings import Finding
+    from registry.web.plots import BAR_LEFT, BAR_SCALE_MAX, BAR_W, needs_has_svg
+    ok = Finding("category", "pass", "tm-ir10", "m", "s", "CAT III 480 V", "CAT IV 600 V",
+                 600 / 480 - 1)
+    short = Finding("misuse", "caution", "kx-7/amp", "m", "s", "24 kA", "20 kA", 20 / 24 - 1)
+    text = Finding("setup", "pass", "kx-7", "m", "s")  # not numeric: no bar
+    svg = needs_has_svg([ok, short, text])
+    widths = [float(w) for w in re.findall(r'<rect x="[\d.]+" y="[\d.]+" width="([\d.]+)"', svg)]
+    span = BAR_W - BAR_LEFT - 70
+    assert widths == pytest.approx([span * 1.25 / BAR_SCALE_MAX, span * (20 / 24) / BAR_SCALE_MAX],
+                                   abs=0.1)
+    mark = float(re.search(r'<line x1="([\d.]+)"[^>]*class="need-mark"', svg).group(1))
+    assert mark == pytest.approx(BAR_LEFT + span / BAR_SCALE_MAX, abs=0.1)
+    assert "x1.25" in svg and "x0.83" in svg and "bar-caution" in svg
+    assert needs_has_svg([text]) == ""
