@@ -121,6 +121,50 @@ def due_soon(session: Session, days: int = 30, today: date | None = None) -> lis
         .options(selectinload(m.Unit.model), selectinload(m.Unit.site))))
 
 
+def month_starts(today: date, months: int, back: bool = False) -> list[date]:
+    """The first days of ``months`` calendar months: from this month on, or (``back``) ending
+    with this month."""
+    first = today.replace(day=1)
+    index = first.year * 12 + first.month - 1
+    start = index - (months - 1) if back else index
+    return [date(i // 12, i % 12 + 1, 1) for i in range(start, start + months)]
+
+
+def _month_of(d: date) -> date:
+    return d.replace(day=1)
+
+
+def due_by_month(session: Session, today: date | None = None, months: int = 12):
+    """(overdue count, [(month, units falling due in it)]) over the next ``months`` calendar
+    months, this one first; the engine's rules say which units count and which are overdue."""
+    today = today or date.today()
+    starts = month_starts(today, months)
+    counts = dict.fromkeys(starts, 0)
+    overdue = 0
+    for status, due in session.execute(select(m.Unit.status, m.Unit.verification_due)):
+        if rules.unit_overdue(status, due, today):
+            overdue += 1
+        elif status in rules.VERIFIED_STATUSES and due is not None \
+                and _month_of(due) in counts:
+            counts[_month_of(due)] += 1
+    return overdue, list(counts.items())
+
+
+def events_by_month(session: Session, today: date | None = None, months: int = 12):
+    """[(month, {kind: events})] over the last ``months`` calendar months, this one last, by
+    when the event happened."""
+    today = today or date.today()
+    starts = month_starts(today, months, back=True)
+    counts = {s: dict.fromkeys(spec.EVENT_KINDS, 0) for s in starts}
+    since = datetime(starts[0].year, starts[0].month, 1)
+    for kind, at in session.execute(select(m.Event.kind, m.Event.occurred_at)
+                                    .where(m.Event.occurred_at >= since)):
+        month = _month_of(at.date())
+        if month in counts and kind in counts[month]:
+            counts[month][kind] += 1
+    return list(counts.items())
+
+
 def open_holds(session: Session) -> list[m.Hold]:
     return list(session.scalars(
         select(m.Hold).where(m.Hold.released_at.is_(None)).order_by(m.Hold.opened_at.desc())

@@ -6,10 +6,11 @@ from datetime import date
 
 from flask import Blueprint, render_template
 
-from ..engine import rules
+from ..engine import rules, spec
 from ..extensions import db
 from ..store import queries
 from .auth import role_required
+from .plots import KIND_MARKS, month_chart_svg
 
 bp = Blueprint("dashboard", __name__)
 
@@ -20,7 +21,18 @@ DUE_DAYS = 30
 @role_required("viewer")
 def index():
     session = db.session
+    today = date.today()
+    overdue_now, due = queries.due_by_month(session, today)
+    due_chart = month_chart_svg([mo for mo, _ in due], {"units due": [n for _, n in due]},
+                                "Units whose verification falls due, by month")
+    events = queries.events_by_month(session, today)
+    events_chart = month_chart_svg(
+        [mo for mo, _ in events],
+        {kind: [counts[kind] for _, counts in events] for kind in spec.EVENT_KINDS},
+        "Events logged per month, by kind", KIND_MARKS)
     return render_template("dashboard/index.html", counts=queries.status_counts(session),
+                           due_chart=due_chart, events_chart=events_chart,
+                           overdue_now=overdue_now, due_months=due, event_months=events,
                            due=queries.due_soon(session, DUE_DAYS), days=DUE_DAYS,
                            holds=queries.open_holds(session),
                            events=queries.recent_events(session),

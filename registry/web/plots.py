@@ -183,3 +183,81 @@ def needs_has_svg(findings) -> str:
                f'stroke="#1d2329" stroke-width="2" class="need-mark"/>')
     out.append("</svg>")
     return "\n".join(out)
+
+
+# -- month charts on the dashboard --------------------------------------------------------------
+
+# Event kinds in a fixed order, each with a colour and a letter drawn on its bar segments, so a
+# kind is told by the letter as well as the colour.
+KIND_MARKS = {"overvoltage": ("#8b1f1f", "V"), "transient": ("#8a5a00", "T"),
+              "discharge": ("#1f5f8b", "D"), "fuse-open": ("#5b3a8b", "F"),
+              "mechanical": ("#3d6b2f", "M"), "other": ("#5a6570", "O")}
+CHART_W, CHART_H, CHART_LEFT, CHART_TOP, CHART_BOTTOM = 640, 240, 40, 16, 46
+
+
+def month_chart_svg(months, series: dict[str, list[int]], title: str,
+                    marks: dict[str, tuple[str, str]] | None = None) -> str:
+    """Stacked bars, one per month (``months``: dates of their first days), one segment per
+    series (``series``: name -> a count per month), with a legend; every bar carries its
+    numbers in a <title>. Drawn here as plain SVG, no script."""
+    marks = marks or {}
+    n = len(months)
+    totals = [sum(values[i] for values in series.values()) for i in range(n)]
+    top = max(max(totals, default=0), 1)
+    step = nice_step(top, 4) if top > 4 else 1
+    y_max = step * math.ceil(top / step)
+    pw = CHART_W - CHART_LEFT - 10
+    ph = CHART_H - CHART_TOP - CHART_BOTTOM
+    bw = pw / n
+
+    def y(v):
+        return CHART_TOP + ph * (1 - v / y_max)
+
+    out = [f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {CHART_W} {CHART_H}" '
+           f'width="100%" role="img" font-family="sans-serif" font-size="11" class="month-chart">',
+           f"<title>{escape(title)}</title>"]
+    v = 0.0
+    while v <= y_max + 1e-9:
+        out.append(f'<line x1="{CHART_LEFT}" y1="{y(v):.1f}" x2="{CHART_LEFT + pw}" '
+                   f'y2="{y(v):.1f}" stroke="#e3e8ec"/>')
+        out.append(f'<text x="{CHART_LEFT - 6}" y="{y(v) + 4:.1f}" text-anchor="end">'
+                   f'{v:g}</text>')
+        v += step
+    for i, month in enumerate(months):
+        x0 = CHART_LEFT + i * bw + bw * 0.15
+        base = 0
+        parts = []
+        for name, values in series.items():
+            count = values[i]
+            if not count:
+                continue
+            colour, letter = marks.get(name, ("#1f5f8b", ""))
+            y_top, y_bot = y(base + count), y(base)
+            out.append(f'<rect x="{x0:.1f}" y="{y_top:.1f}" width="{bw * 0.7:.1f}" '
+                       f'height="{y_bot - y_top:.1f}" fill="{colour}" class="seg">'
+                       f'<title>{escape(month.strftime("%Y-%m"))}: {count} {escape(name)}'
+                       f'</title></rect>')
+            if letter and y_bot - y_top >= 12:
+                out.append(f'<text x="{x0 + bw * 0.35:.1f}" y="{(y_top + y_bot) / 2 + 4:.1f}" '
+                           f'text-anchor="middle" fill="#fff">{letter}</text>')
+            parts.append(f"{count} {name}")
+            base += count
+        if totals[i]:
+            out.append(f'<text x="{x0 + bw * 0.35:.1f}" y="{y(totals[i]) - 3:.1f}" '
+                       f'text-anchor="middle">{totals[i]}</text>')
+        out.append(f'<text x="{x0 + bw * 0.35:.1f}" y="{CHART_TOP + ph + 14}" '
+                   f'text-anchor="middle">{escape(month.strftime("%b"))}</text>')
+        if i == 0 or month.month == 1:
+            out.append(f'<text x="{x0 + bw * 0.35:.1f}" y="{CHART_TOP + ph + 27}" '
+                       f'text-anchor="middle" fill="#5a6570">{month.year}</text>')
+    if len(series) > 1:
+        lx = CHART_LEFT
+        for name in series:
+            colour, letter = marks.get(name, ("#1f5f8b", ""))
+            out.append(f'<rect x="{lx}" y="{CHART_H - 12}" width="10" height="10" '
+                       f'fill="{colour}"/>')
+            out.append(f'<text x="{lx + 14}" y="{CHART_H - 3}">{escape(letter)} '
+                       f'{escape(name)}</text>')
+            lx += 16 + 7 * (len(name) + 3)
+    out.append("</svg>")
+    return "\n".join(out)
