@@ -38,24 +38,25 @@ def findings_for(ctx: SetupContext, extra_checks: Sequence[ExtraCheck] = ()) -> 
 
 def _unit_rank(unit: UnitState, plan: Plan, near: str | None):
     """Which of several units of one accessory model to hand out: a clean history first, then
-    one at the plan's site, then one where the instrument is, then the latest verification
-    due, then the tag."""
+    one kept where the instrument is (they travel to the job together), then one at the plan's
+    site, then the latest verification due, then the tag."""
     worries = len(check_history(unit, None))
     due = unit.verification_due.toordinal() if unit.verification_due else 0
     at_site = 0 if (plan.site is not None and unit.site == plan.site) else 1
     by_instrument = 0 if (near is not None and unit.site == near) else 1
-    return (worries, at_site, by_instrument, -due, unit.tag)
+    return (worries, by_instrument, at_site, -due, unit.tag)
 
 
 def _choice_key(s: SetupResult, site: str | None):
-    """Among one instrument unit's options for a mode: the SPEC §4 order, but with fewer
+    """Among one instrument unit's options for a mode: the ranking order, but with fewer
     failing, then unknown, then caution findings first, so the accessories offered are the
-    ones that leave the fewest problems."""
+    ones that leave the fewest problems; then fewer accessories from another site than the
+    instrument."""
     count = {k: sum(1 for f in s.findings if f.status == k) for k in ("fail", "unknown",
                                                                        "caution")}
     rank = sort_key(s, site)  # (verdict, tester rank, -margin, site, due, ...)
     return (rank[0], count["fail"], count["unknown"], count["caution"], rank[2],
-            sum(1 for where in s.accessory_sites if where != site)) + rank[3:]
+            len(s.cross_site)) + rank[3:]
 
 
 def _own(f: Finding, model_key: str, tag: str | None) -> bool:

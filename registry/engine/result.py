@@ -82,6 +82,13 @@ class SetupResult:
     instrument_kind: str = ""
 
     @property
+    def cross_site(self) -> tuple[str, ...]:
+        """The accessory units kept at another site than the instrument: the setup can only be
+        put together by bringing them over."""
+        return tuple(tag for tag, where in zip(self.accessories, self.accessory_sites)
+                     if where != self.site)
+
+    @property
     def deciding(self) -> Finding | None:
         return deciding_finding(self.findings)
 

@@ -65,3 +65,13 @@ def test_pages_carry_a_favicon_that_is_served(client, demo):
     href = re.search(r'<link rel="icon" type="image/svg\+xml" href="([^"]+)"', page).group(1)
     icon = client.get(href)
     assert icon.status_code == 200 and b"<svg" in icon.data
+
+
+def test_result_page_shows_sites_and_flags_a_pairing_across_sites(client, demo):
+    login_as(client, "viewer")
+    page = client.get("/checks/result", query_string={
+        "task": "verify-absence", "supply": "mains", "category": "III", "waveform": "ac",
+        "voltage": "480 V", "voltage_to_earth": "277 V", "source_impedance": "0.02 ohm",
+        "site": "Substation yard", "duration": "30 s", "all": "1"}).get_data(as_text=True)
+    assert "at Corrie Ridge field station" in page
+    assert re.search(r'class="cross-site">.*from another site: PR-0010', page)
