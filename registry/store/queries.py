@@ -219,28 +219,42 @@ class TimelineEntry:
     detail: str = ""
     who: str = ""
     row: object = None
+    hold: object = None  # for an event: the hold it opened, if any
+
+
+def person(user: m.User | None, username: str | None = None) -> str:
+    """The one way a person is named in a history: "Display Name (username)"; a recorded actor
+    that is no login (an import script) keeps its own word."""
+    if user is not None:
+        return f"{user.display_name} ({user.username})" if user.display_name else user.username
+    return username or ""
 
 
 def unit_timeline(session: Session, unit: m.Unit) -> list[TimelineEntry]:
     """The unit's events, holds and recorded changes, newest first."""
     out: list[TimelineEntry] = []
+    holds = list(session.scalars(select(m.Hold).where(m.Hold.unit_id == unit.id)
+                                 .options(selectinload(m.Hold.released_by))))
+    opened_by_event = {h.event_id: h for h in holds if h.event_id is not None}
     for ev in session.scalars(select(m.Event).where(m.Event.unit_id == unit.id)
                               .options(selectinload(m.Event.logged_by))):
         out.append(TimelineEntry(ev.occurred_at, "event", f"Event: {ev.kind}",
-                                 who=ev.logged_by.display_name if ev.logged_by else "", row=ev))
-    for h in session.scalars(select(m.Hold).where(m.Hold.unit_id == unit.id)
-                             .options(selectinload(m.Hold.released_by))):
-        out.append(TimelineEntry(h.opened_at, "hold-opened", "Hold opened", h.reason, row=h))
+                                 who=person(ev.logged_by), row=ev,
+                                 hold=opened_by_event.get(ev.id)))
+    for h in holds:
+        out.append(TimelineEntry(h.opened_at, "hold-opened", f"Hold {h.id} opened", h.reason,
+                                 row=h))
         if h.released_at is not None:
             out.append(TimelineEntry(h.released_at, "hold-released",
-                                     f"Hold released: {h.result}", h.notes,
-                                     who=h.released_by.display_name if h.released_by else "",
-                                     row=h))
+                                     f"Hold {h.id} released: {h.result}", h.notes,
+                                     who=person(h.released_by), row=h))
+    users = {u.username: u for u in session.scalars(select(m.User))}
     for c in session.scalars(select(m.Change).where(m.Change.entity == "unit",
                                                     m.Change.entity_key == unit.tag)):
         out.append(TimelineEntry(c.at, "change", f"Changed {c.field}",
                                  f"{c.old if c.old is not None else '—'} → "
-                                 f"{c.new if c.new is not None else '—'}", who=c.actor, row=c))
+                                 f"{c.new if c.new is not None else '—'}",
+                                 who=person(users.get(c.actor), c.actor), row=c))
     out.sort(key=lambda e: (e.at, e.kind), reverse=True)
     return out
 

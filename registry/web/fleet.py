@@ -30,6 +30,12 @@ _DIMS = {"V": VOLTAGE, "A": CURRENT, "ohm": RESISTANCE, "F": CAPACITANCE, "s": T
          "m": LENGTH, "J": ENERGY, "W": POWER}
 
 
+@bp.app_template_filter("person")
+def person_filter(user):
+    """A person as every history names them (``queries.person``); "—" for nobody."""
+    return queries.person(user) or "—"
+
+
 @bp.app_template_filter("q")
 def quantity_filter(value, dim: str):
     return "—" if value is None else format_quantity(value, _DIMS[dim])

@@ -75,3 +75,18 @@ def test_result_page_shows_sites_and_flags_a_pairing_across_sites(client, demo):
         "site": "Substation yard", "duration": "30 s", "all": "1"}).get_data(as_text=True)
     assert "at Corrie Ridge field station" in page
     assert re.search(r'class="cross-site">.*from another site: PR-0010', page)
+
+
+def test_unit_history_names_people_one_way_and_shows_the_hold_an_event_opened(client, demo):
+    from registry.store.events import log_event
+    from registry.store.fleet import import_fleet  # noqa: F401  (the demo loaded by import)
+    # a stress within rating but with a symptom opens a hold (the hold rule)
+    log_event(demo, unit="NB-0002", kind="overvoltage", mode="vdc", voltage=400.0,
+              symptoms=["smell"], by="tech")
+    login_as(client, "viewer")
+    page = client.get("/units/NB-0002").get_data(as_text=True)
+    assert re.search(r"This event opened hold \d+ \(still open\)", page)
+    names = set(re.findall(r"</strong> · ([^<\n]+)", page))
+    # every name in the history is "Display Name (username)" or a non-login actor's word
+    assert names and all(re.fullmatch(r".+ \([a-z0-9._-]+\)|import|demo", n.strip())
+                         for n in names), names
