@@ -22,6 +22,7 @@ from ..engine.checks import fitting_ratings, rating_text, withstand_of
 from ..engine.setups import lead_connects, tip_connects
 from ..errors import InvalidInput
 from . import models as m
+from .cells import safe_sheet, write_csv
 from .db import Database
 from .events import verify_chain
 from .fleet import utcnow
@@ -377,7 +378,8 @@ def write_csvs(audit: Audit, folder: Path) -> list[Path]:
             df["value"] = df.apply(lambda r: r["value"].date().isoformat()
                                    if isinstance(r["value"], pd.Timestamp)
                                    and r["item"] in _DATE_ONLY else r["value"], axis=1)
-        df.to_csv(path, index=False, date_format="%Y-%m-%dT%H:%M:%S")
+        # formula-like text gets an apostrophe (OWASP CSV injection guidance, see cells.py)
+        write_csv(df, path, index=False, date_format="%Y-%m-%dT%H:%M:%S")
         out.append(path)
     return out
 
@@ -455,6 +457,10 @@ def write_workbook(audit: Audit, path: Path) -> Path:
             if row[0].value in ("overdue", "long hold"):
                 for cell in row:
                     cell.fill = red
+        # Last, over everything written above: every text cell is stored as text, never as a
+        # formula (spreadsheet safety, cells.py).
+        for ws in book.worksheets:
+            safe_sheet(ws)
     return path
 
 
