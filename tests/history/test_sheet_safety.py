@@ -9,6 +9,7 @@ read back by openpyxl, pandas, LibreOffice and as raw sheet XML.
 """
 
 import csv
+import io
 import json
 import re
 import subprocess
@@ -195,3 +196,56 @@ def test_safe_cell_types_an_openpyxl_cell_as_text():
     number = ws.cell(row=20, column=1)
     safe_cell(-2.5, cell=number)
     assert (number.value, number.data_type) == (-2.5, "n")
+
+
+def test_libreoffice_opens_the_csvs_with_no_formula(hostile, tmp_path):
+    """LibreOffice reads the CSV files with formula evaluation switched on (the 13th token of
+    its CSV filter options): the unescaped text would become formula cells there (checked on
+    a control file), the escaped text stays text (OWASP CSV injection guidance)."""
+    exe = _soffice()
+    folder = tmp_path / "audit"
+    export_audit(hostile, str(folder) + "/", on=ON)
+    control = tmp_path / "control.csv"
+    control.write_text('a\r\n"=1+1"\r\n', encoding="utf-8")
+    names = ["units", "models", "events", "changes", "findings"]
+    inputs = [str(folder / f"{n}.csv") for n in names] + [str(control)]
+    proc = subprocess.run(
+        [exe, f"-env:UserInstallation=file://{tmp_path / 'lo-profile'}", "--headless",
+         "--infilter=CSV:44,34,76,1,,0,false,true,false,false,false,,true",
+         "--convert-to", "xlsx", "--outdir", str(tmp_path / "lo"), *inputs],
+        capture_output=True, text=True, timeout=300)
+    assert proc.returncode == 0, proc.stderr
+    ctrl = openpyxl.load_workbook(tmp_path / "lo" / "control.xlsx").active["A2"]
+    assert ctrl.data_type == "f"  # the control: evaluation is on, bare '=1+1' is a formula
+    for n in names:
+        ws = openpyxl.load_workbook(tmp_path / "lo" / f"{n}.xlsx").active
+        assert [c.coordinate for row in ws.iter_rows() for c in row
+                if c.data_type == "f"] == [], n
+    header, rows = _rows(openpyxl.load_workbook(tmp_path / "lo" / "units.xlsx").active)
+    units = {r[header.index("tag")].value: r for r in rows}
+    serials = [units[tag][header.index("serial")] for tag in TAGS]
+    assert [(c.value, c.data_type) for c in serials] == [
+        (read_back("'" + t if t in HOSTILE else t), "s") for t in TEXTS]
+    days = units["NB-0007"][header.index("days_overdue")]
+    assert (days.value, days.data_type) == (62, "n")  # numbers are still numbers
+
+
+def test_web_download_holds_no_formula(hostile, client, login_as):
+    """The audit download of the web (and the API, which serves the same bytes) holds the
+    text as text; a note typed into the web's event form is hostile too."""
+    login_as(client, "tech", "larkspur-tech")
+    page = client.get("/units/NB-0003/events/new").get_data(as_text=True)
+    token = re.search(r'name="csrf_token"[^>]*value="([^"]+)"', page).group(1)
+    posted = client.post("/units/NB-0003/events/new", data={
+        "csrf_token": token, "kind": "mechanical", "note": HOSTILE[0]})
+    assert posted.status_code in (200, 302)
+    response = client.get("/audit/workbook.xlsx")
+    assert response.status_code == 200
+    with zipfile.ZipFile(io.BytesIO(response.data)) as z:
+        for name in z.namelist():
+            if name.startswith("xl/worksheets/sheet"):
+                assert not re.search(rb"<(\w+:)?f[\s>/]", z.read(name)), name
+    header, rows = _rows(openpyxl.load_workbook(io.BytesIO(response.data))["Events"])
+    notes = [(r[header.index("notes")].value, r[header.index("notes")].data_type)
+             for r in rows if r[header.index("unit")].value == "NB-0003"]
+    assert notes == [(HOSTILE[0], "s")]
