@@ -111,7 +111,8 @@ def test_workbook_holds_text_not_formulas(hostile, tmp_path):
     assert list(frame.loc[TAGS, "serial"]) == [read_back(t) for t in TEXTS]
     assert list(frame.loc[TAGS, "site"]) == [read_back(t) for t in TEXTS]
 
-    # the raw XML of every sheet: no formula element (the <f> element of ECMA-376 Part 1, 18.3.1.40, from memory)
+    # the raw XML of every sheet: no formula element (<f>, ECMA-376 Part 1, 18.3.1.40, the
+    # clause number from memory)
     with zipfile.ZipFile(out) as z:
         sheets = [n for n in z.namelist() if n.startswith("xl/worksheets/sheet")]
         assert len(sheets) == len(wb.sheetnames)
