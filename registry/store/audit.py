@@ -22,6 +22,7 @@ from ..engine.checks import fitting_ratings, rating_text, withstand_of
 from ..engine.setups import lead_connects, tip_connects
 from ..errors import InvalidInput
 from . import models as m
+from .cells import safe_sheet, write_csv
 from .db import Database
 from .events import verify_chain
 from .fleet import utcnow
@@ -31,10 +32,6 @@ from .specs import all_models, all_units, model_spec
 SOON_DAYS = 30  # "soon due": verification due within this many days
 LONG_HOLD_DAYS = 30  # a hold open longer than this is a finding
 SHEETS = ("Summary", "Units", "Models", "Modes", "Events", "Holds", "Changes", "Findings")
-
-# Text that a spreadsheet program would take as the start of a formula (OWASP, "CSV
-# Injection": cells beginning with =, +, -, @, a tab or a carriage return).
-FORMULA_LEADS = ("=", "+", "-", "@", "\t", "\r")
 
 OVERDUE_FILL = "F8CBAD"  # light red
 HELD_FILL = "FFE699"  # amber
@@ -366,25 +363,6 @@ def _typed(df: pd.DataFrame) -> pd.DataFrame:
 
 # -- writing ------------------------------------------------------------------------------
 
-def csv_cell(value):
-    """A value as a CSV cell no spreadsheet program evaluates: text that begins like a formula
-    gets a leading apostrophe (OWASP CSV injection guidance); numbers, dates and other text are
-    as they are, so a negative number stays a number."""
-    if isinstance(value, str) and value.startswith(FORMULA_LEADS):
-        return "'" + value
-    return value
-
-
-def disarm_formulas(ws) -> None:
-    """Every cell of ``ws`` that openpyxl took for a formula (a text beginning with "=") is
-    stored as the text it is. The workbook writes no formulas of its own, so each one came
-    from data (a name, a serial, a note): OWASP CSV injection guidance."""
-    for row in ws.iter_rows():
-        for cell in row:
-            if cell.data_type == "f":
-                cell.data_type = "s"
-
-
 def write_csvs(audit: Audit, folder: Path) -> list[Path]:
     folder.mkdir(parents=True, exist_ok=True)
     out = []
@@ -400,10 +378,8 @@ def write_csvs(audit: Audit, folder: Path) -> list[Path]:
             df["value"] = df.apply(lambda r: r["value"].date().isoformat()
                                    if isinstance(r["value"], pd.Timestamp)
                                    and r["item"] in _DATE_ONLY else r["value"], axis=1)
-        for col in df.columns:
-            if not pd.api.types.is_numeric_dtype(df[col]):
-                df[col] = df[col].map(csv_cell)
-        df.to_csv(path, index=False, date_format="%Y-%m-%dT%H:%M:%S")
+        # formula-like text gets an apostrophe (OWASP CSV injection guidance, see cells.py)
+        write_csv(df, path, index=False, date_format="%Y-%m-%dT%H:%M:%S")
         out.append(path)
     return out
 
@@ -474,8 +450,6 @@ def write_workbook(audit: Audit, path: Path) -> Path:
         _fill_rows(book["Units"], "tag", audit.held_tags, HELD_FILL)
         _fill_rows(book["Units"], "tag", audit.overdue_tags, OVERDUE_FILL)
         _fill_rows(book["Holds"], "id", audit.open_hold_ids, HELD_FILL)
-        for sheet in book.worksheets:
-            disarm_formulas(sheet)
         overdue_findings = book["Findings"]
         from openpyxl.styles import PatternFill
         red = PatternFill("solid", start_color=OVERDUE_FILL, end_color=OVERDUE_FILL)
@@ -483,6 +457,10 @@ def write_workbook(audit: Audit, path: Path) -> Path:
             if row[0].value in ("overdue", "long hold"):
                 for cell in row:
                     cell.fill = red
+        # Last, over everything written above: every text cell is stored as text, never as a
+        # formula (spreadsheet safety, cells.py).
+        for ws in book.worksheets:
+            safe_sheet(ws)
     return path
 
 
