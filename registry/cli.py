@@ -101,6 +101,7 @@ def init(with_demo: bool):
     """Create or upgrade the database to the latest migration."""
     env = _env()
     database = env.database(migrated=False)
+    store_db.make_folder(database.engine)
     before = store_db.current_revision(database.engine)
     store_db.upgrade(database.engine)
     after = store_db.current_revision(database.engine)

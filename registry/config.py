@@ -3,7 +3,9 @@
 ``WITHSTAND_DATABASE_URL`` selects the database (default: a SQLite file in the instance
 folder); ``WITHSTAND_SECRET_KEY`` the session key (default: one generated once and kept in the
 instance folder, so that sessions survive a restart without a key in the code);
-``WITHSTAND_INSTANCE`` the instance folder itself.
+``WITHSTAND_INSTANCE`` the instance folder itself (default: the per-user data folder,
+``~/.local/share/withstand`` on Linux, so every command finds the same database wherever it is
+run from).
 """
 
 from __future__ import annotations
@@ -12,6 +14,8 @@ import os
 import secrets
 from pathlib import Path
 
+import platformdirs
+
 from .store.db import default_url
 
 
@@ -19,7 +23,7 @@ def instance_path() -> Path:
     env = os.environ.get("WITHSTAND_INSTANCE")
     if env:
         return Path(env).expanduser().resolve()
-    return Path.cwd() / "instance"
+    return Path(platformdirs.user_data_dir("withstand", appauthor=False))
 
 
 def database_url(instance: Path | None = None) -> str:

@@ -4,6 +4,7 @@ runner, the demo fleet, and a scratch PostgreSQL database where a server answers
 from __future__ import annotations
 
 import os
+import tempfile
 import uuid
 
 import pytest
@@ -12,6 +13,10 @@ from registry.app import create_app
 from registry.demo import load_demo
 from registry.store import db as store_db
 from webtools import login  # noqa: F401  (re-exported for the fixture)
+
+# Without WITHSTAND_INSTANCE the tool keeps its database in the user's data folder: in tests
+# (and the commands they start) that folder is a scratch one, never the real home's.
+os.environ["XDG_DATA_HOME"] = tempfile.mkdtemp(prefix="withstand-tests-")
 
 PG_ADMIN_URL = os.environ.get("WITHSTAND_TEST_POSTGRES",
                               "postgresql+psycopg://postgres@127.0.0.1:5432/postgres")

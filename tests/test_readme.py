@@ -99,6 +99,7 @@ def test_the_tour_has_its_blocks():
 def test_readme_console_block_is_what_the_tool_prints(number, tmp_path):
     block = console_blocks(README.read_text("utf-8"))[number]
     env = {k: v for k, v in os.environ.items() if not k.startswith("WITHSTAND_")}
+    env["XDG_DATA_HOME"] = str(tmp_path / "data")  # the tool's default database folder
     shutil.copytree(ROOT / "seeddata", tmp_path / "seeddata")
     if not any(cmd.startswith("withstand init") for cmd, _ in commands_of(block)):
         subprocess.run([WITHSTAND, "init", "--with-demo"], cwd=tmp_path, env=env, check=True,

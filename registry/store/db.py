@@ -39,8 +39,6 @@ def make_engine(url: str) -> Engine:
     except Exception:
         raise InvalidInput(f"'{url}' is not a database URL", "WITHSTAND_DATABASE_URL") from None
     if parsed.get_backend_name() == "sqlite":
-        if parsed.database and parsed.database != ":memory:":
-            Path(parsed.database).parent.mkdir(parents=True, exist_ok=True)
         engine = create_engine(parsed, connect_args={"timeout": SQLITE_BUSY_TIMEOUT_MS / 1000})
         event.listen(engine, "connect", _sqlite_pragmas)
         # pysqlite's own transaction handling defers BEGIN; let SQLAlchemy emit it so that
@@ -77,7 +75,16 @@ def current_revision(engine: Engine) -> str | None:
                                f"{str(exc).splitlines()[0]}") from None
 
 
+def make_folder(engine: Engine) -> None:
+    """A SQLite file's folder, made by what creates a database (``init``, a migration), never
+    by a command that only reads."""
+    url = engine.url
+    if url.get_backend_name() == "sqlite" and url.database and url.database != ":memory:":
+        Path(url.database).parent.mkdir(parents=True, exist_ok=True)
+
+
 def upgrade(engine: Engine, revision: str = "head") -> None:
+    make_folder(engine)
     command.upgrade(alembic_config(engine), revision)
 
 
@@ -85,15 +92,34 @@ def downgrade(engine: Engine, revision: str = "base") -> None:
     command.downgrade(alembic_config(engine), revision)
 
 
+def where(engine: Engine) -> str:
+    """The database a message names: a SQLite file's path, else the URL without password."""
+    url = engine.url
+    if url.get_backend_name() == "sqlite":
+        return url.database or ":memory:"
+    return url.render_as_string(hide_password=True)
+
+
+def _missing_sqlite_file(engine: Engine) -> bool:
+    url = engine.url
+    return (url.get_backend_name() == "sqlite" and bool(url.database)
+            and url.database != ":memory:" and not Path(url.database).exists())
+
+
 def require_current(engine: Engine) -> None:
-    """Raise :class:`DatabaseNotReady` unless the database is at the latest migration."""
+    """Raise :class:`DatabaseNotReady` unless the database is at the latest migration. A SQLite
+    file that does not exist is reported, not created: a command that only reads leaves
+    nothing behind."""
+    if _missing_sqlite_file(engine):
+        raise DatabaseNotReady(f"there is no database at {where(engine)}; run `withstand "
+                               "init` to create it (or set WITHSTAND_DATABASE_URL)")
     current = current_revision(engine)
     if current is None:
-        raise DatabaseNotReady("the database has no tables yet; run `withstand init` to "
-                               "create it")
+        raise DatabaseNotReady(f"the database at {where(engine)} has no tables yet; run "
+                               "`withstand init` to create it")
     if current != head_revision(engine):
-        raise DatabaseNotReady(f"the database is at migration {current}, not the latest; "
-                               "run `withstand init` to upgrade it")
+        raise DatabaseNotReady(f"the database at {where(engine)} is at migration {current}, "
+                               "not the latest; run `withstand init` to upgrade it")
 
 
 class Database:
