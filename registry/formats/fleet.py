@@ -26,7 +26,7 @@ from .common import (Capacitance, Current, Duration, Energy, I2t, Length, Power,
 
 FORMAT = "withstand-fleet/1"
 
-# The dimension of each front-end parameter (SPEC §3), for parsing and for writing back.
+# The dimension of each front-end parameter, for parsing and for writing back.
 ELEMENT_PARAM_DIMS: dict[str, u.Dimension] = {
     "resistance": u.RESISTANCE, "power": u.POWER, "pulse_energy": u.ENERGY,
     "max_voltage": u.VOLTAGE, "hold_current": u.CURRENT, "trip_current": u.CURRENT,
@@ -153,7 +153,7 @@ class ModeDoc(_Doc):
 
 
 class ElementDoc(BaseModel):
-    """An element: id, type, between, and the parameters its type takes (SPEC §3)."""
+    """An element: id, type, between, and the parameters its type takes."""
 
     model_config = ConfigDict(extra="allow", frozen=True)
     id: Key

@@ -273,7 +273,7 @@ def openapi_document() -> dict:
                                          "description": "path of the field, e.g. "
                                                         "circuit.voltage; empty for the body"},
                                "reason": {"type": "string"}}}}}}}}
-    schemas["Result"] = {"type": "object", "description": "withstand-result/1 (SPEC §4)",
+    schemas["Result"] = {"type": "object", "description": "withstand-result/1",
                          "required": ["format", "summary", "plan", "setups", "accessories",
                                       "excluded", "cautions"],
                          "properties": {"format": {"const": "withstand-result/1"},

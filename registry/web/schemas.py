@@ -28,7 +28,7 @@ class _Request(BaseModel):
 
 
 class EventRequest(_Request):
-    """An event to log (SPEC §6): quantities as text ("2 kV")."""
+    """An event to log: quantities as text ("2 kV")."""
 
     unit: Tag
     kind: Literal[spec.EVENT_KINDS]  # type: ignore[valid-type]
