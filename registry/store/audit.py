@@ -271,7 +271,9 @@ def build_audit(session: Session, *, since: date | None = None, site: str | None
         "reason": h.reason, "released_at": _as_date(h.released_at),
         "released_by": h.released_by.username if h.released_by else None,
         "result": h.result, "notes": h.notes,
-        "days_open": ((h.released_at or made_at) - h.opened_at).total_seconds() / 86400.0}
+        # in days, to one decimal: a hold open 36 hours is 1.5 days
+        "days_open": round(((h.released_at or made_at) - h.opened_at).total_seconds() / 86400.0,
+                           1)}
         for h in holds]
     unit_tags = {u.tag for u in units}
     changes = [c for c in session.scalars(select(m.Change).order_by(m.Change.id))
@@ -424,6 +426,14 @@ def _fill_rows(ws, key_col: str, keys: set, colour: str) -> None:
                 cell.fill = fill
 
 
+def _number_format(ws, column: str, fmt: str) -> None:
+    headers = [c.value for c in ws[1]]
+    if column in headers:
+        for (cell,) in ws.iter_rows(min_row=2, min_col=headers.index(column) + 1,
+                                    max_col=headers.index(column) + 1):
+            cell.number_format = fmt
+
+
 def write_workbook(audit: Audit, path: Path) -> Path:
     path.parent.mkdir(parents=True, exist_ok=True)
     with pd.ExcelWriter(path, engine="openpyxl", date_format="YYYY-MM-DD",
@@ -450,6 +460,7 @@ def write_workbook(audit: Audit, path: Path) -> Path:
         _fill_rows(book["Units"], "tag", audit.held_tags, HELD_FILL)
         _fill_rows(book["Units"], "tag", audit.overdue_tags, OVERDUE_FILL)
         _fill_rows(book["Holds"], "id", audit.open_hold_ids, HELD_FILL)
+        _number_format(book["Holds"], "days_open", "0.0")
         overdue_findings = book["Findings"]
         from openpyxl.styles import PatternFill
         red = PatternFill("solid", start_color=OVERDUE_FILL, end_color=OVERDUE_FILL)

@@ -181,3 +181,32 @@ def test_demo_workbook_opens_in_libreoffice(with_events, demo_doc, tmp_path):
     assert read.loc[read["tag"] == "NB-0007", "verification_due"].item() == "2026-10-01"
     summary = (tmp_path / "lo" / "audit-Summary.csv").read_text()
     assert "made at (UTC)" in summary and "intact" in summary
+
+
+def test_days_open_is_in_days_to_one_decimal_and_dates_are_dates(demo, tmp_path):
+    from sqlalchemy import update
+    from registry.store import models as m
+    from registry.store.holds import release_hold
+    log_event(demo, unit="NB-0002", kind="overvoltage", mode="vdc", voltage=400.0,
+              symptoms=["smell"], by="tech", at=datetime(2026, 11, 1, 8, 0))
+    release_hold(demo, unit="NB-0002", result="pass", by="steward")
+    # opened 2026-11-01 08:00, released 36 hours later: 1.5 days (arithmetic)
+    with demo.engine.begin() as conn:
+        conn.execute(update(m.Hold).where(m.Hold.unit_id == select_unit_id(conn, "NB-0002"))
+                     .values(opened_at=datetime(2026, 11, 1, 8, 0),
+                             released_at=datetime(2026, 11, 2, 20, 0)))
+    out = tmp_path / "audit.xlsx"
+    export_audit(demo, out, on=ON)
+    ws = openpyxl.load_workbook(out)["Holds"]
+    head = [c.value for c in ws[1]]
+    rows = [r for r in ws.iter_rows(min_row=2) if r[head.index("unit")].value == "NB-0002"
+            and r[head.index("released_at")].value is not None]
+    days = rows[-1][head.index("days_open")]
+    assert days.value == 1.5 and days.number_format == "0.0"
+    assert isinstance(rows[-1][head.index("opened_at")].value, datetime)
+
+
+def select_unit_id(conn, tag):
+    from sqlalchemy import select
+    from registry.store import models as m
+    return conn.execute(select(m.Unit.id).where(m.Unit.tag == tag)).scalar_one()
