@@ -53,7 +53,7 @@ def test_front_end_findings_reach_the_result(runner, demo):
     # the KX-3's ohms contact S1 sits ahead of its limiter: the impulse reaches it whole
     assert any(f["status"] == "fail" and "S1" in f["subject"] for f in paths)
     kx7 = [s for s in doc["setups"] if s["instrument"] == "SY-0005" and s["mode"] == "vac"]
-    # conditional: its 20 kA Amps fuse falls short of the board's 24 kA (480 V / 20 mohm,
+    # conditional: its 17 kA Amps fuse falls short of the board's 24 kA (480 V / 20 mohm,
     # Ohm's law) were the leads left in the A socket (IEC 61010-2-033 foreseeable misuse), and
     # proving dead with a multimeter is a caution (a two-pole voltage tester is preferred;
     # common practice, no source)

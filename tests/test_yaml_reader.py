@@ -102,9 +102,9 @@ def test_a_ratio_is_never_taken_from_a_true_false_value():
 
 
 def test_the_demo_divider_reads_as_1000_to_1():
-    # seeddata/fleet.yaml: ks-hv40, "attenuation: 1000:1" unquoted (a 1000:1 divider)
+    # seeddata/fleet.yaml: ks-hv30, "attenuation: 1000:1" unquoted (a 1000:1 divider)
     models = {m.key: m for m in load_fleet_file(demo_fleet_path()).models}
-    assert models["ks-hv40"].attenuation == 1000.0
+    assert models["ks-hv30"].attenuation == 1000.0
 
 
 def test_text_fields_keep_the_text_a_number_was_written_as():

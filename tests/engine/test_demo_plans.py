@@ -31,7 +31,7 @@ def test_mains_panel(fleet):
     r = run(fleet, "mains-panel")
     kx7 = verdict(r, "SY-0005", "vac")  # a KX-7 at the yard
     assert kx7.accessories == ("LD-0010", "PR-0010")
-    # Leads left in its A socket put its 20 kA fuse F1 across 480 V / 20 mohm = 24 kA
+    # Leads left in its A socket put its 17 kA fuse F1 across 480 V / 20 mohm = 24 kA
     # prospective (Ohm's law): foreseeable misuse (IEC 61010-2-033), a caution; and proving
     # dead with a multimeter is a caution too (a purpose-built two-pole tester is preferred;
     # common practice, no source).
@@ -56,7 +56,7 @@ def test_mains_panel(fleet):
 def test_service_entrance(fleet):
     r = run(fleet, "service-entrance")
     assert r.derived.transient == 6000.0  # CAT IV, 300 V row
-    # the KX-7's 20 kA fuse is short of the 50 kA fault level if the leads are left in its
+    # the KX-7's 17 kA fuse is short of the 50 kA fault level if the leads are left in its
     # A socket (IEC 61010-2-033 foreseeable misuse): conditional; the C40 has no such socket
     assert verdict(r, "SY-0005", "vac").verdict == "conditional"
     assert verdict(r, "SY-0001", "vac").verdict == "suitable"

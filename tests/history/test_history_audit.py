@@ -27,8 +27,8 @@ ON = date(2026, 12, 2)
 #   BL-0001, BL-0006, CR-0001), kx-3 x2 (CAT II 600 V, CAT III 300 V: NB-0004, SY-0007),
 #   hd-c40 x1 (CAT IV 600 V, CAT III 1000 V), hd-vt2 x2 (CAT IV 690 V, CAT III 1000 V),
 #   tm-ir10 x1 (CAT IV 600 V); tm-sc2, ks-dr1, ks-dr25 have 'none' ratings only.
-#   accessories: bw-ld4 x5, bw-tp2 x3, bw-ac5 x1, bw-fx30 x1 (all CAT IV 600 V, CAT III
-#   1000 V), bw-ld2 x1 (CAT II 600 V), bw-tp19 x1 (CAT II 1000 V); ks-hv40 is 'none'.
+#   accessories: bw-ld4 x5, bw-guard2 x3, bw-jaw5 x1, bw-fx30 x1 (all CAT IV 600 V, CAT III
+#   1000 V), bw-ld2 x1 (CAT II 600 V), bw-bare19 x1 (CAT II 1000 V); ks-hv30 is 'none'.
 # A higher category stands in for a lower one at the same voltage, not the other way round
 # (SPEC §5.2).
 HAND_COUNT = {

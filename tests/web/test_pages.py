@@ -197,23 +197,23 @@ def test_model_edit_rejects_bad_yaml_and_unknown_switch(client, demo):
 def test_model_edit_reads_an_unquoted_ratio_as_that_ratio(client, demo, ratio, value):
     # YAML 1.1 would read 1000:1 as the base-60 number 60001; the form reads YAML 1.2
     login_as(client, "steward")
-    form = _edit_form(client, "ks-hv40")
+    form = _edit_form(client, "ks-hv30")
     other = re.sub(r"(?m)^attenuation: .*$", f"attenuation: {ratio}", form["other"])
     assert f"attenuation: {ratio}\n" in other
-    response = client.post("/models/ks-hv40/edit", data=dict(form, other=other))
+    response = client.post("/models/ks-hv30/edit", data=dict(form, other=other))
     assert response.status_code == 302, response.get_data(as_text=True)
     with demo.transaction() as s:
-        assert s.scalar(select(m.Model.attenuation).where(m.Model.key == "ks-hv40")) == value
+        assert s.scalar(select(m.Model.attenuation).where(m.Model.key == "ks-hv30")) == value
 
 
 def test_model_edit_refuses_an_inverted_ratio_and_an_alias(client, demo):
     login_as(client, "steward")
-    form = _edit_form(client, "ks-hv40")
+    form = _edit_form(client, "ks-hv30")
     other = re.sub(r"(?m)^attenuation: .*$", "attenuation: 1:1000", form["other"])
-    response = client.post("/models/ks-hv40/edit", data=dict(form, other=other))
+    response = client.post("/models/ks-hv30/edit", data=dict(form, other=other))
     page = response.get_data(as_text=True)
     assert response.status_code == 400 and "attenuation: &#39;1:1000&#39; is not an" in page
-    response = client.post("/models/ks-hv40/edit",
+    response = client.post("/models/ks-hv30/edit",
                            data=dict(form, other="min_voltage: &v 1 kV\nmax_voltage: *v\n"))
     assert response.status_code == 400
     assert "anchors and aliases" in response.get_data(as_text=True)
