@@ -140,8 +140,10 @@ class ChainState:
 
     def summary(self) -> str:
         if self.ok:
-            return (f"intact: {self.count} {self.noun}{'s' if self.count != 1 else ''}, head "
-                    f"{self.head}")
+            counted = (f"{self.count} event{'s' if self.count != 1 else ''}"
+                       if self.noun == "event"
+                       else f"{self.count} entr{'y' if self.count == 1 else 'ies'}")
+            return f"intact: {counted}, head {self.head}"
         if self.broken_at is None:
             return f"broken: {self.problem}"
         return f"broken at {self.noun} {self.broken_at}: {self.problem}"
