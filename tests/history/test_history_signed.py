@@ -320,3 +320,31 @@ def test_init_refuses_to_seal_an_old_chain_that_was_edited(runner, demo):
         assert s.get(m.ChainSeal, 1).mac is None
         with pytest.raises(ValueError):
             seal_legacy(s)
+
+
+@pytest.mark.postgres
+def test_upgraded_database_is_sealed_and_guarded_on_postgresql(instance, pg_url):
+    database = store_db.Database(pg_url)
+    try:
+        store_db.upgrade(database.engine)
+        assert load_demo(database)
+        for i in range(3):
+            log_event(database, unit=TAGS[i], kind="transient", mode="vdc",
+                      voltage=1000.0 + i, symptoms=["none"], by="tech")
+        count, _head = _as_written_before_the_key(database)
+        store_db.upgrade(database.engine)
+        assert "not sealed" in _states(database)["seal"].problem
+        with database.transaction(immediate=True) as s:
+            assert f"{count} events on plain SHA-256 links" in seal_legacy(s)
+        states = _states(database)
+        assert "seal" not in states and all(st.ok for st in states.values())
+        assert states["hold"].count >= 1  # the demo's holds, linked by the seal
+        _sql(database, "UPDATE event SET notes = 'changed later' WHERE id = 2")
+        with database.transaction() as s:
+            r = s.get(m.Event, 2)
+            plain = legacy_event_hash(r, r.prev_hash)
+        _sql(database, "UPDATE event SET hash = :h WHERE id = 2", h=plain)
+        st = _states(database)["event"]
+        assert not st.ok and st.broken_at == 3  # the next old link no longer follows
+    finally:
+        database.dispose()
