@@ -143,7 +143,7 @@ class ChainState:
             counted = (f"{self.count} event{'s' if self.count != 1 else ''}"
                        if self.noun == "event"
                        else f"{self.count} entr{'y' if self.count == 1 else 'ies'}")
-            return f"intact: {counted}, head {self.head}"
+            return f"intact: {counted}, head {self.head[:16]}"
         if self.broken_at is None:
             return f"broken: {self.problem}"
         return f"broken at {self.noun} {self.broken_at}: {self.problem}"
