@@ -110,6 +110,14 @@ def init(with_demo: bool):
         click.echo(f"Database {shown} is at the latest migration ({after}).")
     else:
         click.echo(f"Database {shown} migrated from {before or 'empty'} to {after}.")
+    from .store.chain import seal_legacy
+    try:
+        with database.transaction(immediate=True) as session:
+            sealed = seal_legacy(session)
+    except ValueError as exc:
+        fail(f"{exc}. Compare the events with your last exported workbook.", 1)
+    if sealed:
+        click.echo(sealed[0].upper() + sealed[1:] + ".")
     if with_demo:
         from .demo import demo_logins_text, load_demo
         if load_demo(database):
@@ -431,18 +439,32 @@ def audit():
 
 
 @audit.command("verify")
+@click.option("--against", "against", default=None,
+              type=click.Path(exists=True, path_type=Path),
+              help="An audit workbook (or CSV folder) exported earlier: also show that no "
+                   "event, hold or change was removed since.")
 @reports_errors
-def audit_verify():
-    """Recompute the event hash chain; exit 1 if it is broken."""
-    from .store.events import verify_chain
+def audit_verify(against):
+    """Recompute the event, hold and change chains; exit 1 if one is broken (or, with
+    --against, if entries were removed since that export)."""
+    from .store.chain import compare_with, read_exported_heads, verify_all
+    exported = read_exported_heads(against) if against is not None else None
     database = _env().database()
     with database.transaction() as session:
-        state = verify_chain(session)
-    if state.ok:
-        click.echo(f"Event chain {state.summary()}.")
-        return
-    click.echo(f"Event chain {state.summary()}.")
-    sys.exit(1)
+        states = verify_all(session)
+        compared = compare_with(session, exported) if exported is not None else []
+    names = {"event": "Event chain", "hold": "Hold chain", "change": "Change chain",
+             "seal": "Seal"}
+    ok = True
+    for name, state in states.items():
+        click.echo(f"{names[name]} {state.summary()}.")
+        ok = ok and state.ok
+    for name, holds, what in compared:
+        click.echo(f"Against {against.name}, {names[name].lower()}: "
+                   f"{'holds' if holds else 'FAILS'}: {what}.")
+        ok = ok and holds
+    if not ok:
+        sys.exit(1)
 
 
 @audit.command("export")

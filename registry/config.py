@@ -5,7 +5,8 @@ folder); ``WITHSTAND_SECRET_KEY`` the session key (default: one generated once a
 instance folder, so that sessions survive a restart without a key in the code);
 ``WITHSTAND_INSTANCE`` the instance folder itself (default: the per-user data folder,
 ``~/.local/share/withstand`` on Linux, so every command finds the same database wherever it is
-run from).
+run from); ``WITHSTAND_CHAIN_KEY`` the key that signs the
+record's hash chains (default: one generated once into the instance folder, like the secret key).
 """
 
 from __future__ import annotations
@@ -39,6 +40,28 @@ def secret_key(instance: Path) -> str:
         instance.mkdir(parents=True, exist_ok=True)
         try:
             # readable by the owner only; O_EXCL so that two first starts agree on one key
+            fd = os.open(path, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
+        except FileExistsError:
+            pass
+        else:
+            with os.fdopen(fd, "w") as f:
+                f.write(secrets.token_hex(32))
+    return path.read_text().strip()
+
+
+def chain_key(instance: Path | None = None) -> str:
+    """The HMAC key of the record's chains (events, holds, changes): ``WITHSTAND_CHAIN_KEY``, or
+    a key generated once into ``chain_key`` in the instance folder (mode 0600). It is kept out
+    of the database on purpose: whoever can write the database but lacks this key cannot
+    recompute valid links. Back it up apart from the database."""
+    env = os.environ.get("WITHSTAND_CHAIN_KEY")
+    if env:
+        return env
+    instance = instance or instance_path()
+    path = instance / "chain_key"
+    if not path.exists():
+        instance.mkdir(parents=True, exist_ok=True)
+        try:
             fd = os.open(path, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
         except FileExistsError:
             pass

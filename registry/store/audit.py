@@ -24,7 +24,7 @@ from ..errors import InvalidInput
 from . import models as m
 from .cells import safe_sheet, write_csv
 from .db import Database
-from .events import verify_chain
+from .chain import verify_all
 from .fleet import utcnow
 from .queries import coverage
 from .specs import all_models, all_units, model_spec
@@ -286,7 +286,8 @@ def build_audit(session: Session, *, since: date | None = None, site: str | None
                     for c in changes]
 
     # -- summary ----------------------------------------------------------------------------
-    chain = verify_chain(session)
+    chains = verify_all(session)
+    chain = chains["event"]
     try:
         from importlib.metadata import version
         made_with = f"withstand {version('withstand')}"
@@ -313,7 +314,19 @@ def build_audit(session: Session, *, since: date | None = None, site: str | None
               ("chain", "events in the chain", chain.count),
               ("chain", "first broken event", chain.broken_at if not chain.ok else None),
               ("chain", "problem", chain.problem or None),
-              ("chain", "head hash", chain.head if chain.ok else None),
+              ("chain", "head hash", chain.head if chain.ok else None)]
+    # the hold and change chains, and the seal of older entries when it fails; `audit verify
+    # --against` reads the counts and heads back (chain.SUMMARY_ITEMS)
+    for name in ("hold", "change"):
+        st = chains[name]
+        items += [(f"{name} chain", "state", "intact" if st.ok else "BROKEN"),
+                  (f"{name} chain", "entries in the chain", st.count),
+                  (f"{name} chain", f"first broken {name}", st.broken_at if not st.ok else None),
+                  (f"{name} chain", "problem", st.problem or None),
+                  (f"{name} chain", "head hash", st.head if st.ok else None)]
+    if "seal" in chains:
+        items += [("seal", "problem", chains["seal"].problem)]
+    items += [
               ("findings", "total", len(findings))]
     summary = pd.DataFrame(items, columns=["section", "item", "value"])
     sheets = {

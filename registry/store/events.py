@@ -1,10 +1,14 @@
 """Logged events: the append-only, hash-chained record of what each unit went through.
 
-Every event row carries ``hash = SHA-256(canonical JSON of its content + prev_hash)``, where
-``prev_hash`` is the hash of the event before it (by id) and the first event's is
-:data:`GENESIS`. An edit of any hashed field changes that row's hash; a deletion or a
-reordering breaks the next row's ``prev_hash``. :func:`verify_chain` names the first broken
-link.
+Every event row carries ``hash = HMAC-SHA256(key, canonical JSON of its content + prev_hash)``
+(HMAC: RFC 2104; SHA-256: FIPS 180-4), where ``prev_hash`` is the hash of the event before it
+(by id), the first event's is :data:`GENESIS`, and the key is kept outside the database
+(:func:`.chain.chain_key`). The content names the unit and the user by id and by tag and
+login, so renaming either breaks the link. An edit of any hashed field changes that row's
+hash, and without the key nobody can recompute it; a deletion or a reordering breaks the next
+row's ``prev_hash``. :func:`verify_chain` names the first broken link. Events written before
+the key (a database upgraded by migration 0003) keep their plain SHA-256 links up to the
+boundary the seal records (:func:`.chain.seal_legacy`).
 
 Appends are serialised so that two writers cannot both chain onto the same last event: on
 SQLite the transaction takes the write lock at its start (``BEGIN IMMEDIATE``), on PostgreSQL
@@ -14,6 +18,7 @@ it takes a transaction-level advisory lock.
 from __future__ import annotations
 
 import hashlib
+import hmac
 import json
 import uuid
 from dataclasses import dataclass
@@ -26,12 +31,12 @@ from ..engine import events as ev_engine
 from ..engine.events import Assessment, Stress
 from ..errors import InvalidInput, NotAllowed, NotFound
 from . import models as m
+from .chain import GENESIS, ChainState, chain_key, keyed_hash
 from .db import Database
 from .fleet import utcnow
 from .specs import model_spec
 from .users import get_user
 
-GENESIS = "0" * 64
 # An arbitrary constant naming the event-chain lock among PostgreSQL advisory locks.
 CHAIN_LOCK_KEY = 0x77697468  # "with"
 LOGGING_ROLES = ("technician", "steward")
@@ -72,13 +77,28 @@ def canonical_content(row: m.Event) -> dict:
     return content
 
 
-def event_hash(row: m.Event, prev_hash: str) -> str:
-    """SHA-256 (FIPS 180-4) over the canonical JSON (sorted keys, no spaces, UTF-8) of the
-    event's content with ``prev_hash`` included."""
+def legacy_event_hash(row: m.Event, prev_hash: str) -> str:
+    """The link as written before migration 0003: plain SHA-256 (FIPS 180-4) over the
+    canonical JSON (sorted keys, no spaces, UTF-8) of the content with ``prev_hash``."""
     doc = dict(canonical_content(row), prev_hash=prev_hash)
     data = json.dumps(doc, sort_keys=True, separators=(",", ":"), ensure_ascii=False,
                       allow_nan=False)
     return hashlib.sha256(data.encode("utf-8")).hexdigest()
+
+
+def signed_content(row: m.Event) -> dict:
+    """What a keyed link covers: the content, the unit's tag and the logging user's login
+    beside their ids, and the chain's name (so a link of another chain cannot stand in)."""
+    by = row.logged_by if row.logged_by_id is not None else None
+    return dict(canonical_content(row), chain="event",
+                unit=row.unit.tag if row.unit is not None else None,
+                logged_by=by.username if by is not None else None)
+
+
+def event_hash(row: m.Event, prev_hash: str, key: bytes | None = None) -> str:
+    """HMAC-SHA256 (RFC 2104, FIPS 180-4) with the chain key over the canonical JSON of
+    :func:`signed_content` with ``prev_hash`` included."""
+    return keyed_hash(key or chain_key(), dict(signed_content(row), prev_hash=prev_hash))
 
 
 def lock_chain(session: Session) -> None:
@@ -112,11 +132,13 @@ def append_event(session: Session, row: m.Event) -> m.Event:
     :func:`log_event`); the hash needs the row's id, so the row goes in with a placeholder
     hash that only this transaction ever sees."""
     lock_chain(session)
+    key = chain_key()
     row.prev_hash = last_hash(session)
     row.hash = "pending-" + uuid.uuid4().hex
     session.add(row)
     session.flush()
-    row.hash = event_hash(row, row.prev_hash)
+    session.refresh(row, ["unit", "logged_by"])
+    row.hash = event_hash(row, row.prev_hash, key)
     session.flush()
     return row
 
@@ -159,27 +181,22 @@ def log_event(db: Database, *, unit: str, kind: str, by: str, mode: str | None =
 
 # -- verification ---------------------------------------------------------------------------
 
-@dataclass(frozen=True)
-class ChainState:
-    ok: bool
-    count: int  # events read
-    broken_at: int | None  # id of the first event whose link does not hold
-    problem: str  # what is wrong there; "" when ok
-    head: str  # hash of the last event (GENESIS when there is none)
-
-    def summary(self) -> str:
-        if self.ok:
-            return (f"intact: {self.count} event{'s' if self.count != 1 else ''}, head "
-                    f"{self.head[:16]}")
-        return f"broken at event {self.broken_at}: {self.problem}"
-
-
-def verify_chain(session: Session) -> ChainState:
-    """Recompute every event's hash in id order; the first event whose ``prev_hash`` is not
+def verify_chain(session: Session, key: bytes | None = None) -> ChainState:
+    """Recompute every event's link in id order; the first event whose ``prev_hash`` is not
     its predecessor's hash (a deletion or reordering before it) or whose content does not give
-    its hash (an edit) is the broken link."""
+    its hash (an edit, a renamed unit or user, a forged row) is the broken link. Events up to
+    the sealed boundary of an upgraded database are checked on their plain SHA-256 links and
+    must end on the head the seal recorded."""
+    key = key or chain_key()
+    seal = session.get(m.ChainSeal, 1)
+    legacy_last = seal.legacy_last_event_id if seal is not None else 0
     expected_prev, count, previous_id = GENESIS, 0, None
-    for row in session.scalars(select(m.Event).order_by(m.Event.id)).yield_per(500):
+    rows = session.scalars(select(m.Event).order_by(m.Event.id)).yield_per(500)
+    for row in rows:
+        if (seal is not None and previous_id is not None and previous_id <= legacy_last < row.id
+                and (count != seal.legacy_events or expected_prev != seal.legacy_head)):
+            return ChainState(False, count, previous_id, "the events written before the chain "
+                              "key are not those the seal recorded", expected_prev)
         count += 1
         if row.prev_hash != expected_prev:
             before = (f"event {previous_id}" if previous_id is not None
@@ -187,11 +204,18 @@ def verify_chain(session: Session) -> ChainState:
             return ChainState(False, count, row.id,
                               f"its prev_hash does not match the hash of {before}: an event "
                               "was deleted, inserted or moved there", expected_prev)
-        if event_hash(row, row.prev_hash) != row.hash:
+        want = (legacy_event_hash(row, row.prev_hash) if row.id <= legacy_last
+                else event_hash(row, row.prev_hash, key))
+        if not hmac.compare_digest(want, row.hash):
             return ChainState(False, count, row.id,
-                              "its content does not match its hash: the row was edited",
+                              "its content does not match its hash: the row was edited (or "
+                              "its unit or user renamed, or it was written without the key)",
                               expected_prev)
         expected_prev, previous_id = row.hash, row.id
+    if (seal is not None and (previous_id or 0) <= legacy_last
+            and (count != seal.legacy_events or expected_prev != seal.legacy_head)):
+        return ChainState(False, count, previous_id, "the events written before the chain key "
+                          "are not those the seal recorded", expected_prev)
     return ChainState(True, count, None, "", expected_prev)
 
 
@@ -200,4 +224,4 @@ def events_of(session: Session, tag: str) -> list[m.Event]:
 
 
 __all__ = ["GENESIS", "ChainState", "LoggedEvent", "canonical_content", "event_hash",
-           "log_event", "verify_chain", "append_event"]
+           "legacy_event_hash", "log_event", "verify_chain", "append_event"]

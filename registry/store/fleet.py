@@ -59,10 +59,15 @@ def diff_documents(old: dict, new: dict) -> list[tuple[str, str | None, str | No
 
 def record_changes(session: Session, entity: str, key: str, diffs, actor: str,
                    user_id: int | None, report: ImportReport | None = None) -> None:
+    """Record each field change and chain it onto the change chain (:mod:`.chain`)."""
+    from .chain import link_change
     now = utcnow()
     for path, old, new in diffs:
-        session.add(m.Change(at=now, user_id=user_id, actor=actor, entity=entity,
-                             entity_key=key, field=path, old=old, new=new))
+        change = m.Change(at=now, user_id=user_id, actor=actor, entity=entity,
+                          entity_key=key, field=path, old=old, new=new)
+        session.add(change)
+        session.flush()
+        link_change(session, change)
         if report is not None:
             report.changes.append((entity, key, path, old, new))
 
@@ -156,9 +161,13 @@ def _hold_from_file(session: Session, unit: m.Unit, actor: str) -> None:
     if unit.id is not None and session.scalar(select(m.Hold.id).where(
             m.Hold.unit_id == unit.id, m.Hold.released_at.is_(None))) is not None:
         return
-    session.add(m.Hold(unit=unit, opened_at=utcnow(),
-                       reason=f"marked on-hold in a fleet file imported by {actor}"
-                              + (f": {unit.notes}" if unit.notes else "")))
+    from .chain import link_hold_opened
+    hold = m.Hold(unit=unit, opened_at=utcnow(),
+                  reason=f"marked on-hold in a fleet file imported by {actor}"
+                         + (f": {unit.notes}" if unit.notes else ""))
+    session.add(hold)
+    session.flush()
+    link_hold_opened(session, hold)
 
 
 def export_fleet(session: Session) -> FleetContent:

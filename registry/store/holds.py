@@ -2,7 +2,9 @@
 
 A unit with an open hold is ``on-hold``. Releasing records the inspection result and note;
 ``fail`` retires the unit, ``pass`` and ``repaired`` put it back in service once no other hold
-is open. Each status change is recorded as a change of the unit.
+is open. Each status change is recorded as a change of the unit. Opening and releasing each
+append a signed link to the hold chain (:mod:`.chain`), so a hold released, reopened or
+deleted by hand in the database is found by ``audit verify``.
 """
 
 from __future__ import annotations
@@ -15,6 +17,7 @@ from sqlalchemy.orm import Session
 from ..engine.spec import INSPECTION_RESULTS
 from ..errors import InvalidInput, NotFound
 from . import models as m
+from .chain import link_hold_opened, link_hold_released
 from .db import Database
 from .events import require_role, unit_by_tag
 from .fleet import record_changes, utcnow
@@ -47,6 +50,7 @@ def open_hold(session: Session, unit: m.Unit, event: m.Event | None, reason: str
     session.add(hold)
     _set_status(session, unit, "on-hold", user)
     session.flush()
+    link_hold_opened(session, hold)
     return hold
 
 
@@ -86,6 +90,8 @@ def release_hold(db: Database, *, unit: str, result: str, by: str, note: str = "
         for h in holds:
             h.released_at, h.released_by, h.result, h.notes = now, user, result, note or ""
         session.flush()
+        for h in holds:
+            link_hold_released(session, h)
         if result == "fail":
             _set_status(session, row, "retired", user)
         elif not open_holds(session, row):

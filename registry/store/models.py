@@ -302,3 +302,40 @@ class Change(Base):
     field: Mapped[str] = mapped_column(String(200))
     old: Mapped[str | None] = mapped_column(Text)
     new: Mapped[str | None] = mapped_column(Text)
+
+
+CHAINS = ("hold", "change")
+LINK_KINDS = ("hold-opened", "hold-released", "change")
+
+
+class Link(Base):
+    """One link of the hold chain or the change chain: ``hash`` is the keyed HMAC of the
+    subject row's content (a hold's opening, a hold's release, a change) and ``prev_hash``."""
+
+    __tablename__ = "record_link"
+    __table_args__ = (_one_of("chain", CHAINS), _one_of("kind", LINK_KINDS))
+
+    id: Mapped[int] = mapped_column(primary_key=True)
+    chain: Mapped[str] = mapped_column(String(16))
+    kind: Mapped[str] = mapped_column(String(16))
+    subject_id: Mapped[int] = mapped_column(Integer)  # hold.id or change.id; no foreign key
+    prev_hash: Mapped[str] = mapped_column(String(64))
+    hash: Mapped[str] = mapped_column(String(64), unique=True)
+
+
+class ChainSeal(Base):
+    """What a database upgraded by migration 0003 held before the chains were keyed: events up
+    to ``legacy_last_event_id`` keep their plain SHA-256 links; holds and changes up to their
+    ids had no link and are linked when the seal is made (``withstand init``). ``mac`` signs
+    the row with the chain key; until it is set the record does not verify."""
+
+    __tablename__ = "chain_seal"
+
+    id: Mapped[int] = mapped_column(primary_key=True)
+    legacy_last_event_id: Mapped[int] = mapped_column(Integer, default=0)
+    legacy_events: Mapped[int] = mapped_column(Integer, default=0)
+    legacy_head: Mapped[str] = mapped_column(String(64))
+    legacy_last_hold_id: Mapped[int] = mapped_column(Integer, default=0)
+    legacy_last_change_id: Mapped[int] = mapped_column(Integer, default=0)
+    sealed_at: Mapped[datetime | None] = mapped_column(DateTime)
+    mac: Mapped[str | None] = mapped_column(String(64))

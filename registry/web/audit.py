@@ -12,13 +12,20 @@ from ..errors import InvalidInput
 from ..extensions import db
 from ..formats.common import parse_date
 from ..store import queries
-from ..store.events import verify_chain
+from ..store.chain import verify_all
 from .auth import role_required
 from .forms import FieldErrors
 
 bp = Blueprint("audit", __name__, url_prefix="/audit")
 
 XLSX = "application/vnd.openxmlformats-officedocument.spreadsheetml.sheet"
+
+
+def _chains() -> dict:
+    """The event chain as ``chain``, the hold and change chains (and a failing seal) as
+    ``others``."""
+    states = verify_all(db.session)
+    return {"chain": states.pop("event"), "others": states}
 
 
 def audit_args(args, errors: FieldErrors) -> tuple[date | None, str | None, dict]:
@@ -58,7 +65,7 @@ def index():
     _since, _site, typed = audit_args(request.args, errors)
     return render_template("audit/index.html", typed=typed, errors=errors,
                            sites=queries.site_names(db.session),
-                           chain=verify_chain(db.session))
+                           **_chains())
 
 
 @bp.route("/workbook.xlsx")
@@ -69,11 +76,11 @@ def workbook():
     if errors:
         return render_template("audit/index.html", typed=typed, errors=errors,
                                sites=queries.site_names(db.session),
-                               chain=verify_chain(db.session)), 400
+                               **_chains()), 400
     try:
         return workbook_response(since, site)
     except InvalidInput as exc:
         errors.extend(exc.problems, {"since": "since", "site": "site"})
         return render_template("audit/index.html", typed=typed, errors=errors,
                                sites=queries.site_names(db.session),
-                               chain=verify_chain(db.session)), 400
+                               **_chains()), 400

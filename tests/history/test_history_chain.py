@@ -2,11 +2,12 @@
 deletion or a reordering made directly in the database, and intact after concurrent appends
 from several processes on SQLite and PostgreSQL.
 
-Reference for the digest: SHA-256 as Python's hashlib computes it (FIPS 180-4); the test
-recomputes one link by hand from the stored row.
+Reference for the digest: HMAC (RFC 2104) with SHA-256 (FIPS 180-4) as Python's hmac and
+hashlib compute it; the test recomputes one link by hand from the stored row and the key file.
 """
 
 import hashlib
+import hmac
 import json
 import multiprocessing as mp
 import os
@@ -56,9 +57,11 @@ def test_untouched_chain_verifies_and_links_by_hand(runner, demo):
                "logged_by_id": r.logged_by_id, "mode": "vdc", "kind": "transient",
                "voltage": 1002.0, "energy": None, "duration": None, "symptoms": ["none"],
                "notes": "", "within_rating": True, "clamp_conducted": False,
-               "prev_hash": rows[1].hash}
-        by_hand = hashlib.sha256(json.dumps(doc, sort_keys=True, separators=(",", ":"))
-                                 .encode()).hexdigest()
+               "prev_hash": rows[1].hash, "chain": "event", "unit": TAGS[2],
+               "logged_by": "tech"}
+        key = (Path(os.environ["WITHSTAND_INSTANCE"]) / "chain_key").read_bytes().strip()
+        by_hand = hmac.new(key, json.dumps(doc, sort_keys=True, separators=(",", ":"))
+                           .encode(), hashlib.sha256).hexdigest()
         assert r.hash == by_hand
     result = runner.invoke(main, ["audit", "verify"])
     assert result.exit_code == 0 and "intact: 5 events" in result.output
@@ -79,6 +82,7 @@ def test_edit_is_found_at_that_event(runner, demo):
 
 
 def test_edit_with_a_recomputed_hash_is_found_at_the_next_event(demo):
+    # with the key (as the store holds it) an edit re-signed at one row still breaks the next
     five_events(demo)
     from registry.store.events import event_hash
     with demo.transaction() as s:

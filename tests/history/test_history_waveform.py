@@ -7,11 +7,15 @@ Limits come from the demo fleet's model record of the kx-3 (seeddata/fleet.yaml:
 has no max input and a fuse rated 250 V ac, 125 V dc). A fuse's ac and dc voltage ratings are
 separate ratings (IEC 60269-1 rated voltage; from memory): a dc circuit is held against the dc
 one, and when the waveform is not known only the lower of the two is shown to hold.
-SHA-256 as Python's hashlib computes it (FIPS 180-4).
+SHA-256 as Python's hashlib computes it (FIPS 180-4); HMAC (RFC 2104) as its hmac does.
 """
 
 import hashlib
+import hmac
 import json
+import os
+from datetime import datetime
+from pathlib import Path
 
 import pytest
 from sqlalchemy import select, text
@@ -23,7 +27,7 @@ from registry.errors import InvalidInput
 from registry.formats.fleet import load_fleet_file
 from registry.store import db as store_db
 from registry.store import models as m
-from registry.store.events import GENESIS, log_event, verify_chain
+from registry.store.events import GENESIS, legacy_event_hash, log_event, verify_chain
 
 
 @pytest.fixture(scope="module")
@@ -72,12 +76,33 @@ def _old_hash(row: dict, prev: str) -> str:
                           .encode()).hexdigest()
 
 
+def _old_content(r) -> dict:
+    """An event row read by SQL as the content the code before 0002 hashed."""
+    def iso(v):
+        return (datetime.fromisoformat(v) if isinstance(v, str) else v).isoformat(
+            timespec="microseconds")
+    symptoms = json.loads(r["symptoms"]) if isinstance(r["symptoms"], str) else r["symptoms"]
+    return {"id": r["id"], "unit_id": r["unit_id"], "occurred_at": iso(r["occurred_at"]),
+            "logged_at": iso(r["logged_at"]), "logged_by_id": r["logged_by_id"],
+            "mode": r["mode_key"], "kind": r["kind"],
+            "voltage": None if r["voltage"] is None else float(r["voltage"]),
+            "energy": None if r["energy"] is None else float(r["energy"]),
+            "duration": None if r["duration"] is None else float(r["duration"]),
+            "symptoms": symptoms, "notes": r["notes"] or "",
+            "within_rating": None if r["within_rating"] is None else bool(r["within_rating"]),
+            "clamp_conducted": bool(r["clamp_conducted"])}
+
+
 def test_chain_written_before_the_waveform_verifies_after_the_migration(demo):
     # a hold refers to the first event, so the upgrade must not copy the event table
     log_event(demo, unit="NB-0001", kind="overvoltage", mode="vdc", voltage=1200.0, by="tech")
     store_db.downgrade(demo.engine, "0001")
     with demo.engine.begin() as conn:
-        first = conn.execute(text("SELECT * FROM event")).mappings().one()
+        first = dict(conn.execute(text("SELECT * FROM event")).mappings().one())
+        # as the code before the chain key wrote it: a plain SHA-256 link
+        first["hash"] = _old_hash(_old_content(first), GENESIS)
+        conn.execute(text("UPDATE event SET hash = :h WHERE id = :i"),
+                     {"h": first["hash"], "i": first["id"]})
         unit_id = conn.execute(text("SELECT id FROM unit WHERE tag = 'NB-0002'")).scalar()
         content = {"id": first["id"] + 1, "unit_id": unit_id,
                    "occurred_at": "2026-11-01T08:00:00.000000",
@@ -145,7 +170,13 @@ def test_event_without_waveform_hashes_as_before(demo):
                "logged_by_id": r.logged_by_id, "mode": "vdc", "kind": "transient",
                "voltage": 1500.0, "energy": None, "duration": None, "symptoms": ["none"],
                "notes": "", "within_rating": True, "clamp_conducted": False}
-        assert r.waveform is None and r.hash == _old_hash(doc, GENESIS)
+        # the plain form (links written before the chain key) leaves an unlogged waveform out
+        assert r.waveform is None and legacy_event_hash(r, GENESIS) == _old_hash(doc, GENESIS)
+        # the keyed link adds the unit's tag and the user's login: HMAC (RFC 2104) by hand
+        key = (Path(os.environ["WITHSTAND_INSTANCE"]) / "chain_key").read_bytes().strip()
+        doc.update(prev_hash=GENESIS, chain="event", unit="NB-0001", logged_by="tech")
+        assert r.hash == hmac.new(key, json.dumps(doc, sort_keys=True, separators=(",", ":"))
+                                  .encode(), hashlib.sha256).hexdigest()
 
 
 # -- the CLI -------------------------------------------------------------------------------------

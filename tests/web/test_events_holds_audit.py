@@ -92,3 +92,17 @@ def test_audit_page_and_workbook(client, demo):
     bad = client.get("/audit/workbook.xlsx?since=last+week&site=Nowhere")
     page = bad.get_data(as_text=True)
     assert bad.status_code == 400 and "is not a date" in page and "is not a site" in page
+
+
+def test_audit_page_shows_a_hold_released_by_sql(client, demo):
+    # the hold and change chains are shown beside the event chain; a release made directly in
+    # the database has no signed link (HMAC, RFC 2104) and is named on the page
+    login_as(client, "viewer")
+    page = client.get("/audit/").get_data(as_text=True)
+    assert "The hold chain is intact" in page and "The change chain is intact" in page
+    from sqlalchemy import text
+    with demo.engine.begin() as conn:
+        conn.execute(text("UPDATE hold SET released_at = '2026-11-02 09:00:00', "
+                          "result = 'pass' WHERE released_at IS NULL"))
+    page = client.get("/audit/").get_data(as_text=True)
+    assert "broken at hold" in page and "released outside the store" in page
