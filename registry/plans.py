@@ -13,7 +13,7 @@ import yaml
 
 from .engine.spec import (DEFAULT_DURATION, Circuit, Plan, SpecError, circuit_problems,
                           plan_problems)
-from .errors import FieldProblem, InvalidInput
+from .errors import FieldProblem, InvalidInput, shown
 from .formats.common import as_text, read_document, text_problem
 from .units import (CAPACITANCE, CURRENT, ENERGY, FREQUENCY, LENGTH, RESISTANCE, TIME,
                     VOLTAGE, format_quantity, parse_quantity)
@@ -104,7 +104,7 @@ def parse_plan(data, on: date | None = None, *, sites: dict[str, float] | None =
     p.unknown(data, TOP_FIELDS, "")
     fmt = data.get("format")
     if fmt != FORMAT:
-        p.add("format", f"must be '{FORMAT}'" + ("" if fmt is None else f", not '{fmt}'"))
+        p.add("format", f"must be '{FORMAT}'" + ("" if fmt is None else f", not '{shown(fmt)}'"))
     title = p.text(data.get("title") or "", "title") or ""
     task = p.name(data, "task")
 

@@ -75,6 +75,8 @@ def parse_date(text, field: str) -> date | None:
         day = text
     else:
         try:
+            if text_problem(str(text)):  # Python's parser lets some through ("...\x00")
+                raise ValueError
             day = date.fromisoformat(str(text).strip())
         except ValueError:
             raise InvalidInput(f"'{shown(text)}' is not a date; write it as YYYY-MM-DD, e.g. "
@@ -94,6 +96,8 @@ def parse_time(text, field: str) -> datetime | None:
     bad = InvalidInput(f"'{shown(text)}' is not an ISO 8601 time such as 2026-03-01T14:30 or "
                        "2026-03-01T14:30+01:00", field)
     try:
+        if text_problem(str(text)):  # Python's parser lets some through ("14:30\x00")
+            raise ValueError
         t = datetime.fromisoformat(str(text).strip().replace("Z", "+00:00"))
     except ValueError:
         raise bad from None

@@ -333,7 +333,7 @@ def parse_fleet(data: Any, *, known_models: set[str] = frozenset(),
         raise InvalidInput("a fleet file is a mapping with 'format: withstand-fleet/1' at the "
                            "top")
     if data.get("format") != FORMAT:
-        raise InvalidInput(f"must be '{FORMAT}', not {data.get('format')!r}", "format")
+        raise InvalidInput(f"must be '{FORMAT}', not '{shown(data.get('format'))}'", "format")
     problems: list[FieldProblem] = []
     extra = sorted(set(data) - {"format", "sites", "models", "units"})
     problems += [FieldProblem(k, "is not a field of this format") for k in extra]
