@@ -487,3 +487,43 @@ def test_corpus_size():
                  + len(BAD_TIMES) + len(BAD_TEXT) + len(SPICE_CASES) + len(BAD_PASSWORDS)
                  + len(BAD_USERNAMES) + 5 + 1)
     assert generated >= 200, generated
+
+
+# -- the one error path and the one table ----------------------------------------------------
+
+def test_unexpected_error_is_one_line_not_a_traceback(env, monkeypatch):
+    # a fault inside a command (not bad input) still ends in one line and a non-zero code
+    import registry.store.fleet as store_fleet
+
+    def broken(session):
+        raise RuntimeError("simulated fault\nsecond line")
+    monkeypatch.setattr(store_fleet, "export_fleet", broken)
+    result = env["runner"].invoke(main, ["export", str(env["dir"] / "out.yaml")])
+    assert result.exit_code == 2 and isinstance(result.exception, SystemExit)
+    assert "Traceback" not in result.output and "second line" not in result.output
+    lines = result.output.strip().splitlines()
+    assert len(lines) == 1 and "internal error (RuntimeError: simulated fault)" in lines[0]
+
+
+def test_bounds_follow_the_altitude_table():
+    # the altitude bound is the last row of IEC 60664-1 Table A.2 as the package holds it
+    from registry.engine.quantity import FIELD_BOUNDS, bound_for
+    from registry.standards.altitude import TABLE
+    assert FIELD_BOUNDS["altitude"].largest == TABLE[-1][0]
+    assert bound_for("length", "site.altitude") is FIELD_BOUNDS["altitude"]
+    assert bound_for("length", "--max-altitude") is FIELD_BOUNDS["max_altitude"]
+
+
+@pytest.mark.parametrize("build", [
+    lambda s: s.Rating("III", 2e7),                                  # above 10 MV
+    lambda s: s.Mode("v", "V", "voltage", terminals=("V", "COM"), input_capacitance=1e5),
+    lambda s: s.Element.of("S1", "switch", ("a", "b"), gap=5.0),     # a 5 m contact gap
+    lambda s: s.Fuse(i2t=1e12),
+    lambda s: s.ModelSpec("k", "probe", tip_exposure=0.5),
+    lambda s: s.Circuit("isolated", "dc", 800.0, capacitance=1e-30),  # below the least
+], ids=["rating", "mode", "element", "fuse", "model", "circuit"])
+def test_spec_dataclasses_hold_the_same_bounds(build):
+    # the engine's dataclasses refuse what parse_quantity refuses, for specs built in code
+    from registry.engine import spec
+    with pytest.raises(spec.SpecError, match="this field takes"):
+        build(spec)
