@@ -14,7 +14,7 @@ from pathlib import Path
 import click
 
 from . import config as cfg
-from .errors import InvalidInput, WithstandError
+from .errors import InvalidInput, WithstandError, shown
 from .store import db as store_db
 
 
@@ -58,8 +58,36 @@ def _env() -> Env:
 
 
 def fail(message: str, code: int = 2):
-    click.echo(f"withstand: {message}", err=True)
+    # what the user typed may be in the message: no control character reaches the terminal
+    lines = message.split("\n")
+    click.echo("withstand: " + "\n".join(shown(line, 2000) for line in lines), err=True)
     sys.exit(code)
+
+
+# Click's own exceptions (usage errors, --help, Ctrl-C at a prompt) are Click's to report.
+_CLICK_EXCEPTIONS = (click.exceptions.ClickException, click.exceptions.Abort,
+                     click.exceptions.Exit)
+
+
+def _report(exc: BaseException) -> None:
+    """The message and exit code of an error raised by a command (exits)."""
+    if isinstance(exc, InvalidInput):
+        if len(exc.problems) == 1:
+            fail(f"error: {exc.problems[0]}", exc.exit_code)
+        lines = "\n".join(f"  {p}" for p in exc.problems)
+        fail(f"error: {len(exc.problems)} problems, nothing written:\n{lines}", exc.exit_code)
+    if isinstance(exc, WithstandError):
+        fail(f"error: {exc}", exc.exit_code)
+    if isinstance(exc, OSError):  # a file that cannot be written, a port that cannot be bound
+        where = f" ({exc.filename})" if exc.filename else ""
+        fail(f"error: {exc.strerror or exc}{where}", 2)
+    if isinstance(exc, ValueError) and "null byte" in str(exc):  # os functions on a NUL
+        fail("error: a file name cannot hold a NUL character", 2)
+    # Not one of the package's errors: a fault of withstand, not of the input. One line, no
+    # traceback; the transaction it ran in was rolled back, so nothing was written.
+    first = (str(exc).splitlines() or [""])[0]
+    fail(f"internal error ({type(exc).__name__}: {first}); nothing was written. This is a "
+         "fault in withstand: please report it with the command you ran.", 2)
 
 
 def reports_errors(fn):
@@ -68,21 +96,36 @@ def reports_errors(fn):
     def inner(*args, **kwargs):
         try:
             return fn(*args, **kwargs)
-        except InvalidInput as exc:
-            if len(exc.problems) == 1:
-                fail(f"error: {exc.problems[0]}", exc.exit_code)
-            lines = "\n".join(f"  {p}" for p in exc.problems)
-            fail(f"error: {len(exc.problems)} problems, nothing written:\n{lines}",
-                 exc.exit_code)
-        except WithstandError as exc:
-            fail(f"error: {exc}", exc.exit_code)
-        except OSError as exc:  # a file that cannot be written, a port that cannot be bound
-            where = f" ({exc.filename})" if exc.filename else ""
-            fail(f"error: {exc.strerror or exc}{where}", 2)
+        except _CLICK_EXCEPTIONS:
+            raise
+        except Exception as exc:
+            _report(exc)
     return inner
 
 
-@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+class _Group(click.Group):
+    """A command group whose every command (and any added later) reports errors as
+    :func:`reports_errors` does: the one error path of the CLI."""
+
+    def invoke(self, ctx):
+        try:
+            return super().invoke(ctx)
+        except _CLICK_EXCEPTIONS:
+            raise
+        except Exception as exc:
+            _report(exc)
+
+
+class _Path(click.Path):
+    """A file path; a NUL in it is a usage error (``click.Path`` would raise ValueError)."""
+
+    def convert(self, value, param, ctx):
+        if "\x00" in str(value):
+            self.fail("a file name cannot hold a NUL character", param, ctx)
+        return super().convert(value, param, ctx)
+
+
+@click.group(cls=_Group, context_settings={"help_option_names": ["-h", "--help"]})
 def main():
     """withstand: the fleet registry and job checks for instruments used on live circuits.
 
@@ -179,7 +222,7 @@ def demo(port: int):
 # -- fleet files ---------------------------------------------------------------------------------
 
 @main.command("import")
-@click.argument("file", type=click.Path(dir_okay=False, path_type=Path))
+@click.argument("file", type=_Path(dir_okay=False, path_type=Path))
 @click.option("--dry-run", is_flag=True, help="Show what would change; write nothing.")
 @click.option("--by", "actor", default=None, help="Who is importing (a username).")
 @reports_errors
@@ -217,7 +260,7 @@ def _actor(database, username: str | None):
 
 
 @main.command()
-@click.argument("file", type=click.Path(dir_okay=False, path_type=Path))
+@click.argument("file", type=_Path(dir_okay=False, path_type=Path))
 @reports_errors
 def export(file: Path):
     """Write the whole fleet as a fleet file (.yaml, .yml or .json)."""
@@ -237,7 +280,7 @@ def export(file: Path):
 # -- job checks ----------------------------------------------------------------------------------
 
 @main.command()
-@click.argument("plan", type=click.Path(dir_okay=False, path_type=Path))
+@click.argument("plan", type=_Path(dir_okay=False, path_type=Path))
 @click.option("--json", "as_json", is_flag=True, help="Print the result as withstand-result/1.")
 @click.option("--all", "show_all", is_flag=True, help="Print every setup, not the first 20.")
 @click.option("--on", "on", default=None, metavar="DATE",
@@ -289,7 +332,11 @@ def user_add(name: str, role: str, display_name: str, password_stdin: bool):
     from .store.users import add_user, validate_password, validate_username
     validate_username(name)
     if password_stdin:
-        password = sys.stdin.readline().rstrip("\r\n")
+        from .store.users import MAX_PASSWORD_LENGTH
+        try:  # one line, read no further than a password can be long
+            password = sys.stdin.readline(4 * MAX_PASSWORD_LENGTH + 2).rstrip("\r\n")
+        except UnicodeDecodeError:
+            raise InvalidInput("is not UTF-8 text", "password") from None
     else:
         password = click.prompt("Password", hide_input=True, confirmation_prompt=True)
     validate_password(password)
@@ -329,15 +376,8 @@ def _quantity_option(value: str | None, dim, option: str) -> float | None:
 
 def _parse_time(value: str | None, option: str = "--at"):
     """ISO 8601 text as naive UTC; a time without an offset is local time."""
-    if value is None:
-        return None
-    from datetime import datetime, timezone
-    try:
-        t = datetime.fromisoformat(value.strip().replace("Z", "+00:00"))
-    except ValueError:
-        raise InvalidInput(f"'{value}' is not an ISO 8601 time such as 2026-03-01T14:30 or "
-                           "2026-03-01T14:30+01:00", option) from None
-    return t.astimezone(timezone.utc).replace(tzinfo=None)
+    from .formats.common import parse_time
+    return parse_time(value, option)
 
 
 def _by(username: str | None) -> str:
@@ -487,7 +527,7 @@ def audit_export(out, since, site, on):
 
 
 @main.command()
-@click.argument("file", type=click.Path(dir_okay=False, path_type=Path))
+@click.argument("file", type=_Path(dir_okay=False, path_type=Path))
 @reports_errors
 def backup(file: Path):
     """An online, consistent copy of the database (SQLite); PostgreSQL: use pg_dump."""
@@ -513,7 +553,7 @@ def model_group():
 @click.option("--source-impedance", default=None, help="Source impedance, e.g. '2 ohm'.")
 @click.option("--capacitance", default=None, help="For --scenario discharge, e.g. '470 uF'.")
 @click.option("--duration", default=None, help="For --scenario discharge, e.g. '5 s'.")
-@click.option("--out", type=click.Path(dir_okay=False, path_type=Path), default=None,
+@click.option("--out", type=_Path(dir_okay=False, path_type=Path), default=None,
               help="Write the deck here instead of printing it.")
 @reports_errors
 def model_spice(key, mode_key, scenario, voltage, source_impedance, capacitance, duration, out):

@@ -6,7 +6,27 @@ one-line message and an exit code, the web app into a 4xx page or a JSON error.
 
 from __future__ import annotations
 
+import unicodedata
 from dataclasses import dataclass
+
+
+def shown(value, limit: int = 60) -> str:
+    """Text typed by someone, made safe to put in a message: control and format characters
+    (NUL, escape, bidirectional overrides) written as escapes (``\\x00``), and cut to
+    ``limit`` characters with an ellipsis, so a message never carries a terminal escape or a
+    whole oversized value."""
+    text = value if isinstance(value, str) else str(value)
+    cut = len(text) > limit
+    text = text[:limit]
+    out = []
+    for ch in text:
+        if unicodedata.category(ch) in ("Cc", "Cf", "Cs", "Zl", "Zp"):
+            code = ord(ch)
+            out.append(f"\\x{code:02x}" if code < 0x100 else
+                       f"\\u{code:04x}" if code < 0x10000 else f"\\U{code:08x}")
+        else:
+            out.append(ch)
+    return "".join(out) + ("..." if cut else "")
 
 
 class WithstandError(Exception):

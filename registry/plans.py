@@ -13,8 +13,8 @@ import yaml
 
 from .engine.spec import (DEFAULT_DURATION, Circuit, Plan, SpecError, circuit_problems,
                           plan_problems)
-from .errors import FieldProblem, InvalidInput
-from .formats.common import as_text, read_document
+from .errors import FieldProblem, InvalidInput, shown
+from .formats.common import as_text, read_document, text_problem
 from .units import (CAPACITANCE, CURRENT, ENERGY, FREQUENCY, LENGTH, RESISTANCE, TIME,
                     VOLTAGE, format_quantity, parse_quantity)
 
@@ -27,6 +27,9 @@ CIRCUIT_QUANTITIES = {
 }
 CIRCUIT_FIELDS = ("supply", "category", "waveform") + tuple(CIRCUIT_QUANTITIES)
 SITE_FIELDS = ("name", "altitude", "wet")
+# The largest plan file read: a plan is a few hundred bytes (the demo plans are under 1 kB);
+# 1 MB leaves room for long comments; common practice (no source).
+MAX_PLAN_BYTES = 1024 * 1024
 # What a plan's values must be (enumerations, bounds, what each task needs) is the engine's
 # rule, spec.circuit_problems and spec.plan_problems, which the Circuit and Plan dataclasses
 # also raise; this module reads the document and reports those problems with their paths.
@@ -68,6 +71,10 @@ class _Problems:
         if not isinstance(value, str):
             self.add(path, "must be text")
             return None
+        problem = text_problem(value)  # one line of printable text
+        if problem:
+            self.add(path, problem)
+            return None
         return value
 
     def unknown(self, data: dict, allowed, prefix: str):
@@ -97,7 +104,7 @@ def parse_plan(data, on: date | None = None, *, sites: dict[str, float] | None =
     p.unknown(data, TOP_FIELDS, "")
     fmt = data.get("format")
     if fmt != FORMAT:
-        p.add("format", f"must be '{FORMAT}'" + ("" if fmt is None else f", not '{fmt}'"))
+        p.add("format", f"must be '{FORMAT}'" + ("" if fmt is None else f", not '{shown(fmt)}'"))
     title = p.text(data.get("title") or "", "title") or ""
     task = p.name(data, "task")
 
@@ -164,8 +171,9 @@ def parse_plan(data, on: date | None = None, *, sites: dict[str, float] | None =
 
 def read_plan_file(path) -> dict:
     """The raw document of a plan file (YAML or JSON), or :class:`InvalidInput` (a missing,
-    unreadable, non-UTF-8 or malformed file)."""
-    return read_document(path)
+    unreadable, non-UTF-8, oversized (:data:`MAX_PLAN_BYTES`), too deeply nested or malformed
+    file)."""
+    return read_document(path, max_bytes=MAX_PLAN_BYTES)
 
 
 def load_plan(path, on: date | None = None, *, sites: dict[str, float] | None = None) -> Plan:

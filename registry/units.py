@@ -7,6 +7,7 @@ canonical unit of its dimension, and SI floats become readable text again. Nothi
 
 from __future__ import annotations
 
+import functools
 import math
 import re
 from dataclasses import dataclass
@@ -15,8 +16,8 @@ import pint
 
 from .engine.quantity import (  # noqa: F401  (re-exported for the edges)
     CAPACITANCE, CURRENT, DIMENSIONS, ENERGY, FREQUENCY, I2T, LENGTH, POWER, RESISTANCE, TIME,
-    VOLTAGE, Dimension, format_quantity)
-from .errors import InvalidInput
+    VOLTAGE, Dimension, bound_for, bound_problem, format_quantity)
+from .errors import InvalidInput, shown
 
 ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
 # Spellings the trade writes that pint does not know by itself.
@@ -40,7 +41,20 @@ def _normalise(text: str) -> str:
 
 
 def _dimensionality(dim: Dimension):
-    return ureg.Quantity(1, dim.unit).dimensionality
+    return _unit_dimensionality(dim.unit)
+
+
+# A unit's dimensionality and its factor to a canonical unit, worked out by pint once per
+# spelling (pint's parse is most of a fleet file's reading time otherwise). Every unit of the
+# package's dimensions is multiplicative, so SI = magnitude x factor is pint's own conversion.
+@functools.lru_cache(maxsize=1024)
+def _unit_dimensionality(unit: str):
+    return ureg.Quantity(1.0, unit).dimensionality if unit else ureg.Quantity(1.0).dimensionality
+
+
+@functools.lru_cache(maxsize=1024)
+def _factor(unit: str, canonical: str) -> float:
+    return float(ureg.Quantity(1.0, unit).to(canonical).magnitude)
 
 
 def _describe(dimensionality) -> str:
@@ -52,55 +66,96 @@ def _describe(dimensionality) -> str:
     return f"a quantity of {dimensionality}"
 
 
+# What a quantity's text may be: one number (decimal, optionally with an exponent) and a
+# unit. pint would evaluate any arithmetic ("10**400 V", "9**9**9 V"), which can overflow or
+# run for hours, so the number is read here and pint sees only the unit, whose digits may only
+# be short exponents (A^2*s, A**2 s).
+_NUMBER = re.compile(r"\s*([-+]?(?:(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][-+]?[0-9]+)?"
+                     r"|(?i:nan|inf(?:inity)?)(?![A-Za-z])))\s*(.*)", re.S)
+_EXPONENT = re.compile(r"(?:\*\*|\^)\s*[-+]?[0-9]{1,2}(?![0-9])")
+_UNIT_TEXT = re.compile(r"[A-Za-z_²³ */()]*")
+MAX_QUANTITY_TEXT = 100  # characters; a unit and a number are never longer (no source)
+
+
+def _split(text: str):
+    """(magnitude, unit text) of a quantity's text, or ``None`` when it is not one number
+    followed by a unit."""
+    if len(text) > MAX_QUANTITY_TEXT:
+        return None
+    m = _NUMBER.fullmatch(text)
+    if not m:
+        return None
+    unit = m.group(2).strip()
+    bare = _EXPONENT.sub("", unit)
+    if not _UNIT_TEXT.fullmatch(bare) or bare[:1] in ("*", "/") or \
+            bare.rstrip()[-1:] in ("*", "/"):
+        return None
+    return float(m.group(1)), unit  # float() of a huge exponent is inf: refused below
+
+
 def parse_quantity(value, dim: Dimension, field: str = "", *, default_unit: str | None = None,
-                   allow_negative: bool = False, allow_zero: bool = True) -> float:
+                   allow_negative: bool = False, allow_zero: bool = True,
+                   bound: str | None = None) -> float:
     """Parse ``value`` (text, or a number where ``default_unit`` is documented) into SI.
 
     Raises :class:`InvalidInput` naming ``field`` for empty or garbage text, a wrong dimension
     ("'2 kA' is a current; this field needs a voltage"), a bare number without a documented
-    default unit, a negative, zero (when not allowed) or non-finite value.
+    default unit, a negative, zero (when not allowed) or non-finite value, and a value outside
+    the field's range (``engine.quantity.bound_for``: the field's own bound in
+    ``FIELD_BOUNDS``, looked up by the last part of ``field`` or by ``bound`` when given,
+    else the dimension's in ``DIMENSION_BOUNDS``).
     """
     if value is None or (isinstance(value, str) and not value.strip()):
         raise InvalidInput(f"is empty; give {dim.article} {dim.name} such as "
                            f"'{example_text(dim)}'", field)
     if isinstance(value, bool):
         raise InvalidInput(f"'{value}' is not {dim.article} {dim.name}", field)
+    not_understood = InvalidInput(
+        f"'{shown(value)}' is not a quantity this field understands; write {dim.article} "
+        f"{dim.name} such as '{example_text(dim)}'", field)
     if isinstance(value, (int, float)):
         if default_unit is None:
-            raise InvalidInput(f"'{value}' has no unit; write it with one, such as "
+            raise InvalidInput(f"'{shown(value)}' has no unit; write it with one, such as "
                                f"'{example_text(dim)}'", field)
-        text = f"{value!r} {default_unit}"
-        shown = str(value)
+        try:
+            magnitude = float(value)
+        except (OverflowError, ValueError):
+            magnitude = math.inf
+        unit, text = default_unit, shown(value)
     elif isinstance(value, str):
-        text = _normalise(value)
-        shown = value.strip()
+        parts = _split(_normalise(value))
+        if parts is None:
+            raise not_understood
+        magnitude, unit = parts
+        text = shown(value.strip())
     else:
         raise InvalidInput(f"must be text such as '{example_text(dim)}', not {type(value).__name__}",
                            field)
+    if not math.isfinite(magnitude):
+        raise InvalidInput(f"'{text}' is not a finite {dim.name}", field)
     try:
-        q = ureg.Quantity(text)
+        dimensionality = _unit_dimensionality(unit)
     except Exception:
-        raise InvalidInput(f"'{shown}' is not a quantity this field understands; "
-                           f"write {dim.article} {dim.name} such as '{example_text(dim)}'", field) \
-            from None
-    if not isinstance(q, ureg.Quantity):
-        q = ureg.Quantity(q, "")
-    if q.dimensionless and not isinstance(value, (int, float)):
+        raise not_understood from None
+    if not dimensionality and not isinstance(value, (int, float)):
         if default_unit is None:
-            raise InvalidInput(f"'{shown}' has no unit; write it with one, such as "
+            raise InvalidInput(f"'{text}' has no unit; write it with one, such as "
                                f"'{example_text(dim)}'", field)
-        q = ureg.Quantity(q.magnitude, default_unit)
-    if q.dimensionality != _dimensionality(dim):
-        raise InvalidInput(f"'{shown}' is {_describe(q.dimensionality)}; this field needs "
+        unit, dimensionality = default_unit, _unit_dimensionality(default_unit)
+    if dimensionality != _dimensionality(dim):
+        raise InvalidInput(f"'{text}' is {_describe(dimensionality)}; this field needs "
                            f"{dim.article} {dim.name}", field)
-    si = float(q.to(dim.unit).magnitude)
+    si = magnitude * _factor(unit, dim.unit) + 0.0  # + 0.0: "-0 V" is 0, not -0
     if not math.isfinite(si):
-        raise InvalidInput(f"'{shown}' is not a finite {dim.name}", field)
+        raise InvalidInput(f"'{text}' is not a finite {dim.name}", field)
     if si < 0 and not allow_negative:
-        raise InvalidInput(f"'{shown}' is negative; {dim.article} {dim.name} here cannot be",
+        raise InvalidInput(f"'{text}' is negative; {dim.article} {dim.name} here cannot be",
                            field)
     if si == 0 and not allow_zero:
-        raise InvalidInput(f"'{shown}' is zero; this {dim.name} must be more than zero", field)
+        raise InvalidInput(f"'{text}' is zero; this {dim.name} must be more than zero", field)
+    problem = bound_problem(si, dim, field if bound is None else bound)
+    if problem:
+        raise InvalidInput(f"'{text}' {problem}", field)
     return si
 
 

@@ -14,6 +14,9 @@ import math
 from dataclasses import dataclass, field
 from datetime import date, datetime
 
+from .quantity import (CAPACITANCE, CURRENT, ENERGY, FREQUENCY, I2T, LENGTH, POWER, RESISTANCE,
+                       TIME, VOLTAGE, Dimension, bound_problem)
+
 # -- enumerations (the names the files, the database and the CLI share) -----------------------
 
 # The one list of measurement categories, lowest first: IEC 61010-1 measurement categories
@@ -54,6 +57,19 @@ ELEMENT_PARAMS: dict[str, tuple[str, ...]] = {
     "switch": ("gap", "withstand"),
     "input": ("resistance", "max_voltage"),
 }
+# The dimension of each front-end parameter, for parsing, writing back and the bounds.
+ELEMENT_PARAM_DIMS: dict[str, Dimension] = {
+    "resistance": RESISTANCE, "power": POWER, "pulse_energy": ENERGY,
+    "max_voltage": VOLTAGE, "hold_current": CURRENT, "trip_current": CURRENT,
+    "max_current": CURRENT, "trip_time": TIME, "trip_time_current": CURRENT,
+    "tripped_power": POWER, "varistor_voltage": VOLTAGE, "max_dc": VOLTAGE,
+    "max_ac": VOLTAGE, "clamp_voltage": VOLTAGE, "clamp_current": CURRENT,
+    "energy": ENERGY, "peak_current": CURRENT, "breakdown_voltage": VOLTAGE,
+    "peak_power": POWER, "sparkover_dc": VOLTAGE, "sparkover_impulse": VOLTAGE,
+    "arc_voltage": VOLTAGE, "holdover_voltage": VOLTAGE, "current": CURRENT,
+    "voltage": VOLTAGE, "voltage_dc": VOLTAGE, "breaking_capacity": CURRENT,
+    "i2t": I2T, "gap": LENGTH, "withstand": VOLTAGE,
+}
 
 DEFAULT_MAX_ALTITUDE = 2000.0  # m; IEC 61010-1 scope: equipment is rated up to 2000 m
 DEFAULT_POLLUTION_DEGREE = 2  # IEC 61010-1 default environment
@@ -77,7 +93,9 @@ def _check_choice(value, choices, name):
         raise SpecError(f"{name} must be one of {', '.join(choices)}, not {value!r}")
 
 
-def _check_quantity(value, name, *, positive=False):
+def _check_quantity(value, name, *, positive=False, dim: Dimension | str | None = None):
+    """A quantity field: ``None``, or a finite non-negative (``positive``: more than zero)
+    number within the bound of its field or ``dim`` (engine.quantity.bound_for)."""
     if value is None:
         return
     if isinstance(value, bool) or not isinstance(value, (int, float)):
@@ -85,6 +103,9 @@ def _check_quantity(value, name, *, positive=False):
     if not math.isfinite(value) or value < 0 or (positive and value == 0):
         raise SpecError(f"{name} must be a finite {'positive' if positive else 'non-negative'}"
                         f" number, not {value!r}")
+    problem = bound_problem(value, dim, name) if dim is not None else None
+    if problem:
+        raise SpecError(f"{name} {value!r} {problem}")
 
 
 # -- model specs -------------------------------------------------------------------------------
@@ -99,7 +120,7 @@ class Fuse:
 
     def __post_init__(self):
         for name in ("current", "voltage", "voltage_dc", "breaking_capacity", "i2t"):
-            _check_quantity(getattr(self, name), f"fuse.{name}")
+            _check_quantity(getattr(self, name), f"fuse.{name}", dim=ELEMENT_PARAM_DIMS[name])
 
 
 @dataclass(frozen=True)
@@ -111,9 +132,9 @@ class Rating:
 
     def __post_init__(self):
         _check_choice(self.category, CATEGORIES, "rating.category")
-        _check_quantity(self.voltage, "rating.voltage", positive=True)
-        _check_quantity(self.transient, "rating.transient")
-        _check_quantity(self.max_altitude, "rating.max_altitude")
+        _check_quantity(self.voltage, "rating.voltage", positive=True, dim=VOLTAGE)
+        _check_quantity(self.transient, "rating.transient", dim=VOLTAGE)
+        _check_quantity(self.max_altitude, "rating.max_altitude", dim=LENGTH)
 
 
 @dataclass(frozen=True)
@@ -143,9 +164,10 @@ class Mode:
                 raise SpecError("a clamp mode has no terminals")
         elif len(self.terminals) != 2 or self.terminals[0] == self.terminals[1]:
             raise SpecError("mode.terminals must name two different terminals")
-        for name in ("input_resistance", "input_capacitance", "max_input", "max_current",
-                     "max_duration", "discharge_energy"):
-            _check_quantity(getattr(self, name), f"mode.{name}")
+        for name, dim in (("input_resistance", RESISTANCE), ("input_capacitance", CAPACITANCE),
+                          ("max_input", VOLTAGE), ("max_current", CURRENT),
+                          ("max_duration", TIME), ("discharge_energy", ENERGY)):
+            _check_quantity(getattr(self, name), f"mode.{name}", dim=dim)
 
 
 @dataclass(frozen=True)
@@ -165,7 +187,7 @@ class Element:
         for name, value in self.params:
             if name not in allowed:
                 raise SpecError(f"element {self.id}: a {self.type} has no parameter {name}")
-            _check_quantity(value, f"element {self.id}.{name}")
+            _check_quantity(value, f"element {self.id}.{name}", dim=ELEMENT_PARAM_DIMS[name])
         object.__setattr__(self, "params", tuple(sorted(self.params)))
 
     def get(self, name: str) -> float | None:
@@ -214,13 +236,15 @@ class ModelSpec:
         if not self.key:
             raise SpecError("model.key must not be empty")
         _check_choice(self.kind, KINDS, "model.kind")
-        _check_quantity(self.max_altitude, "model.max_altitude", positive=True)
+        _check_quantity(self.max_altitude, "model.max_altitude", positive=True, dim=LENGTH)
         if self.pollution_degree not in (1, 2, 3, 4):
             raise SpecError("model.pollution_degree must be 1, 2, 3 or 4")
-        for name in ("current_rating", "tip_exposure", "attenuation", "required_load",
-                     "output_resistance", "min_voltage", "resistance", "energy", "power",
-                     "max_voltage"):
-            _check_quantity(getattr(self, name), f"model.{name}")
+        for name, dim in (("current_rating", CURRENT), ("tip_exposure", LENGTH),
+                          ("attenuation", "ratio"), ("required_load", RESISTANCE),
+                          ("output_resistance", RESISTANCE), ("min_voltage", VOLTAGE),
+                          ("resistance", RESISTANCE), ("energy", ENERGY), ("power", POWER),
+                          ("max_voltage", VOLTAGE)):
+            _check_quantity(getattr(self, name), f"model.{name}", dim=dim)
         if self.attenuation is not None and self.attenuation < 1:
             raise SpecError("model.attenuation is a ratio of at least 1 (1000 for 1000:1)")
         keys = [m.key for m in self.modes]
@@ -291,6 +315,11 @@ class UnitState:
 CIRCUIT_POSITIVE = ("voltage", "frequency", "transient", "source_impedance",
                     "prospective_current", "capacitance", "stored_energy", "current")
 CIRCUIT_QUANTITIES = ("voltage", "voltage_to_earth") + CIRCUIT_POSITIVE[1:]
+CIRCUIT_DIMENSIONS = {
+    "voltage": VOLTAGE, "voltage_to_earth": VOLTAGE, "frequency": FREQUENCY,
+    "transient": VOLTAGE, "source_impedance": RESISTANCE, "prospective_current": CURRENT,
+    "capacitance": CAPACITANCE, "stored_energy": ENERGY, "current": CURRENT,
+}
 
 
 def _choice_problem(value, choices, path: str) -> list[tuple[str, str]]:
@@ -301,7 +330,8 @@ def _choice_problem(value, choices, path: str) -> list[tuple[str, str]]:
     return []
 
 
-def _quantity_problem(value, path: str, *, positive: bool) -> list[tuple[str, str]]:
+def _quantity_problem(value, path: str, *, positive: bool,
+                      dim: Dimension | None = None) -> list[tuple[str, str]]:
     if value is None:
         return []
     if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
@@ -310,6 +340,9 @@ def _quantity_problem(value, path: str, *, positive: bool) -> list[tuple[str, st
         return [(path, "must not be negative")]
     if positive and value == 0:
         return [(path, "is zero; it must be more than zero")]
+    problem = bound_problem(value, dim, path) if dim is not None else None
+    if problem:
+        return [(path, f"{value!r} {problem}")]
     return []
 
 
@@ -325,7 +358,8 @@ def circuit_problems(supply, waveform, voltage, category=None, **quantities
     values = dict(quantities, voltage=voltage)
     for name in CIRCUIT_QUANTITIES:
         out += _quantity_problem(values.get(name), f"circuit.{name}",
-                                 positive=name in CIRCUIT_POSITIVE)
+                                 positive=name in CIRCUIT_POSITIVE,
+                                 dim=CIRCUIT_DIMENSIONS[name])
     if voltage is None:
         out.append(("circuit.voltage", "is missing; give the highest working voltage between "
                                        "the probed points, such as '480 V'"))
@@ -356,9 +390,9 @@ def plan_problems(task, circuit: "Circuit | None", *, altitude=0.0, duration=DEF
     quantities, what a task needs of the circuit (the current to measure, the capacitance to
     discharge) and what applies to one task only."""
     out = _choice_problem(task, TASKS, "task")
-    out += _quantity_problem(altitude, "site.altitude", positive=False)
-    out += _quantity_problem(duration, "duration", positive=True)
-    out += _quantity_problem(discharge_to, "discharge_to", positive=False)
+    out += _quantity_problem(altitude, "site.altitude", positive=False, dim=LENGTH)
+    out += _quantity_problem(duration, "duration", positive=True, dim=TIME)
+    out += _quantity_problem(discharge_to, "discharge_to", positive=False, dim=VOLTAGE)
     if task is not None and task != "discharge" and discharge_to is not None:
         out.append(("discharge_to", "applies to discharge tasks only"))
     if circuit is None:

@@ -6,24 +6,27 @@ from __future__ import annotations
 import json
 import math
 import re
-from datetime import date
+import unicodedata
+from datetime import date, datetime, timezone
 from pathlib import Path
 from typing import Annotated, Any
 
 import yaml
-from pydantic import BeforeValidator, ValidationError, WithJsonSchema
+from pydantic import BeforeValidator, ValidationError, ValidationInfo, WithJsonSchema
 from pydantic_core import PydanticCustomError
 
 from .. import units as u
-from ..errors import FieldProblem, InvalidInput
+from ..errors import FieldProblem, InvalidInput, shown
 
 QUANTITY_PATTERN = r"^\s*[-+]?[0-9.]+([eE][-+]?[0-9]+)?\s*[A-Za-zµμΩ^*/0-9 ]*$"
 
 
 def _quantity_validator(dim: u.Dimension, positive: bool):
-    def parse(value: Any) -> float:
+    def parse(value: Any, info: ValidationInfo) -> float:
+        # the field's name picks its bound (units.parse_quantity, engine.quantity.FIELD_BOUNDS)
         try:
-            return u.parse_quantity(value, dim, "", allow_zero=not positive)
+            return u.parse_quantity(value, dim, "", allow_zero=not positive,
+                                    bound=info.field_name or "")
         except InvalidInput as exc:
             raise PydanticCustomError("quantity", exc.problems[0].message) from None
     return parse
@@ -49,16 +52,80 @@ Frequency = Quantity(u.FREQUENCY)
 I2t = Quantity(u.I2T)
 
 
+# The calendar the package takes: an event, a verification or a job day outside these years
+# is a typing error (0026 for 2026), and Python's own range (years 1 to 9999) must never be
+# reached by arithmetic on it; common practice (no source).
+FIRST_YEAR, LAST_YEAR = 1900, 2200
+
+
+def _year_problem(year: int, text) -> str | None:
+    if FIRST_YEAR <= year <= LAST_YEAR:
+        return None
+    return (f"'{shown(text)}' is in the year {year}; give a date from {FIRST_YEAR} to "
+            f"{LAST_YEAR}")
+
+
 def parse_date(text, field: str) -> date | None:
-    """A calendar date typed as YYYY-MM-DD (blank: ``None``); anything else is refused with a
-    message naming ``field``."""
+    """A calendar date typed as YYYY-MM-DD (blank: ``None``) in the years
+    :data:`FIRST_YEAR` to :data:`LAST_YEAR`; anything else is refused with a message naming
+    ``field``."""
     if text is None or not str(text).strip():
         return None
+    if isinstance(text, date):
+        day = text
+    else:
+        try:
+            if text_problem(str(text)):  # Python's parser lets some through ("...\x00")
+                raise ValueError
+            day = date.fromisoformat(str(text).strip())
+        except ValueError:
+            raise InvalidInput(f"'{shown(text)}' is not a date; write it as YYYY-MM-DD, e.g. "
+                               "2026-03-01", field) from None
+    problem = _year_problem(day.year, text)
+    if problem:
+        raise InvalidInput(problem, field)
+    return day
+
+
+def parse_time(text, field: str) -> datetime | None:
+    """An ISO 8601 time (``2026-03-01T14:30``, ``...+01:00``, ``...Z``) as naive UTC; a time
+    without an offset is local time; blank is ``None``. The years are those of
+    :func:`parse_date`; anything else raises :class:`InvalidInput` naming ``field``."""
+    if text is None or not str(text).strip():
+        return None
+    bad = InvalidInput(f"'{shown(text)}' is not an ISO 8601 time such as 2026-03-01T14:30 or "
+                       "2026-03-01T14:30+01:00", field)
     try:
-        return date.fromisoformat(str(text).strip())
+        if text_problem(str(text)):  # Python's parser lets some through ("14:30\x00")
+            raise ValueError
+        t = datetime.fromisoformat(str(text).strip().replace("Z", "+00:00"))
     except ValueError:
-        raise InvalidInput(f"'{text}' is not a date; write it as YYYY-MM-DD, e.g. 2026-03-01",
-                           field) from None
+        raise bad from None
+    problem = _year_problem(t.year, text)
+    if problem:
+        raise InvalidInput(problem, field)
+    try:
+        return t.astimezone(timezone.utc).replace(tzinfo=None)
+    except (OverflowError, ValueError, OSError):
+        raise bad from None
+
+
+def _date_validator(value: Any) -> Any:
+    if isinstance(value, bool) or isinstance(value, (int, float)):
+        # a bare number is not a date (pydantic would read 0 as 1970-01-01)
+        raise PydanticCustomError("text", "must be a date written as YYYY-MM-DD, e.g. 2026-03-01")
+    if value is None or isinstance(value, date):
+        return value
+    if not isinstance(value, str):
+        return value  # the date type's own validation refuses it
+    try:
+        return parse_date(value, "")
+    except InvalidInput as exc:
+        raise PydanticCustomError("text", exc.problems[0].message) from None
+
+
+# A pydantic date field: YYYY-MM-DD text in the years FIRST_YEAR to LAST_YEAR.
+Date = Annotated[date, BeforeValidator(_date_validator)]
 
 
 def text_defaults(node):
@@ -104,7 +171,7 @@ def _friendly(err: dict) -> str:
         return "is not a field of this format"
     if kind in ("literal_error", "enum"):
         expected = err.get("ctx", {}).get("expected", "")
-        return f"'{err.get('input')}' is not allowed; use {expected}"
+        return f"'{shown(err.get('input'))}' is not allowed; use {expected}"
     if kind in ("quantity", "text", "ratio"):
         return err["msg"]
     msg = err["msg"]
@@ -162,13 +229,23 @@ class CoreLoader(yaml.SafeLoader):
 
     yaml_implicit_resolvers: dict = {}
 
+    depth = 0
+
     def compose_node(self, parent, index):
         event = self.peek_event()
         if isinstance(event, yaml.AliasEvent) or getattr(event, "anchor", None) is not None:
             raise yaml.composer.ComposerError(
                 None, None, "anchors and aliases (&name, *name) are not accepted; write each "
                 "value out in full", event.start_mark)
-        return super().compose_node(parent, index)
+        # PyYAML composes nested nodes by recursion: the depth is held to MAX_DEPTH long
+        # before Python's recursion limit is reached
+        if self.depth >= MAX_DEPTH:
+            raise yaml.composer.ComposerError(None, None, too_deep(), event.start_mark)
+        self.depth += 1
+        try:
+            return super().compose_node(parent, index)
+        finally:
+            self.depth -= 1
 
     def construct_mapping(self, node, deep=False):
         if isinstance(node, yaml.MappingNode):
@@ -203,7 +280,8 @@ class CoreLoader(yaml.SafeLoader):
                 value = int(body, 10)
         except ValueError:
             raise yaml.constructor.ConstructorError(
-                None, None, f"'{text}' is not an integer", node.start_mark) from None
+                None, None, f"'{shown(text)}' is not an integer (or has too many digits)",
+                node.start_mark) from None
         return _with_text(TextInt, value, text)
 
     def construct_core_float(self, node):
@@ -220,7 +298,7 @@ class CoreLoader(yaml.SafeLoader):
                 value = float(body)
         except ValueError:
             raise yaml.constructor.ConstructorError(
-                None, None, f"'{text}' is not a number", node.start_mark) from None
+                None, None, f"'{shown(text)}' is not a number", node.start_mark) from None
         return _with_text(TextFloat, value, text)
 
     def construct_not_core(self, node):
@@ -252,39 +330,121 @@ CoreLoader.yaml_constructors = {
 }
 
 
-def load_yaml(text: str, *, what: str = "") -> Any:
-    """The one YAML reader: ``text`` read with :class:`CoreLoader`. Malformed text raises
+# The limits of a document, checked before it is parsed: nesting (a fleet file nests 6 levels,
+# a plan 3; PyYAML and Python's json module recurse once per level and would fail with a
+# RecursionError at a few hundred) and size (the demo fleet is 12 kB: 20 MB is a fleet of
+# tens of thousands of units); common practice (no source). Plans have their own, smaller
+# size (plans.MAX_PLAN_BYTES).
+MAX_DEPTH = 64
+MAX_DOCUMENT_BYTES = 20 * 1024 * 1024
+
+
+def too_deep() -> str:
+    return (f"lists and mappings nest more than {MAX_DEPTH} levels deep; a withstand file "
+            "needs fewer than 10")
+
+
+def _where(what: str) -> str:
+    return f"{what} is " if what else ""
+
+
+def _too_big(what: str, limit: int) -> InvalidInput:
+    return InvalidInput(f"{_where(what)}too large: a document here may hold at most {limit} "
+                        f"bytes ({limit / (1024 * 1024):g} MB)")
+
+
+def _check_length(text: str, max_bytes: int | None, what: str) -> None:
+    # a character is at least one byte of UTF-8; at most four
+    if max_bytes is not None and len(text) > max_bytes:
+        raise _too_big(what, max_bytes)
+    if max_bytes is not None and len(text) * 4 > max_bytes:
+        size = len(text.encode("utf-8", "surrogatepass"))
+        if size > max_bytes:
+            raise _too_big(what, max_bytes)
+
+
+def load_yaml(text: str, *, what: str = "", max_bytes: int | None = MAX_DOCUMENT_BYTES) -> Any:
+    """The one YAML reader: ``text`` read with :class:`CoreLoader`. Malformed text, text
+    nesting deeper than :data:`MAX_DEPTH` or longer than ``max_bytes`` raises
     :class:`InvalidInput` saying where (``what`` names the file or box, if given)."""
+    _check_length(text, max_bytes, what)
     try:
         return yaml.load(text, Loader=CoreLoader)  # noqa: S506 - a safe loader
     except yaml.YAMLError as exc:
         mark = getattr(exc, "problem_mark", None)
         where = f" at line {mark.line + 1} column {mark.column + 1}" if mark else ""
         problem = getattr(exc, "problem", None) or str(exc).splitlines()[0]
-        raise InvalidInput(f"{what + ' is ' if what else ''}not valid YAML or JSON{where}: "
-                           f"{problem}") from None
+        raise InvalidInput(f"{_where(what)}not valid YAML or JSON{where}: "
+                           f"{shown(problem, 200)}") from None
+    except RecursionError:  # not reached: MAX_DEPTH stops it first
+        raise InvalidInput(f"{_where(what)}not accepted: {too_deep()}") from None
 
 
-def load_json(text: str, *, what: str = "") -> Any:
-    """JSON text, numbers keeping the text they were written as (like :func:`load_yaml`)."""
+_JSON_STRING = re.compile(r'"[^"\\]*(?:\\.[^"\\]*)*"', re.S)
+_NOT_BRACKET = re.compile(r"[^\[\]{}]+")
+
+
+def json_depth_problem(text: str) -> str | None:
+    """Whether JSON text nests deeper than :data:`MAX_DEPTH` (brackets in strings do not
+    count), found without parsing it, so the json module's recursion is never reached."""
+    if text.count("[") + text.count("{") <= MAX_DEPTH:
+        return None
+    brackets = _NOT_BRACKET.sub("", _JSON_STRING.sub("", text))
+    depth = 0
+    for ch in brackets:
+        if ch in "[{":
+            depth += 1
+            if depth > MAX_DEPTH:
+                return too_deep()
+        else:
+            depth -= 1
+    return None
+
+
+def _json_int(text: str):
     try:
-        return json.loads(text, parse_int=lambda s: _with_text(TextInt, int(s), s),
+        return _with_text(TextInt, int(text), text)
+    except ValueError:  # more digits than Python converts (sys.get_int_max_str_digits)
+        raise InvalidInput(f"the number '{shown(text)}' has too many digits") from None
+
+
+def load_json(text: str, *, what: str = "", max_bytes: int | None = MAX_DOCUMENT_BYTES) -> Any:
+    """JSON text, numbers keeping the text they were written as (like :func:`load_yaml`),
+    with the same limits of depth and size."""
+    _check_length(text, max_bytes, what)
+    problem = json_depth_problem(text)
+    if problem:
+        raise InvalidInput(f"{_where(what)}not accepted: {problem}")
+    try:
+        return json.loads(text, parse_int=_json_int,
                           parse_float=lambda s: _with_text(TextFloat, float(s), s))
     except json.JSONDecodeError as exc:
-        raise InvalidInput(f"{what + ' is ' if what else ''}not valid JSON: {exc.msg} at line "
+        raise InvalidInput(f"{_where(what)}not valid JSON: {exc.msg} at line "
                            f"{exc.lineno} column {exc.colno}") from None
+    except InvalidInput as exc:  # a number with too many digits
+        raise InvalidInput(f"{_where(what)}not accepted: {exc}") from None
+    except RecursionError:  # not reached: json_depth_problem stops it first
+        raise InvalidInput(f"{_where(what)}not accepted: {too_deep()}") from None
 
 
-def read_text(path: str | Path) -> str:
-    """A file's text, which must be UTF-8; a missing, unreadable or non-UTF-8 file raises
-    :class:`InvalidInput` naming it."""
+def read_text(path: str | Path, *, max_bytes: int = MAX_DOCUMENT_BYTES) -> str:
+    """A file's text, which must be UTF-8 and at most ``max_bytes`` long; a missing,
+    unreadable, oversized or non-UTF-8 file raises :class:`InvalidInput` naming it. Never
+    more than ``max_bytes`` + 1 bytes are read (a device or pipe given as the file cannot
+    fill the memory)."""
     p = Path(path)
     try:
-        data = p.read_bytes()
+        with open(p, "rb") as f:
+            data = f.read(max_bytes + 1)
     except FileNotFoundError:
-        raise InvalidInput(f"cannot read '{p}': the file does not exist") from None
+        raise InvalidInput(f"cannot read '{shown(p, 200)}': the file does not exist") from None
     except OSError as exc:
-        raise InvalidInput(f"cannot read '{p}': {exc.strerror or exc}") from None
+        raise InvalidInput(f"cannot read '{shown(p, 200)}': {exc.strerror or exc}") from None
+    except ValueError:  # a NUL in the path
+        raise InvalidInput(f"cannot read '{shown(p, 200)}': a file name cannot hold a NUL "
+                           "character") from None
+    if len(data) > max_bytes:
+        raise _too_big(f"'{shown(p, 200)}'", max_bytes)
     try:
         return data.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
@@ -292,20 +452,23 @@ def read_text(path: str | Path) -> str:
 
 
 def not_utf8(path: str | Path, exc: UnicodeDecodeError) -> str:
-    return (f"'{path}' is not UTF-8 text (byte 0x{exc.object[exc.start]:02x} at "
+    return (f"'{shown(path, 200)}' is not UTF-8 text (byte 0x{exc.object[exc.start]:02x} at "
             f"offset {exc.start}); save it as UTF-8 and try again")
 
 
-def read_document(path: str | Path) -> Any:
-    """Read a JSON or YAML file; unreadable or malformed text raises InvalidInput."""
+def read_document(path: str | Path, *, max_bytes: int = MAX_DOCUMENT_BYTES) -> Any:
+    """Read a JSON or YAML file of at most ``max_bytes``; unreadable, oversized, too deeply
+    nested or malformed text raises InvalidInput."""
     p = Path(path)
-    return parse_text(read_text(p), json_only=p.suffix.lower() == ".json", what=f"'{p}'")
+    return parse_text(read_text(p, max_bytes=max_bytes), json_only=p.suffix.lower() == ".json",
+                      what=f"'{shown(p, 200)}'", max_bytes=max_bytes)
 
 
-def parse_text(text: str, *, json_only: bool = False, what: str = "") -> Any:
+def parse_text(text: str, *, json_only: bool = False, what: str = "",
+               max_bytes: int | None = MAX_DOCUMENT_BYTES) -> Any:
     if json_only:
-        return load_json(text, what=what)
-    return load_yaml(text, what=what)  # JSON is YAML too
+        return load_json(text, what=what, max_bytes=max_bytes)
+    return load_yaml(text, what=what, max_bytes=max_bytes)  # JSON is YAML too
 
 
 # -- text fields -------------------------------------------------------------------------------
@@ -329,15 +492,60 @@ def as_text(value: Any) -> Any:
     return value
 
 
-def _text_validator(value: Any) -> Any:
+# Characters no text field takes: control characters (NUL, escape, DEL, the C1 range), lone
+# surrogates (not text; they cannot be stored as UTF-8), the line and paragraph separators, and
+# the bidirectional overrides and isolates, which make text display in another order than it
+# is stored (CVE-2021-42574, "Trojan Source"). A multi-line note also takes tab, newline and
+# carriage return.
+_BIDI = set("\u202a\u202b\u202c\u202d\u202e\u2066\u2067\u2068\u2069")
+_NOTE_CONTROLS = set("\t\n\r")
+
+
+def text_problem(value: str, *, multiline: bool = False) -> str | None:
+    """What is wrong with ``value`` as the text of a field, or ``None``: the first character
+    it may not hold, with its position."""
+    for i, ch in enumerate(value):
+        if multiline and ch in _NOTE_CONTROLS:
+            continue
+        category = unicodedata.category(ch)
+        if category in ("Cc", "Cs", "Zl", "Zp") or ch in _BIDI:
+            what = {"\x00": "a NUL character", "\t": "a tab", "\n": "a line break",
+                    "\r": "a carriage return"}.get(ch, f"the control character U+{ord(ch):04X}")
+            return (f"holds {what} at position {i + 1}; "
+                    + ("a note takes letters, digits, punctuation, tabs and line breaks"
+                       if multiline else "this field takes one line of printable text"))
+    return None
+
+
+def check_text(value: str, field: str, *, multiline: bool = False) -> str:
+    """``value`` if it is acceptable text for ``field``, else :class:`InvalidInput`."""
+    problem = text_problem(value, multiline=multiline)
+    if problem:
+        raise InvalidInput(problem, field)
+    return value
+
+
+def _text_validator(value: Any, multiline: bool = False) -> Any:
     try:
-        return as_text(value)
+        value = as_text(value)
     except ValueError as exc:
         raise PydanticCustomError("text", str(exc)) from None
+    if isinstance(value, str):
+        problem = text_problem(value, multiline=multiline)
+        if problem:
+            raise PydanticCustomError("text", problem)
+    return value
 
 
-# A pydantic text field that keeps a number's written text (see :func:`as_text`).
+def _note_validator(value: Any) -> Any:
+    return _text_validator(value, multiline=True)
+
+
+# A pydantic text field that keeps a number's written text (see :func:`as_text`): one line,
+# no control characters (:func:`text_problem`).
 Text = Annotated[str, BeforeValidator(_text_validator)]
+# The same for a note of several lines: tabs and line breaks are allowed.
+NoteText = Annotated[str, BeforeValidator(_note_validator)]
 
 
 def text_of(value: float | None, dim: u.Dimension) -> str | None:

@@ -20,25 +20,16 @@ from pydantic_core import PydanticCustomError
 
 from .. import units as u
 from ..engine import spec
-from ..errors import FieldProblem, InvalidInput
-from .common import (Capacitance, Current, Duration, Energy, I2t, Length, Power, Resistance,
-                     Text, Voltage, path_of, problems_from, read_document, text_defaults, text_of)
+from ..engine.quantity import bound_problem
+from ..errors import FieldProblem, InvalidInput, shown
+from .common import (Capacitance, Current, Date, Duration, Energy, I2t, Length, NoteText, Power,
+                     Resistance, Text, Voltage, path_of, problems_from, read_document,
+                     text_defaults, text_of)
 
 FORMAT = "withstand-fleet/1"
 
-# The dimension of each front-end parameter, for parsing and for writing back.
-ELEMENT_PARAM_DIMS: dict[str, u.Dimension] = {
-    "resistance": u.RESISTANCE, "power": u.POWER, "pulse_energy": u.ENERGY,
-    "max_voltage": u.VOLTAGE, "hold_current": u.CURRENT, "trip_current": u.CURRENT,
-    "max_current": u.CURRENT, "trip_time": u.TIME, "trip_time_current": u.CURRENT,
-    "tripped_power": u.POWER, "varistor_voltage": u.VOLTAGE, "max_dc": u.VOLTAGE,
-    "max_ac": u.VOLTAGE, "clamp_voltage": u.VOLTAGE, "clamp_current": u.CURRENT,
-    "energy": u.ENERGY, "peak_current": u.CURRENT, "breakdown_voltage": u.VOLTAGE,
-    "peak_power": u.POWER, "sparkover_dc": u.VOLTAGE, "sparkover_impulse": u.VOLTAGE,
-    "arc_voltage": u.VOLTAGE, "holdover_voltage": u.VOLTAGE, "current": u.CURRENT,
-    "voltage": u.VOLTAGE, "voltage_dc": u.VOLTAGE, "breaking_capacity": u.CURRENT,
-    "i2t": u.I2T, "gap": u.LENGTH, "withstand": u.VOLTAGE,
-}
+# The dimension of each front-end parameter (the engine's table, which its bounds read too).
+ELEMENT_PARAM_DIMS: dict[str, u.Dimension] = spec.ELEMENT_PARAM_DIMS
 
 
 class _Doc(BaseModel):
@@ -60,21 +51,27 @@ def parse_ratio(value: Any) -> float:
     if not isinstance(value, (int, float, str)):
         raise ValueError(f"'{value}' is not a ratio; write it as 1000:1 or 1000")
     if isinstance(value, str):
-        m = _RATIO.fullmatch(value)
+        m = _RATIO.fullmatch(value) if len(value) <= 100 else None
         if not m:
-            raise ValueError(f"'{value}' is not a ratio; write it as 1000:1 or 1000")
+            raise ValueError(f"'{shown(value)}' is not a ratio; write it as 1000:1 or 1000")
         out = float(m.group(1))
         if m.group(2) is not None:
             below = float(m.group(2))
             if below == 0:
-                raise ValueError(f"'{value}' divides by zero; write the ratio as input:output, "
-                                 "e.g. 1000:1")
+                raise ValueError(f"'{shown(value)}' divides by zero; write the ratio as "
+                                 "input:output, e.g. 1000:1")
             out /= below
     else:
-        out = float(value)
+        try:
+            out = float(value)
+        except OverflowError:  # an integer too large for a float
+            out = math.inf
     if not math.isfinite(out) or out < 1:
-        raise ValueError(f"'{value}' is not an attenuation: the ratio is input:output and at "
-                         "least 1:1, e.g. 1000:1")
+        raise ValueError(f"'{shown(value)}' is not an attenuation: the ratio is input:output "
+                         "and at least 1:1, e.g. 1000:1")
+    problem = bound_problem(out, "ratio", "attenuation")  # the one table of bounds
+    if problem:
+        raise ValueError(f"'{shown(value)}' {problem}")
     return out
 
 
@@ -194,9 +191,9 @@ class UnitDoc(_Doc):
     site: Text | None = None
     custodian: Text = ""
     status: Literal[spec.UNIT_STATUSES] = "in-service"  # type: ignore[valid-type]
-    verified_on: date | None = None
-    verification_due: date | None = None
-    notes: Text = ""
+    verified_on: Date | None = None
+    verification_due: Date | None = None
+    notes: NoteText = ""
 
 
 class FleetDoc(_Doc):
@@ -336,7 +333,7 @@ def parse_fleet(data: Any, *, known_models: set[str] = frozenset(),
         raise InvalidInput("a fleet file is a mapping with 'format: withstand-fleet/1' at the "
                            "top")
     if data.get("format") != FORMAT:
-        raise InvalidInput(f"must be '{FORMAT}', not {data.get('format')!r}", "format")
+        raise InvalidInput(f"must be '{FORMAT}', not '{shown(data.get('format'))}'", "format")
     problems: list[FieldProblem] = []
     extra = sorted(set(data) - {"format", "sites", "models", "units"})
     problems += [FieldProblem(k, "is not a field of this format") for k in extra]

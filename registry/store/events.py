@@ -30,6 +30,7 @@ from sqlalchemy.orm import Session
 from ..engine import events as ev_engine
 from ..engine.events import Assessment, Stress
 from ..errors import InvalidInput, NotAllowed, NotFound
+from ..formats.common import FIRST_YEAR, LAST_YEAR, check_text
 from . import models as m
 from .chain import GENESIS, ChainState, chain_key, keyed_hash
 from .db import Database
@@ -150,6 +151,10 @@ def log_event(db: Database, *, unit: str, kind: str, by: str, mode: str | None =
     """Validate and record one event (SI floats; ``at`` naive UTC, default now; ``waveform``
     ``ac``, ``dc`` or ``None`` when not known), opening a hold when the assessment calls for
     one. Nothing is written when anything is invalid."""
+    check_text(note or "", "note", multiline=True)
+    if at is not None and not FIRST_YEAR <= at.year <= LAST_YEAR:
+        raise InvalidInput(f"{at.isoformat(timespec='seconds')} is in the year {at.year}; give "
+                           f"a time from {FIRST_YEAR} to {LAST_YEAR}", "at")
     stress = Stress(kind, voltage, energy, duration, waveform)
     with db.transaction(immediate=True) as session:
         lock_chain(session)  # before reading anything the append depends on

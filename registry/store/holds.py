@@ -16,6 +16,7 @@ from sqlalchemy.orm import Session
 
 from ..engine.spec import INSPECTION_RESULTS
 from ..errors import InvalidInput, NotFound
+from ..formats.common import check_text
 from . import models as m
 from .chain import link_hold_opened, link_hold_released
 from .db import Database
@@ -72,6 +73,7 @@ def release_hold(db: Database, *, unit: str, result: str, by: str, note: str = "
     if result not in INSPECTION_RESULTS:
         raise InvalidInput(f"'{result}' is not an inspection result; use "
                            f"{', '.join(INSPECTION_RESULTS)}", "result")
+    check_text(note or "", "note", multiline=True)
     with db.transaction(immediate=True) as session:  # a writer from the start: no lock upgrade
         user = get_user(session, by)
         require_role(user, RELEASE_ROLES, "releasing a hold")

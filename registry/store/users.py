@@ -12,10 +12,15 @@ from sqlalchemy.orm import Session
 from werkzeug.security import check_password_hash, generate_password_hash
 
 from ..errors import InvalidInput, NotFound
+from ..formats.common import check_text
 from . import models as m
 from .fleet import utcnow
 
 MIN_PASSWORD_LENGTH = 10
+# NIST SP 800-63B 5.1.1.2 asks verifiers to allow passwords of at least 64 characters (from
+# memory); 256 allows pass phrases and keeps a hash of a megabyte of text out of reach.
+MAX_PASSWORD_LENGTH = 256
+MAX_DISPLAY_NAME_LENGTH = 120  # as a site or terminal name in the fleet file
 USERNAME = re.compile(r"^[a-z0-9][a-z0-9._-]{1,63}$")
 
 
@@ -34,9 +39,24 @@ def validate_role(role: str) -> str:
 
 
 def validate_password(password: str) -> str:
+    if not isinstance(password, str) and password is not None:
+        raise InvalidInput("must be text", "password")
     if len(password or "") < MIN_PASSWORD_LENGTH:
         raise InvalidInput(f"must be at least {MIN_PASSWORD_LENGTH} characters", "password")
+    if len(password) > MAX_PASSWORD_LENGTH:
+        raise InvalidInput(f"must be at most {MAX_PASSWORD_LENGTH} characters", "password")
+    # a NUL or another control character cannot be typed at a login form: refused, so that
+    # no login exists that only a script could use (tabs too: they do not show)
+    check_text(password, "password")
     return password
+
+
+def validate_display_name(name: str) -> str:
+    name = (name or "").strip()
+    if len(name) > MAX_DISPLAY_NAME_LENGTH:
+        raise InvalidInput(f"must be at most {MAX_DISPLAY_NAME_LENGTH} characters",
+                           "display_name")
+    return check_text(name, "display_name")
 
 
 def get_user(session: Session, username: str) -> m.User:
@@ -51,6 +71,7 @@ def add_user(session: Session, username: str, role: str, password: str,
     username = validate_username(username)
     validate_role(role)
     validate_password(password)
+    display_name = validate_display_name(display_name)
     if session.scalar(select(m.User.id).where(m.User.username == username)) is not None:
         raise InvalidInput(f"'{username}' exists already", "username")
     user = m.User(username=username, role=role, display_name=display_name or username,
