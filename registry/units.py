@@ -79,6 +79,7 @@ def parse_quantity(value, dim: Dimension, field: str = "", *, default_unit: str 
                            field)
     try:
         q = ureg.Quantity(text)
+        float(getattr(q, "magnitude", q))  # an integer past a double's range: OverflowError
     except Exception:
         raise InvalidInput(f"'{shown}' is not a quantity this field understands; "
                            f"write {dim.article} {dim.name} such as '{example_text(dim)}'", field) \

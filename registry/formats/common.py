@@ -263,6 +263,8 @@ def load_yaml(text: str, *, what: str = "") -> Any:
         problem = getattr(exc, "problem", None) or str(exc).splitlines()[0]
         raise InvalidInput(f"{what + ' is ' if what else ''}not valid YAML or JSON{where}: "
                            f"{problem}") from None
+    except RecursionError:  # nesting deeper than the composer's recursion can follow
+        raise InvalidInput(f"{what + ' is ' if what else ''}nested too deeply") from None
 
 
 def load_json(text: str, *, what: str = "") -> Any:

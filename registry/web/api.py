@@ -10,7 +10,7 @@ from __future__ import annotations
 import functools
 from datetime import date, datetime
 
-from flask import Blueprint, Response, g, jsonify, request, url_for
+from flask import Blueprint, Response, current_app, g, jsonify, request, url_for
 from pydantic.json_schema import models_json_schema
 from sqlalchemy import select
 from sqlalchemy.orm import selectinload
@@ -28,6 +28,7 @@ from ..store.specs import model_spec, unit_record
 from ..store.users import user_for_token
 from .audit import XLSX
 from .auth import ROLE_RANK
+from .limits import check_texts, int_arg, parse_json_body
 from .schemas import EventRequest, HoldRelease, plan_schema, validated
 
 bp = Blueprint("api", __name__, url_prefix="/api/v1")
@@ -85,6 +86,9 @@ def token_required(role: str):
             if ROLE_RANK[user.role] < ROLE_RANK[role]:
                 raise ApiError(403, f"a {user.role} may not do this; it needs a {role}")
             g.api_user = user
+            problems = check_texts(request.args.items(multi=True), multiline=())
+            if problems:
+                raise InvalidInput(problems)
             return view(*args, **kwargs)
         inner.required_role = role
         inner.api_auth = "bearer"
@@ -92,15 +96,18 @@ def token_required(role: str):
     return wrap
 
 
-def json_body():
-    if request.content_length and request.content_length > 1024 * 1024:
+def json_body() -> dict:
+    """The request's body as a JSON object: the one reader every API route uses. Over
+    ``MAX_CONTENT_LENGTH`` is a 413; not JSON, a byte-order mark, not UTF-8, nested too deep,
+    not an object or text with control characters is a 400 naming the field (``limits``)."""
+    limit = current_app.config.get("MAX_CONTENT_LENGTH") or 1024 * 1024
+    if request.content_length and request.content_length > limit:
         raise ApiError(413, "the body is larger than 1 MiB")
-    data = request.get_json(silent=True)
-    if data is None:
+    if not request.is_json:
         raise ApiError(400, "the body must be a JSON document",
                        [FieldProblem("", "send Content-Type: application/json with a JSON "
                                          "object")])
-    return data
+    return parse_json_body(request.get_data(cache=True))
 
 
 def _date_arg(name: str) -> date | None:
@@ -143,7 +150,7 @@ def units():
     fq, _typed = fleet_query(request.args, errors)
     if errors:
         raise InvalidInput([FieldProblem(k, msg) for k, msgs in errors.items() for msg in msgs])
-    fq.size = min(max(request.args.get("size", 100, type=int) or 100, 1), MAX_PAGE)
+    fq.size = min(max(int_arg(request.args, "size", 100) or 100, 1), MAX_PAGE)
     page = queries.fleet_page(db.session, fq)
     return {"units": [unit_json(x) for x in page.units], "total": page.total,
             "page": page.page, "pages": page.pages}

@@ -58,7 +58,7 @@ def index():
     _since, _site, typed = audit_args(request.args, errors)
     return render_template("audit/index.html", typed=typed, errors=errors,
                            sites=queries.site_names(db.session),
-                           chain=verify_chain(db.session))
+                           chain=verify_chain(db.session)), (400 if errors else 200)
 
 
 @bp.route("/workbook.xlsx")
