@@ -8,6 +8,7 @@ what CSRF abuses; the session cookie is ignored by every endpoint.
 from __future__ import annotations
 
 import functools
+import json
 from datetime import date, datetime
 
 from flask import Blueprint, Response, current_app, g, jsonify, request, url_for
@@ -299,6 +300,23 @@ def openapi_document() -> dict:
                                         "excluded": {"type": "array", "items": {"type": "object"}},
                                         "cautions": {"type": "array", "items": {"type": "string"}}}}
     ref = lambda name: {"$ref": f"#/components/schemas/{name}"}
+    nullable = lambda schema: {"anyOf": [schema, {"type": "null"}]}
+    schemas["Hold"] = {"type": "object", "description": "a unit's hold (hold_json)",
+                       "required": ["id", "unit", "event", "opened_at", "reason",
+                                    "released_at", "released_by", "result", "note"],
+                       "properties": {"id": {"type": "integer"}, "unit": {"type": "string"},
+                                      "event": nullable({"type": "integer"}),
+                                      "opened_at": {"type": "string"},
+                                      "reason": {"type": "string"},
+                                      "released_at": nullable({"type": "string"}),
+                                      "released_by": nullable({"type": "string"}),
+                                      "result": nullable({"type": "string"}),
+                                      "note": {"type": "string"}}}
+    # a unit as the API answers it: the fleet file's unit and its open hold, if any
+    unit_answer = json.loads(json.dumps(schemas["UnitDoc"]))
+    unit_answer["title"] = "Unit"
+    unit_answer["properties"]["open_hold"] = nullable(ref("Hold"))
+    schemas["Unit"] = unit_answer
     err = lambda text: {"description": text, "content": {"application/json": {"schema": ref("Error")}}}
     ok = lambda text, schema=None: {"description": text, "content": {
         "application/json": {"schema": schema or {"type": "object"}}}}
@@ -321,12 +339,12 @@ def openapi_document() -> dict:
                                           q("page", "page number", {"type": "integer"}),
                                           q("size", "units per page", {"type": "integer"})],
                            "responses": {"200": ok("units, each as in the fleet file", {
-                               "type": "object", "properties": {"units": {"type": "array", "items": ref("UnitDoc")},
+                               "type": "object", "properties": {"units": {"type": "array", "items": ref("Unit")},
                                                                 "total": {"type": "integer"}}}),
                                          "400": err("a filter is not valid"), **common}}},
         "/units/{tag}": {"get": {"summary": "One unit", "parameters": [
             {"name": "tag", "in": "path", "required": True, "schema": {"type": "string"}}],
-            "responses": {"200": ok("the unit", ref("UnitDoc")), "404": err("no such unit"),
+            "responses": {"200": ok("the unit", ref("Unit")), "404": err("no such unit"),
                           **common}}},
         "/models": {"get": {"summary": "List models", "responses": {
             "200": ok("models, each as in the fleet file", {
@@ -353,7 +371,9 @@ def openapi_document() -> dict:
                                    **common}}},
         "/holds": {"get": {"summary": "List holds (open ones unless open=0)",
                            "parameters": [q("open", "0 for every hold", {"enum": ["0", "1"]})],
-                           "responses": {"200": ok("holds"), **common}}},
+                           "responses": {"200": ok("holds", {"type": "object", "required": ["holds"], "properties": {
+                               "holds": {"type": "array", "items": ref("Hold")}}}),
+                               "400": err("a parameter is not valid"), **common}}},
         "/holds/{id}/release": {"post": {"summary": "Release a hold (steward)", "parameters": [
             {"name": "id", "in": "path", "required": True, "schema": {"type": "integer"}}],
             "requestBody": body("HoldRelease"),
@@ -370,6 +390,12 @@ def openapi_document() -> dict:
         "responses": {"200": {"description": "the workbook", "content": {
             XLSX: {"schema": {"type": "string", "format": "binary"}}}},
             "400": err("a parameter is not valid"), **common}}}
+    for path_item in paths.values():
+        for method, op in path_item.items():
+            # every route refuses a query parameter holding a control character (limits.py)
+            op["responses"].setdefault("400", err("a parameter or the body is not valid"))
+            if method == "post":
+                op["responses"].setdefault("413", err("the body is over 1 MiB"))
     return {"openapi": "3.1.0",
             "info": {"title": "withstand API", "version": "1",
                      "description": "Fleet registry and job checks. Quantities are text with "
