@@ -87,7 +87,9 @@ def token_required(role: str):
             if ROLE_RANK[user.role] < ROLE_RANK[role]:
                 raise ApiError(403, f"a {user.role} may not do this; it needs a {role}")
             g.api_user = user
-            problems = check_texts(request.args.items(multi=True), multiline=())
+            problems = check_texts([*request.args.items(multi=True),
+                                    *((k, v) for k, v in (request.view_args or {}).items()
+                                      if isinstance(v, str))])
             if problems:
                 raise InvalidInput(problems)
             return view(*args, **kwargs)

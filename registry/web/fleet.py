@@ -22,7 +22,7 @@ from ..store.fleet import import_fleet
 from ..store.specs import model_spec, unit_record
 from .auth import role_required
 from .forms import FieldErrors, quantity_or_none
-from .limits import check_texts, int_arg
+from .limits import check_texts, control_problem, int_arg
 
 bp = Blueprint("fleet", __name__)
 
@@ -51,6 +51,8 @@ def category_choices():
 
 
 def unit_or_404(tag: str) -> m.Unit:
+    if control_problem(tag, multiline=False):
+        abort(404)  # no tag holds a control character (and PostgreSQL refuses a NUL)
     row = db.session.scalar(select(m.Unit).where(m.Unit.tag == tag))
     if row is None:
         abort(404)
@@ -61,7 +63,10 @@ def fleet_query(args, errors: FieldErrors) -> tuple[queries.FleetQuery, dict]:
     """The filters from a query string; ``typed`` keeps the text as typed for the form."""
     typed = {k: args.get(k, "").strip() for k in
              ("q", "kind", "site", "status", "category", "voltage", "due", "sort", "dir")}
-    errors.extend(check_texts({k: args.get(k, "") for k in typed}), {k: k for k in typed})
+    bad = check_texts({k: args.get(k, "") for k in typed})
+    errors.extend(bad, {k: k for k in typed})
+    for p in bad:  # refused text never reaches the query
+        typed[p.path] = ""
     if "voltage" not in errors:
         voltage = quantity_or_none(typed["voltage"], VOLTAGE, "voltage", errors,
                                    default_unit="V")

@@ -25,7 +25,7 @@ from ..store.fleet import diff_documents, known_keys, record_changes
 from ..store.specs import model_spec, write_model
 from .auth import role_required
 from .forms import FieldErrors
-from .limits import check_texts
+from .limits import check_texts, control_problem
 
 bp = Blueprint("models", __name__, url_prefix="/models")
 
@@ -40,6 +40,8 @@ def element_param(name: str, value: float) -> str:
 
 
 def model_or_404(key: str) -> m.Model:
+    if control_problem(key, multiline=False):
+        abort(404)  # no key holds a control character (and PostgreSQL refuses a NUL)
     row = db.session.scalar(select(m.Model).where(m.Model.key == key).options(
         selectinload(m.Model.ratings), selectinload(m.Model.modes),
         selectinload(m.Model.elements)))

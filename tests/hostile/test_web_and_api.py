@@ -519,3 +519,42 @@ def test_the_valid_bases_are_accepted(env, unit_form, model_form):
                  ).status_code == 302
     assert api.post(f"/api/v1/holds/{env['hold']}/release", json=RELEASE,
                     headers=auth).status_code == 200
+
+
+# -- NUL on PostgreSQL: its text type cannot hold one, so a NUL reaching a query is an error
+# there (PostgreSQL documentation, 8.3 "Character Types": "the character with code zero cannot
+# be stored"); every route refuses it before the query --------------------------------------
+
+@pytest.mark.postgres
+def test_nul_never_reaches_a_postgresql_query(pg_url, tmp_path, monkeypatch):
+    monkeypatch.setenv("WITHSTAND_INSTANCE", str(tmp_path))
+    database = store_db.Database(pg_url)
+    store_db.upgrade(database.engine)
+    assert load_demo(database)
+    with database.transaction() as session:
+        token = issue_token(session, get_user(session, "viewer"))
+    app = create_app({"DATABASE_URL": pg_url, "SECRET_KEY": "k", "TESTING": True,
+                      "INSTANCE_PATH": str(tmp_path)})
+    app.config["PROPAGATE_EXCEPTIONS"] = False
+    client = app.test_client()
+    auth = {"Authorization": f"Bearer {token}"}
+    try:
+        for path in ("/api/v1/units/NB%00", "/api/v1/models/kx%00", "/api/v1/units?q=%00",
+                     "/api/v1/events?unit=NB%00", "/api/v1/units?site=%00"):
+            r = client.get(path, headers=auth)
+            assert r.status_code == 400, (path, r.status_code)
+        page = client.get("/login").get_data(as_text=True)
+        csrf = re.search(r'name="csrf_token" value="([^"]+)"', page).group(1)
+        r = client.post("/login", data={"username": "view\x00er", "password": "x",
+                                        "csrf_token": csrf})
+        assert r.status_code == 401
+        r = client.post("/login", data={"username": "viewer", "password": "larkspur-viewer",
+                                        "csrf_token": csrf})
+        assert r.status_code == 302
+        for path in ("/units/NB%00", "/models/kx%00", "/units/NB%00/qr.svg"):
+            assert client.get(path).status_code == 404, path
+        for path in ("/events?unit=%00", "/?q=%00"):
+            assert client.get(path).status_code == 400, path
+    finally:
+        app.extensions["withstand_db"].dispose()
+        database.dispose()
