@@ -8,9 +8,10 @@ what CSRF abuses; the session cookie is ignored by every endpoint.
 from __future__ import annotations
 
 import functools
+import json
 from datetime import date, datetime
 
-from flask import Blueprint, Response, g, jsonify, request, url_for
+from flask import Blueprint, Response, current_app, g, jsonify, request, url_for
 from pydantic.json_schema import models_json_schema
 from sqlalchemy import select
 from sqlalchemy.orm import selectinload
@@ -28,6 +29,7 @@ from ..store.specs import model_spec, unit_record
 from ..store.users import user_for_token
 from .audit import XLSX
 from .auth import ROLE_RANK
+from .limits import check_texts, int_arg, parse_json_body
 from .schemas import EventRequest, HoldRelease, plan_schema, validated
 
 bp = Blueprint("api", __name__, url_prefix="/api/v1")
@@ -85,6 +87,11 @@ def token_required(role: str):
             if ROLE_RANK[user.role] < ROLE_RANK[role]:
                 raise ApiError(403, f"a {user.role} may not do this; it needs a {role}")
             g.api_user = user
+            problems = check_texts([*request.args.items(multi=True),
+                                    *((k, v) for k, v in (request.view_args or {}).items()
+                                      if isinstance(v, str))])
+            if problems:
+                raise InvalidInput(problems)
             return view(*args, **kwargs)
         inner.required_role = role
         inner.api_auth = "bearer"
@@ -92,15 +99,18 @@ def token_required(role: str):
     return wrap
 
 
-def json_body():
-    if request.content_length and request.content_length > 1024 * 1024:
+def json_body() -> dict:
+    """The request's body as a JSON object: the one reader every API route uses. Over
+    ``MAX_CONTENT_LENGTH`` is a 413; not JSON, a byte-order mark, not UTF-8, nested too deep,
+    not an object or text with control characters is a 400 naming the field (``limits``)."""
+    limit = current_app.config.get("MAX_CONTENT_LENGTH") or 1024 * 1024
+    if request.content_length and request.content_length > limit:
         raise ApiError(413, "the body is larger than 1 MiB")
-    data = request.get_json(silent=True)
-    if data is None:
+    if not request.is_json:
         raise ApiError(400, "the body must be a JSON document",
                        [FieldProblem("", "send Content-Type: application/json with a JSON "
                                          "object")])
-    return data
+    return parse_json_body(request.get_data(cache=True))
 
 
 def _date_arg(name: str) -> date | None:
@@ -143,7 +153,7 @@ def units():
     fq, _typed = fleet_query(request.args, errors)
     if errors:
         raise InvalidInput([FieldProblem(k, msg) for k, msgs in errors.items() for msg in msgs])
-    fq.size = min(max(request.args.get("size", 100, type=int) or 100, 1), MAX_PAGE)
+    fq.size = min(max(int_arg(request.args, "size", 100) or 100, 1), MAX_PAGE)
     page = queries.fleet_page(db.session, fq)
     return {"units": [unit_json(x) for x in page.units], "total": page.total,
             "page": page.page, "pages": page.pages}
@@ -292,6 +302,23 @@ def openapi_document() -> dict:
                                         "excluded": {"type": "array", "items": {"type": "object"}},
                                         "cautions": {"type": "array", "items": {"type": "string"}}}}
     ref = lambda name: {"$ref": f"#/components/schemas/{name}"}
+    nullable = lambda schema: {"anyOf": [schema, {"type": "null"}]}
+    schemas["Hold"] = {"type": "object", "description": "a unit's hold (hold_json)",
+                       "required": ["id", "unit", "event", "opened_at", "reason",
+                                    "released_at", "released_by", "result", "note"],
+                       "properties": {"id": {"type": "integer"}, "unit": {"type": "string"},
+                                      "event": nullable({"type": "integer"}),
+                                      "opened_at": {"type": "string"},
+                                      "reason": {"type": "string"},
+                                      "released_at": nullable({"type": "string"}),
+                                      "released_by": nullable({"type": "string"}),
+                                      "result": nullable({"type": "string"}),
+                                      "note": {"type": "string"}}}
+    # a unit as the API answers it: the fleet file's unit and its open hold, if any
+    unit_answer = json.loads(json.dumps(schemas["UnitDoc"]))
+    unit_answer["title"] = "Unit"
+    unit_answer["properties"]["open_hold"] = nullable(ref("Hold"))
+    schemas["Unit"] = unit_answer
     err = lambda text: {"description": text, "content": {"application/json": {"schema": ref("Error")}}}
     ok = lambda text, schema=None: {"description": text, "content": {
         "application/json": {"schema": schema or {"type": "object"}}}}
@@ -314,12 +341,12 @@ def openapi_document() -> dict:
                                           q("page", "page number", {"type": "integer"}),
                                           q("size", "units per page", {"type": "integer"})],
                            "responses": {"200": ok("units, each as in the fleet file", {
-                               "type": "object", "properties": {"units": {"type": "array", "items": ref("UnitDoc")},
+                               "type": "object", "properties": {"units": {"type": "array", "items": ref("Unit")},
                                                                 "total": {"type": "integer"}}}),
                                          "400": err("a filter is not valid"), **common}}},
         "/units/{tag}": {"get": {"summary": "One unit", "parameters": [
             {"name": "tag", "in": "path", "required": True, "schema": {"type": "string"}}],
-            "responses": {"200": ok("the unit", ref("UnitDoc")), "404": err("no such unit"),
+            "responses": {"200": ok("the unit", ref("Unit")), "404": err("no such unit"),
                           **common}}},
         "/models": {"get": {"summary": "List models", "responses": {
             "200": ok("models, each as in the fleet file", {
@@ -346,7 +373,9 @@ def openapi_document() -> dict:
                                    **common}}},
         "/holds": {"get": {"summary": "List holds (open ones unless open=0)",
                            "parameters": [q("open", "0 for every hold", {"enum": ["0", "1"]})],
-                           "responses": {"200": ok("holds"), **common}}},
+                           "responses": {"200": ok("holds", {"type": "object", "required": ["holds"], "properties": {
+                               "holds": {"type": "array", "items": ref("Hold")}}}),
+                               "400": err("a parameter is not valid"), **common}}},
         "/holds/{id}/release": {"post": {"summary": "Release a hold (steward)", "parameters": [
             {"name": "id", "in": "path", "required": True, "schema": {"type": "integer"}}],
             "requestBody": body("HoldRelease"),
@@ -363,6 +392,12 @@ def openapi_document() -> dict:
         "responses": {"200": {"description": "the workbook", "content": {
             XLSX: {"schema": {"type": "string", "format": "binary"}}}},
             "400": err("a parameter is not valid"), **common}}}
+    for path_item in paths.values():
+        for method, op in path_item.items():
+            # every route refuses a query parameter holding a control character (limits.py)
+            op["responses"].setdefault("400", err("a parameter or the body is not valid"))
+            if method == "post":
+                op["responses"].setdefault("413", err("the body is over 1 MiB"))
     return {"openapi": "3.1.0",
             "info": {"title": "withstand API", "version": "1",
                      "description": "Fleet registry and job checks. Quantities are text with "

@@ -65,7 +65,7 @@ def index():
     _since, _site, typed = audit_args(request.args, errors)
     return render_template("audit/index.html", typed=typed, errors=errors,
                            sites=queries.site_names(db.session),
-                           **_chains())
+                           **_chains()), (400 if errors else 200)
 
 
 @bp.route("/workbook.xlsx")

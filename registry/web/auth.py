@@ -14,6 +14,7 @@ from flask_login import UserMixin, current_user, login_required, login_user, log
 from ..extensions import db, login_manager
 from ..store import models as m
 from ..store.users import authenticate
+from .limits import control_problem
 from .throttle import LoginThrottle
 
 bp = Blueprint("auth", __name__)
@@ -91,7 +92,8 @@ def login():
                      f"minute{'' if minutes == 1 else 's'}.")
             status = 429
         else:
-            user = authenticate(db.session, username, request.form.get("password", ""))
+            user = None if control_problem(username, multiline=False) else \
+                authenticate(db.session, username, request.form.get("password", ""))
             if user is None:
                 throttle().failed(username, address)
                 error = "That username and password do not match an active login."

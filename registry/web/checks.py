@@ -24,6 +24,7 @@ from ..checking import plan_from, run_check
 from ..store.fleet import engine_fleet
 from .auth import role_required
 from .forms import FieldErrors
+from .limits import check_texts, int_arg
 from .plots import DischargePath, discharge_svg, needs_has_svg
 
 bp = Blueprint("checks", __name__, url_prefix="/checks")
@@ -121,6 +122,10 @@ def check_with_fleet(session, doc, on):
 def checked(fields: dict):
     """(result, fleet, errors): the check of the typed plan, or the problems by field."""
     errors = FieldErrors()
+    errors.extend(check_texts({k: request.args.get(k, "") for k in fields}),
+                  {k: field_of(k) for k in fields})
+    if errors:
+        return None, None, errors
     on = parse_on(fields["on"], errors)
     try:
         result, fleet = check_with_fleet(db.session, doc_from_fields(fields), on)
@@ -234,16 +239,24 @@ def discharge_plot():
     if res is None:
         abort(400)
     paths = discharge_paths(res, fleet)
-    index = request.args.get("path", 1, type=int)
+    index = _index_arg("path")
     if not paths or not 1 <= index <= len(paths):
         abort(404)
     svg = discharge_svg(paths[index - 1])
     return Response(svg, mimetype="image/svg+xml")
 
 
+def _index_arg(name: str) -> int:
+    """A 1-based index from the query string; text that is not a whole number is a 400."""
+    try:
+        return int_arg(request.args, name, 1)
+    except InvalidInput:
+        abort(400)
+
+
 def chosen_setup(res):
     """(index, setup) named by the ``setup`` argument, counted from 1 in the ranked order."""
-    index = request.args.get("setup", 1, type=int)
+    index = _index_arg("setup")
     if not 1 <= index <= len(res.setups):
         abort(404)
     return index, res.setups[index - 1]

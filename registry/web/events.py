@@ -20,6 +20,7 @@ from ..store.holds import release_hold
 from .auth import role_required
 from .fleet import unit_or_404
 from .forms import FieldErrors
+from .limits import check_texts, control_problem
 from .schemas import EventRequest, HoldRelease, validated
 
 bp = Blueprint("events", __name__)
@@ -66,6 +67,11 @@ def new(tag: str):
         return _event_form(unit, {"symptoms": []}, errors)
     typed = {k: request.form.get(k, "").strip() for k in EVENT_FIELDS}
     typed["symptoms"] = request.form.getlist("symptoms")
+    raw = [(k, request.form.get(k, "")) for k in EVENT_FIELDS]
+    errors.extend(check_texts(raw + [("symptoms", s) for s in typed["symptoms"]],
+                              multiline=("note",)), {k: k for k in EVENT_FIELDS + ("symptoms",)})
+    if errors:
+        return _event_form(unit, typed, errors, 400)
     data = {"unit": unit.tag, "kind": typed["kind"] or None, "symptoms": typed["symptoms"],
             "note": typed["note"]}
     for k in ("mode", "voltage", "energy", "duration", "waveform", "at"):
@@ -92,6 +98,8 @@ def new(tag: str):
 @role_required("viewer")
 def index():
     tag = request.args.get("unit", "").strip()
+    if control_problem(tag, multiline=False):
+        abort(400)
     stmt = select(m.Event).order_by(m.Event.id.desc()).limit(200).options(
         selectinload(m.Event.unit), selectinload(m.Event.logged_by))
     if tag:

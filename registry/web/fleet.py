@@ -23,6 +23,7 @@ from ..store.fleet import import_fleet
 from ..store.specs import model_spec, unit_record
 from .auth import role_required
 from .forms import FieldErrors, quantity_or_none
+from .limits import check_texts, control_problem, int_arg
 
 bp = Blueprint("fleet", __name__)
 
@@ -57,6 +58,8 @@ def category_choices():
 
 
 def unit_or_404(tag: str) -> m.Unit:
+    if control_problem(tag, multiline=False):
+        abort(404)  # no tag holds a control character (and PostgreSQL refuses a NUL)
     row = db.session.scalar(select(m.Unit).where(m.Unit.tag == tag))
     if row is None:
         abort(404)
@@ -67,7 +70,20 @@ def fleet_query(args, errors: FieldErrors) -> tuple[queries.FleetQuery, dict]:
     """The filters from a query string; ``typed`` keeps the text as typed for the form."""
     typed = {k: args.get(k, "").strip() for k in
              ("q", "kind", "site", "status", "category", "voltage", "due", "sort", "dir")}
-    voltage = quantity_or_none(typed["voltage"], VOLTAGE, "voltage", errors, default_unit="V")
+    bad = check_texts({k: args.get(k, "") for k in typed})
+    errors.extend(bad, {k: k for k in typed})
+    for p in bad:  # refused text never reaches the query
+        typed[p.path] = ""
+    if "voltage" not in errors:
+        voltage = quantity_or_none(typed["voltage"], VOLTAGE, "voltage", errors,
+                                   default_unit="V")
+    else:
+        voltage = None
+    try:
+        page = int_arg(args, "page", 1)
+    except InvalidInput as exc:
+        errors.extend(exc.problems, {"page": "page"})
+        page = 1
     if typed["category"] and typed["category"] not in spec.MAINS_CATEGORIES:
         errors.add("category", f"'{typed['category']}' is not one of "
                                f"{', '.join(spec.MAINS_CATEGORIES)}")
@@ -75,7 +91,7 @@ def fleet_query(args, errors: FieldErrors) -> tuple[queries.FleetQuery, dict]:
         q=typed["q"], kind=typed["kind"], site=typed["site"], status=typed["status"],
         category=typed["category"], voltage=voltage, due=typed["due"],
         sort=typed["sort"] if typed["sort"] in queries.SORTS else "tag",
-        desc=typed["dir"] == "desc", page=max(args.get("page", 1, type=int) or 1, 1))
+        desc=typed["dir"] == "desc", page=max(page, 1))
     return fq, typed
 
 
@@ -132,8 +148,12 @@ def edit(tag: str):
     errors = FieldErrors()
     if request.method == "POST":
         typed = {k: request.form.get(k, "").strip() for k in EDITABLE}
+        errors.extend(check_texts({k: request.form.get(k, "") for k in EDITABLE},
+                                  multiline=("notes",)), {k: k for k in EDITABLE})
         status = typed["status"]
-        if held and status != row.status:
+        if errors:
+            pass
+        elif held and status != row.status:
             errors.add("status", "the unit has an open hold: a steward's release with its "
                                  "inspection result changes its status")
         elif not held and status not in PICKABLE_STATUSES and status != row.status:

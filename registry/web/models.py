@@ -25,6 +25,7 @@ from ..store.fleet import diff_documents, known_keys, record_changes
 from ..store.specs import model_spec, write_model
 from .auth import role_required
 from .forms import FieldErrors
+from .limits import check_texts, control_problem
 
 bp = Blueprint("models", __name__, url_prefix="/models")
 
@@ -39,6 +40,8 @@ def element_param(name: str, value: float) -> str:
 
 
 def model_or_404(key: str) -> m.Model:
+    if control_problem(key, multiline=False):
+        abort(404)  # no key holds a control character (and PostgreSQL refuses a NUL)
     row = db.session.scalar(select(m.Model).where(m.Model.key == key).options(
         selectinload(m.Model.ratings), selectinload(m.Model.modes),
         selectinload(m.Model.elements)))
@@ -165,7 +168,8 @@ def edit(key: str):
         return render_template("models/edit.html", model=row, texts=edit_texts(current),
                                errors=errors)
     texts = {k: request.form.get(k, "") for k in ("maker", "name", "other") + SECTIONS}
-    new = parse_edit(row, request.form, errors)
+    errors.extend(check_texts(texts, multiline=("other",) + SECTIONS), {k: k for k in texts})
+    new = None if errors else parse_edit(row, request.form, errors)
     if new is None:
         return render_template("models/edit.html", model=row, texts=texts, errors=errors), 400
     diffs = diff_documents(current, model_to_document(new))

@@ -9,18 +9,40 @@ document with its internal references moved to the components.
 from __future__ import annotations
 
 import json
-from datetime import datetime
+from datetime import datetime, timezone
 from importlib import resources
 from typing import Annotated, Literal
 
-from pydantic import BaseModel, ConfigDict, Field, ValidationError
+from pydantic import AfterValidator, BaseModel, ConfigDict, Field, ValidationError, field_validator
+from pydantic_core import PydanticCustomError
 
 from ..engine import spec
 from ..errors import InvalidInput
 from ..formats.common import Duration, Energy, Voltage, problems_from
+from .limits import control_problem
 
-Tag = Annotated[str, Field(min_length=1, max_length=64)]
-Note = Annotated[str, Field(max_length=4000)]
+
+
+def _plain(multiline: bool):
+    def check(value: str) -> str:
+        problem = control_problem(value, multiline=multiline)
+        if problem:
+            raise PydanticCustomError("text", problem)
+        return value
+    return check
+
+
+# The schema says what the validator refuses, so a client generating requests from the
+# document does not send control characters either.
+_LINE = {"pattern": "^[^\\u0000-\\u001f\\u007f-\\u009f]*$"}
+_LINES = {"pattern": "^[^\\u0000-\\u0008\\u000b\\u000c\\u000e-\\u001f\\u007f-\\u009f]*$"}
+Tag = Annotated[str, Field(min_length=1, max_length=64, json_schema_extra=_LINE),
+                AfterValidator(_plain(False))]
+Note = Annotated[str, Field(max_length=4000, json_schema_extra=_LINES),
+                 AfterValidator(_plain(True))]
+# The earliest time an event may be logged at: no instrument of a registry was used before
+# it, and a time near the start of the calendar overflows once converted to UTC.
+EARLIEST_EVENT = datetime(1900, 1, 1)
 
 
 class _Request(BaseModel):
@@ -32,7 +54,8 @@ class EventRequest(_Request):
 
     unit: Tag
     kind: Literal[spec.EVENT_KINDS]  # type: ignore[valid-type]
-    mode: Annotated[str, Field(max_length=64)] | None = None
+    mode: Annotated[str, Field(max_length=64, json_schema_extra=_LINE),
+                    AfterValidator(_plain(False))] | None = None
     voltage: Voltage | None = None
     energy: Energy | None = None
     duration: Duration | None = None
@@ -42,6 +65,21 @@ class EventRequest(_Request):
     symptoms: list[Literal[spec.SYMPTOMS]] = []  # type: ignore[valid-type]
     note: Note = ""
     at: datetime | None = Field(None, description="when it happened (ISO 8601); default now")
+
+    @field_validator("at")
+    @classmethod
+    def _at_in_calendar(cls, t: datetime | None) -> datetime | None:
+        if t is None:
+            return t
+        try:
+            utc = t.astimezone(timezone.utc).replace(tzinfo=None) if t.tzinfo else t
+        except OverflowError:
+            raise PydanticCustomError("text", "is outside the calendar once converted to "
+                                              "UTC") from None
+        if utc < EARLIEST_EVENT:
+            raise PydanticCustomError("text", f"is before {EARLIEST_EVENT:%Y-%m-%d}; give "
+                                              "the time the event happened")
+        return t
 
 
 class HoldRelease(_Request):

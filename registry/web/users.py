@@ -14,6 +14,7 @@ from ..store import models as m
 from ..store.users import add_user, issue_token, revoke_tokens, validate_role
 from .auth import role_required
 from .forms import FieldErrors
+from .limits import check_texts
 
 bp = Blueprint("users", __name__, url_prefix="/users")
 
@@ -44,6 +45,9 @@ def index():
 def add():
     typed = {k: request.form.get(k, "") for k in ("username", "display_name", "role")}
     errors = FieldErrors()
+    errors.extend(check_texts(typed), {k: k for k in typed})
+    if errors:
+        return _page(errors, typed, status=400)
     try:
         add_user(db.session, typed["username"], typed["role"], request.form.get("password", ""),
                  display_name=typed["display_name"].strip())
