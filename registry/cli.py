@@ -375,7 +375,7 @@ def _quantity_option(value: str | None, dim, option: str) -> float | None:
 
 
 def _parse_time(value: str | None, option: str = "--at"):
-    """ISO 8601 text as naive UTC; a time without an offset is local time."""
+    """ISO 8601 text as naive UTC; a time without an offset is UTC."""
     from .formats.common import parse_time
     return parse_time(value, option)
 
@@ -411,7 +411,8 @@ def event():
 @click.option("--by", "by", default=None, help="Who logs it (a technician or steward login; "
                                                "default $WITHSTAND_USER).")
 @click.option("--at", "at", default=None,
-              help="When it happened, ISO 8601 (local time unless an offset is given); "
+              help="When it happened, ISO 8601 (UTC unless an offset is given, as in the web "
+                   "form and the API); "
                    "default now.")
 @reports_errors
 def event_add(unit, kind, mode, voltage, energy, duration, waveform, symptoms, note, by, at):

@@ -89,7 +89,8 @@ def parse_date(text, field: str) -> date | None:
 
 def parse_time(text, field: str) -> datetime | None:
     """An ISO 8601 time (``2026-03-01T14:30``, ``...+01:00``, ``...Z``) as naive UTC; a time
-    without an offset is local time; blank is ``None``. The years are those of
+    without an offset is UTC, as the web form and the API take it too, so one typed time means
+    one moment whichever way it is logged; blank is ``None``. The years are those of
     :func:`parse_date`; anything else raises :class:`InvalidInput` naming ``field``."""
     if text is None or not str(text).strip():
         return None
@@ -104,6 +105,8 @@ def parse_time(text, field: str) -> datetime | None:
     problem = _year_problem(t.year, text)
     if problem:
         raise InvalidInput(problem, field)
+    if t.tzinfo is None:
+        return t
     try:
         return t.astimezone(timezone.utc).replace(tzinfo=None)
     except (OverflowError, ValueError, OSError):
