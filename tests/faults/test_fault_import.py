@@ -75,9 +75,10 @@ def state_after(path: Path, before: dict, rows: list[tuple]) -> str:
     if now == before:
         return "before"
     # else the whole file must be in: every unit, every field, and nothing else changed
-    # but the unit rows and the holds of the units the file marks on-hold
+    # but the unit rows, the holds of the units the file marks on-hold and those holds' links
+    # on the hold chain
     for table in set(before) | set(now):
-        if table not in ("unit", "hold"):
+        if table not in ("unit", "hold", "record_link"):
             assert now.get(table) == before.get(table), f"table {table} changed"
     stored = unit_rows(path)
     missing = [r[0] for r in rows if r[0] not in stored]
@@ -87,6 +88,8 @@ def state_after(path: Path, before: dict, rows: list[tuple]) -> str:
     assert len(now["unit"]) == len(before["unit"]) + len(rows)
     on_hold = sum(r[5] == "on-hold" for r in rows)
     assert len(now["hold"]) == len(before["hold"]) + on_hold
+    # one "hold-opened" link for each new hold, nothing else added to the record
+    assert len(now.get("record_link", [])) == len(before.get("record_link", [])) + on_hold
     return "imported"
 
 
