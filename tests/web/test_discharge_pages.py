@@ -10,7 +10,8 @@ import re
 from webhelp import DISCHARGE_PLAN, login_as
 
 ROW = re.compile(r'<tr class="v-\w+">\s*<td>(\d+)</td>\s*<td><a href="/units/([A-Z]{2}-\d{4})"'
-                 r'[^>]*>[^<]*</a> <small>([\w-]+)</small></td>\s*<td>([^<]*)</td>')
+                 r'[^>]*>[^<]*</a> <small>([\w-]+)</small>(?:<br><small class="site">[^<]*'
+                 r'</small>)?</td>\s*<td>([^<]*)</td>')
 
 
 def _page(client, url, **args):
