@@ -55,14 +55,6 @@ def rating_text(r: Rating) -> str:
     return f"CAT {r.category} {fq(r.voltage, VOLTAGE)}"
 
 
-def _faces_circuit(ctx: SetupContext, item: ModelSpec) -> bool:
-    """Whether ``item`` is connected to the circuit itself; behind a divider or a current
-    clamp, the instrument is not."""
-    if item is ctx.instrument and (ctx.divider is not None or ctx.current_clamp is not None):
-        return False
-    return True
-
-
 # -- check 2: category and voltage ------------------------------------------------------------
 
 def category_requirement(ctx: SetupContext, item: ModelSpec) -> tuple[str | None, float]:
@@ -172,6 +164,7 @@ def check_tip(ctx: SetupContext) -> list[Finding]:
                + (" (HSE GS38; an isolated circuit has no measurement category)." if cat is None
                   else "."))
         return [_f("tip", "unknown", item.key, msg, source, f"<= {limit}")]
+    assert item.tip_exposure is not None  # tip_status gives unknown (returned above) without it
     have = fq(item.tip_exposure, LENGTH)
     beyond = item.tip_exposure > probe_tips.MAX_EXPOSURE
     if status == "pass":
@@ -240,6 +233,7 @@ def check_transient(ctx: SetupContext) -> list[Finding]:
         if item is ctx.instrument and ctx.current_clamp is not None:
             continue
         need = ctx.seen_transient if item is ctx.instrument else expected
+        assert need is not None  # both come from the transient, None returned above
         required = f"{fq(need, VOLTAGE)} peak"
         cat, need_v = category_requirement(ctx, item)
         covering = fitting_ratings(item, cat, need_v)
@@ -376,11 +370,10 @@ def chain_current(ctx: SetupContext) -> list[Finding]:
     out = [_f("mode-input", "unknown", a.key, f"{a.key} carries the {required} in series but "
               "its rated current is not recorded.", SRC_CHAIN_CURRENT, required)
            for a in carriers if a.current_rating is None]
-    rated = [a for a in carriers if a.current_rating is not None]
+    rated = [(a, a.current_rating) for a in carriers if a.current_rating is not None]
     if rated:
-        low = min(rated, key=lambda a: a.current_rating)
-        have = low.current_rating
-        listing = ", ".join(f"{a.key} {fq(a.current_rating, CURRENT)}" for a in rated)
+        low, have = min(rated, key=lambda pair: pair[1])
+        listing = ", ".join(f"{a.key} {fq(rating, CURRENT)}" for a, rating in rated)
         ok = have >= need
         out.append(_f("mode-input", "pass" if ok else "fail", low.key,
                       f"The chain carries {required} in series; the lowest rated current in "
@@ -655,7 +648,8 @@ def _divider_data(d: ModelSpec) -> list[Finding]:
     """A caution when a divider's recorded attenuation and its recorded resistance, output
     resistance and required load disagree by more than :data:`DIVIDER_DATA_TOLERANCE` (see
     :func:`loaded_divider_attenuation`); nothing when any of the four is not recorded."""
-    if None in (d.attenuation, d.resistance, d.output_resistance, d.required_load):
+    if (d.attenuation is None or d.resistance is None or d.output_resistance is None
+            or d.required_load is None):
         return []
     fields = (f"model {d.key}: attenuation {d.attenuation:g}:1, resistance "
               f"{fq(d.resistance, RESISTANCE)}, output_resistance "
@@ -768,6 +762,7 @@ def check_duration(ctx: SetupContext) -> list[Finding]:
     subject = f"{ctx.instrument.key}/{mode.key}"
     parts = []
     if low_z and ctx.current_clamp is None:
+        assert r is not None  # low_z needs a recorded input resistance
         v = ctx.seen_voltage
         if ctx.source_impedance is not None:
             v = reading_with_source(v, r, ctx.source_impedance)
@@ -788,11 +783,6 @@ def check_duration(ctx: SetupContext) -> list[Finding]:
 
 
 # -- check 9: stored energy and discharge -----------------------------------------------------
-
-def time_constant(resistance: float, capacitance: float) -> float:
-    """tau = R*C (s)."""
-    return resistance * capacitance
-
 
 def _discharge_facts(ctx: SetupContext, prof: DischargeProfile) -> str:
     cap, v0 = fq(prof.capacitance, CAPACITANCE), fq(prof.v0, VOLTAGE)
@@ -816,9 +806,9 @@ def check_discharge(ctx: SetupContext) -> list[Finding]:
     cap = ctx.capacitance
     discharging = plan.task == "discharge"
     if ctx.divider is not None:
-        path, subject, limit = ctx.divider, ctx.divider.key, ctx.divider.energy
+        subject, limit = ctx.divider.key, ctx.divider.energy
     else:
-        path, subject = ctx.instrument, f"{ctx.instrument.key}/{mode.key}"
+        subject = f"{ctx.instrument.key}/{mode.key}"
         limit = mode.discharge_energy
         if ctx.is_discharge_tool and limit is None:
             limit = ctx.instrument.energy
@@ -882,7 +872,7 @@ def _hold_findings(ctx: SetupContext, prof: DischargeProfile, subject: str) -> l
     plan's duration), and a discharge tool's power rating against the peak power."""
     out = []
     vs, hold = prof.v_safe, prof.duration
-    if not prof.reached:
+    if prof.time_to_safe is None:
         needed = prof.time_needed
         margin = headroom(hold, needed) if needed is not None and math.isfinite(needed) \
             else None

@@ -90,6 +90,7 @@ def expected_transient(plan: Plan) -> tuple[float | None, str]:
     """
     c = plan.circuit
     if c.supply == "mains":
+        assert c.category is not None  # Circuit refuses a mains circuit without a category
         table = impulse.expected_impulse(c.category, c.to_earth)
         if table is None:
             if c.transient is not None:
@@ -106,7 +107,9 @@ def expected_transient(plan: Plan) -> tuple[float | None, str]:
 def derive(plan: Plan) -> Derived:
     c = plan.circuit
     transient, transient_source = expected_transient(plan)
+    gen: float | None
     if c.supply == "mains":
+        assert c.category is not None  # Circuit refuses a mains circuit without a category
         gen = impulse.GENERATOR_IMPEDANCE[c.category]
     else:
         # No category, so no generator of the standard: the lowest impedance it uses (2 ohm)

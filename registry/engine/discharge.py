@@ -126,7 +126,7 @@ class DischargeProfile:
         past it the rest is bounded by all that was stored, C*V0**2/2 (``bound`` True)."""
         if self.method == "rc":
             return absorbed_in(self.capacitance, self.v0, self.resistance, self.duration), False
-        if self.reached and self.time_to_safe < self.duration:
+        if self.time_to_safe is not None and self.time_to_safe < self.duration:
             return 0.5 * self.capacitance * self.v0 ** 2, True
         return self.absorbed_to_end, False
 
@@ -172,7 +172,7 @@ class DischargeProfile:
     def outcome(self) -> str:
         """What the hold achieves, in words: "reaches 50 V after 5.545 s", or "is still at
         704.7 V (496.6 J) after 60 s; it needs 2095 s to reach 50 V"."""
-        if self.reached:
+        if self.time_to_safe is not None:
             return f"reaches {fq(self.v_safe, VOLTAGE)} after {time_text(self.time_to_safe)}"
         text = (f"is still at {fq(self.end_voltage, VOLTAGE)} "
                 f"({fq(self.energy_left, ENERGY)}) after {time_text(self.duration)}")
@@ -219,7 +219,9 @@ def _front_end_profile(ctx: SetupContext, find_needed: bool) -> DischargeProfile
     # the conditions exactly as check 10 solves them, so the cached solve is shared
     v0 = float(c.voltage) * (SQRT2 if c.waveform == "ac" else 1.0)
     rs = None if ctx.source_impedance is None else float(ctx.source_impedance)
-    cap, vs, hold = float(ctx.capacitance), float(ctx.safe_level), float(ctx.plan.duration)
+    capacitance = ctx.capacitance
+    assert capacitance is not None  # discharge_profile returns None without a capacitance
+    cap, vs, hold = float(capacitance), float(ctx.safe_level), float(ctx.plan.duration)
     try:
         net = build_netlist(ctx.instrument, ctx.mode)
         res = discharge(net, cap, v0, rs, vs, hold)

@@ -8,9 +8,9 @@ accessory unit that could join a setup is listed with the best verdict it takes 
 
 from __future__ import annotations
 
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from datetime import date
-from typing import Callable, Sequence
 
 from .checks import CHECKS
 from .derived import derive
@@ -85,7 +85,8 @@ def _part(findings, model_key: str, tag: str | None) -> _Part:
 
 def _joined(a: _Part, b: _Part) -> _Part:
     """The part of two lists of findings together (the deciding finding is a minimum)."""
-    pick = lambda x, y: deciding_finding([f for f in (x, y) if f is not None])
+    def pick(x, y):
+        return deciding_finding([f for f in (x, y) if f is not None])
     return _Part(max(a.worst, b.worst), pick(a.deciding, b.deciding),
                  max(a.own_worst, b.own_worst), pick(a.own_deciding, b.own_deciding),
                  a.has_own or b.has_own)

@@ -37,7 +37,6 @@ from .spec import EVENT_KINDS, EVENT_WAVEFORMS, SYMPTOMS, Fuse, Mode, ModelSpec
 SRC_RATING = "IEC 61010-1:2010 rated voltage; isolated source, any category"
 SRC_MODE = "maker's rating for the mode"
 SRC_IMPULSE = "IEC 61010-2-030:2010 Table 102 impulse test voltage, or the stated withstand"
-SRC_HOLD = "hold rule: a symptom, a fuse-open or mechanical event, or a stress not within rating (common practice, no source)"
 
 HOLD_KINDS = ("fuse-open", "mechanical")  # these open a hold whatever the stress
 CLAMP_TYPES = ("varistor", "tvs", "gas-tube")
@@ -280,7 +279,7 @@ def _voltage_verdicts(model: ModelSpec, mode: Mode | None, voltage: float,
             out.append((True, f"Every mode of {model.key} takes {fq(voltage, VOLTAGE)} "
                               f"({SRC_MODE})."))
         else:
-            short = [x.key for x, v in zip(model.modes, per_mode) if v is not True]
+            short = [x.key for x, v in zip(model.modes, per_mode, strict=True) if v is not True]
             out.append((None, f"No mode was given and {', '.join(short)} of {model.key} "
                               f"may not take {fq(voltage, VOLTAGE)} ({SRC_MODE})."))
     return out
@@ -292,6 +291,7 @@ def assess(model: ModelSpec, mode_key: str | None, stress: Stress, symptoms=()) 
     mode = mode_of(model, mode_key)
     symptoms = check_symptoms(symptoms)
     kind, v = stress.kind, stress.voltage
+    verdicts: list[tuple[bool | None, str]]
     if kind == "transient":
         verdicts = [transient_verdict(model, v)] if v is not None else [
             (None, "The transient's peak voltage was not given, so the impulse withstand "

@@ -26,8 +26,6 @@ WORN_CLAMP_EVENTS = 3  # three or more clamped transients are a caution (SPEC §
 # inspection that released its hold.
 STRESS_KINDS = ("overvoltage", "transient", "discharge")
 
-EXCLUSION_REASONS = ("retired", "away", "on-hold", "verification-overdue")
-
 
 def exclusion_reason(unit: UnitState, on: date) -> str | None:
     """The first reason that keeps ``unit`` out of a job on ``on``: retired, away, on-hold (an

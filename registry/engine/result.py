@@ -85,7 +85,7 @@ class SetupResult:
     def cross_site(self) -> tuple[str, ...]:
         """The accessory units kept at another site than the instrument: the setup can only be
         put together by bringing them over."""
-        return tuple(tag for tag, where in zip(self.accessories, self.accessory_sites)
+        return tuple(tag for tag, where in zip(self.accessories, self.accessory_sites, strict=False)
                      if where != self.site)
 
     @property
@@ -246,10 +246,10 @@ class Result:
         if not self.setups:
             return (head + f": no available instrument has a mode that does "
                     f"{self.plan.task}.")
-        why = self.commonest_reason()
-        if why is None:
+        reason = self.commonest_reason()
+        if reason is None:
             return head + "."
-        check, n, f = why
+        check, n, f = reason
         return (head + f"; the commonest reason ({check}, {n} of {len(self.setups)} "
                 f"setups): {f.message}")
 

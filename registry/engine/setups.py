@@ -8,8 +8,8 @@ hv divider or a current clamp) and at most one tip (probe or clip) on it, connec
 
 from __future__ import annotations
 
+from collections.abc import Iterator
 from dataclasses import dataclass
-from typing import Iterator
 
 from .derived import Derived
 from .findings import Finding

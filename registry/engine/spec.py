@@ -197,7 +197,7 @@ class Element:
         return None
 
     @classmethod
-    def of(cls, id: str, type: str, between, **params) -> "Element":
+    def of(cls, id: str, type: str, between, **params) -> Element:
         return cls(id, type, tuple(between),
                    tuple((k, v) for k, v in params.items() if v is not None))
 
@@ -383,7 +383,7 @@ def circuit_problems(supply, waveform, voltage, category=None, **quantities
     return out
 
 
-def plan_problems(task, circuit: "Circuit | None", *, altitude=0.0, duration=DEFAULT_DURATION,
+def plan_problems(task, circuit: Circuit | None, *, altitude=0.0, duration=DEFAULT_DURATION,
                   discharge_to=None) -> list[tuple[str, str]]:
     """Every problem of a plan's own fields, as (path, message), given its circuit (``None``
     when the circuit itself is not valid: the rules that read it are left out): the task, the

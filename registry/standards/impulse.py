@@ -15,7 +15,6 @@ from __future__ import annotations
 import bisect
 
 SOURCE = "IEC 61010-2-030:2010 Table 102 / IEC 60664-1 Table F.1, impulse test voltage"
-GENERATOR_SOURCE = "IEC 61010-2-030:2010 impulse test: generator impedance 12 ohm CAT II, 2 ohm CAT III/IV"
 
 # Nominal voltage to earth (V rms or dc): the upper bound of each row.
 ROWS = (150.0, 300.0, 600.0, 1000.0)

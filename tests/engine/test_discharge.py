@@ -5,6 +5,7 @@ References: scipy's solve_ivp of the KX-7 low-Z circuit written out here from th
 element values; the RC closed form V0 exp(-t/RC) and scipy for a path without a front end;
 E = C V**2 / 2 (circuit theory)."""
 
+import dataclasses
 import math
 from datetime import date
 from pathlib import Path
@@ -179,6 +180,29 @@ def test_a_front_end_that_cannot_be_solved_is_unknown_not_a_crash(fleet, monkeyp
     (f,) = check_discharge(kx7_lowz(fleet))
     assert f.status == "unknown" and "step size too small" in f.message
     assert discharge_outcome(kx7_lowz(fleet)) == []
+
+
+def test_a_ptc_without_its_resistance_is_unknown_not_a_crash(fleet):
+    # The KX-7's PT1 keeps its trip point (100 mA for 2 s) but loses its resistance: the
+    # adiabatic trip energy I**2 R t (PTC makers' application notes) has no R, and the front
+    # end cannot be solved. This used to reach the arithmetic (a TypeError out of check 9).
+    # The engine's rule (common practice, no source): missing data gives unknown, never pass.
+    model = fleet.models["kx-7"]
+    pt1 = next(e for e in model.front_end if e.id == "PT1")
+    assert pt1.get("trip_time") is not None and pt1.get("trip_time_current") is not None
+    bare = dataclasses.replace(pt1, params=tuple(p for p in pt1.params if p[0] != "resistance"))
+    model = dataclasses.replace(model, front_end=tuple(bare if e is pt1 else e
+                                                       for e in model.front_end))
+    plan = dc_link_plan()
+    ctx = SetupContext(plan, derive(plan), model, model.mode("lowz"))
+    network.cache_clear()
+    (f,) = check_discharge(ctx)
+    assert f.status == "unknown" and "PT1 has no resistance" in f.message
+    assert discharge_outcome(ctx) == []
+    result = evaluate(plan, dataclasses.replace(fleet, models={**fleet.models, "kx-7": model}))
+    lowz = [s for s in result.setups if s.instrument_model == "kx-7" and s.mode == "lowz"]
+    assert lowz and all(s.verdict != "suitable" for s in lowz)
+    network.cache_clear()
 
 
 # -- without a front end: the RC law ---------------------------------------------------------

@@ -18,7 +18,7 @@ import pytest
 
 from registry.checking import run_check
 from registry.cli import main
-from registry.engine.network import SolveFailed, build_netlist, cache_clear
+from registry.engine.network import NetworkError, SolveFailed, build_netlist, cache_clear
 from registry.engine.network import scenarios
 from registry.engine.network.netlist import Netlist
 from registry.engine.network.scenarios import discharge, steady, tripped_resistance
@@ -92,6 +92,14 @@ def test_tripped_resistance_when_no_resistance_can_take_the_power():
                      tripped_power=1.2),), "V", "COM")
     r, remark = tripped_resistance(net, COLD, "PT", 20.0, 100.0, 1.2, 10.0)
     assert r == 10.0 and "cannot deliver" in remark
+
+
+def test_tripped_resistance_without_the_cold_resistance_cannot_be_solved():
+    # The solver's rule for a PTC without its resistance (an element the solve needs):
+    # NetworkError, which the check reports as unknown; before, the search compared None.
+    net = Netlist((E("PT", "ptc", ("V", "COM"), tripped_power=1.0),), "V", "COM")
+    with pytest.raises(NetworkError, match="PT has no resistance"):
+        tripped_resistance(net, COLD, "PT", 100.0, 50.0, 1.0, None)
 
 
 def test_scipy_complaints_become_solve_failed(monkeypatch):

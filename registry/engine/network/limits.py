@@ -201,18 +201,19 @@ def steady_limits(net: Netlist, res: SteadyResult, waveform: str, altitude: floa
                                         f"energy in it until {ev.element} trips "
                                         f"({ev.time:.3g} s)", "pulse_energy", SRC_DATASHEET))
         elif e.type == "fuse":
-            ev = trip_times.get(e.id)
+            trip = trip_times.get(e.id)
             if e.get("current") is None:
                 out.append(held(e.id, "steady", "current", ih, None, CURRENT,
                                 "current through it", "current rating", SRC_FUSE, "", rms))
-            elif ev is None:
+            elif trip is None:
                 out.append(Stress(e.id, "steady", "current", "pass",
                                   f"{e.id}, steady state: carries {_q(ih, CURRENT)}{rms}, below "
                                   f"its {_q(e.get('current'), CURRENT)} rating: does not "
                                   "operate", SRC_FUSE, ih, e.get("current"),
                                   _q(ih, CURRENT), _q(e.get("current"), CURRENT)))
             else:
-                out.append(held(e.id, "steady", "breaking capacity", ev.current,
+                assert trip.current is not None  # steady() gives every fuse it opens a current
+                out.append(held(e.id, "steady", "breaking capacity", trip.current,
                                 e.get("breaking_capacity"), CURRENT,
                                 "prospective current it must break", "breaking_capacity",
                                 SRC_FUSE, "", rms))
@@ -266,6 +267,7 @@ def impulse_limits(net: Netlist, res: ImpulseResult, altitude: float) -> list[St
                             "peak_power", SRC_TVS))
         elif e.type == "resistor":
             r = e.get("resistance")
+            assert r is not None  # the impulse solve raises NetworkError without it
             out.append(held(e.id, "impulse", "pulse energy", impulse_resistor_energy(v, r),
                             e.get("pulse_energy"), ENERGY,
                             f"{_q(v, VOLTAGE)} across it at the peak, an energy of",

@@ -15,6 +15,7 @@ import numpy as np
 from scipy.integrate import solve_ivp
 from scipy.optimize import brentq, minimize_scalar
 
+from ..spec import Element
 from .devices import ptc_trip_energy, ptc_trip_time
 from .netlist import OPEN_RESISTANCE, Netlist, NetworkError, SolveFailed
 from .solver import COLD, Solution, State, solve
@@ -68,7 +69,7 @@ def _bracketed_root(f, a: float, b: float, what: str) -> float:
 
 
 def tripped_resistance(net: Netlist, state: State, ptc_id: str, vs: float, rs: float | None,
-                       power: float | None, cold: float) -> tuple[float, str]:
+                       power: float | None, cold: float | None) -> tuple[float, str]:
     """The resistance at which a tripped PTC takes ``power`` (W), its datasheet
     ``tripped_power``, from the circuit around it: the largest R with V(R)**2 / R = P (the
     high-resistance branch, where a tripped PTC sits). Without a tripped power it is taken as
@@ -89,6 +90,8 @@ def tripped_resistance(net: Netlist, state: State, ptc_id: str, vs: float, rs: f
     tripped."""
     if power is None or power <= 0:
         return OPEN_RESISTANCE, "tripped_power not given: taken as open"
+    if cold is None:  # as the solver says of a PTC without its resistance
+        raise NetworkError(f"{ptc_id} has no resistance: the front end cannot be solved")
     open_sol = solve(net, vs, rs, state.with_ptc(ptc_id, OPEN_RESISTANCE))
     v_open = abs(open_sol.voltage[ptc_id])
     r_hi = v_open ** 2 / power
@@ -153,6 +156,7 @@ def settle_tripped(net: Netlist, state: State, vs: float, rs: float | None,
         for id in tripped:
             p = net.element(id)
             old = state.ptc_resistance(id)
+            assert old is not None  # tripped holds only PTCs in state.ptc
             r, remark = tripped_resistance(net, state, id, vs, rs, p.get("tripped_power"),
                                            p.get("resistance"))
             if remark and r == p.get("resistance") and old != r and events is not None:
@@ -226,7 +230,7 @@ def steady(net: Netlist, voltage: float, waveform: str, rs: float | None,
     considered: set[str] = set()
     for _ in range(len(ptcs) + len(fuses) + 1):
         now = snapshots[-1]
-        changes = []
+        changes: list[tuple[str, Element, float, float | None]] = []
         for f in fuses:
             if f.id in now.state.blown or f.id in considered:
                 continue
@@ -242,10 +246,11 @@ def steady(net: Netlist, voltage: float, waveform: str, rs: float | None,
             if threshold is None or i <= threshold:
                 continue
             r = p.get("resistance")
+            assert r is not None  # the cold solve above raises NetworkError without it
             t_trip = None
-            if p.get("trip_time") is not None and p.get("trip_time_current") is not None:
-                t_trip = ptc_trip_time(i, r, ptc_trip_energy(r, p.get("trip_time"),
-                                                             p.get("trip_time_current")))
+            t_t, i_t = p.get("trip_time"), p.get("trip_time_current")
+            if t_t is not None and i_t is not None:
+                t_trip = ptc_trip_time(i, r, ptc_trip_energy(r, t_t, i_t))
             if t_trip is not None and t_trip > duration:
                 considered.add(p.id)
                 events.append(Event(p.id, f"carries {i:.4g} A, above its trip current, but "
@@ -337,9 +342,11 @@ def discharge(net: Netlist, capacitance: float, v0: float, rs: float | None, v_s
     trip_energy = {}
     notes: list[tuple[str, str]] = []
     for p in ptcs:
-        if p.get("trip_time") is not None and p.get("trip_time_current") is not None:
-            trip_energy[p.id] = ptc_trip_energy(p.get("resistance"), p.get("trip_time"),
-                                                p.get("trip_time_current"))
+        r, t_t, i_t = p.get("resistance"), p.get("trip_time"), p.get("trip_time_current")
+        if t_t is not None and i_t is not None:
+            if r is None:  # as the solver says of a PTC without its resistance
+                raise NetworkError(f"{p.id} has no resistance: the front end cannot be solved")
+            trip_energy[p.id] = ptc_trip_energy(r, t_t, i_t)
         else:
             notes.append((p.id, "no trip point (trip_time at trip_time_current): assumed not "
                                 "to trip during the discharge"))
@@ -365,14 +372,14 @@ def discharge(net: Netlist, capacitance: float, v0: float, rs: float | None, v_s
 
     def safe_event(t, y):
         return y[0] - v_safe
-    safe_event.terminal = True
-    safe_event.direction = -1
+    safe_event.terminal = True  # type: ignore[attr-defined]  # solve_ivp reads these
+    safe_event.direction = -1  # type: ignore[attr-defined]
 
     def trip_event_for(k, id):
         def ev(t, y):
             return y[1 + n_e + k] - trip_energy[id]
-        ev.terminal = True
-        ev.direction = 1
+        ev.terminal = True  # type: ignore[attr-defined]
+        ev.direction = 1  # type: ignore[attr-defined]
         return ev
 
     y = np.zeros(1 + n_e + len(heating))

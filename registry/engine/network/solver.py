@@ -47,12 +47,12 @@ class State:
     def fired(self) -> frozenset[str]:
         return frozenset(i for i, _ in self.arcs)
 
-    def with_ptc(self, id: str, r: float) -> "State":
+    def with_ptc(self, id: str, r: float) -> State:
         d = dict(self.ptc)
         d[id] = r
         return State(tuple(sorted(d.items())), self.arcs, self.blown)
 
-    def with_arc(self, id: str, v: float | None) -> "State":
+    def with_arc(self, id: str, v: float | None) -> State:
         d = dict(self.arcs)
         if v is None:
             d.pop(id, None)
@@ -60,7 +60,7 @@ class State:
             d[id] = v
         return State(self.ptc, tuple(sorted(d.items())), self.blown)
 
-    def with_blown(self, id: str) -> "State":
+    def with_blown(self, id: str) -> State:
         return State(self.ptc, self.arcs, self.blown | {id})
 
 
@@ -167,7 +167,7 @@ def _limit(law: PowerLaw, v_new: float, v_old: float) -> float:
 
 
 @lru_cache(maxsize=4096)
-def _matrix(c: "_Compiled", rs: float):
+def _matrix(c: _Compiled, rs: float):
     """The linear part of the MNA system (without the source value), reference row dropped.
 
     Rows: nodes 0..n-1, then one per branch, the source last."""
@@ -202,12 +202,11 @@ def _matrix(c: "_Compiled", rs: float):
 
 
 def _newton(c: _Compiled, vs: float, rs: float, guess):
-    n = c.n_nodes
     A0, b0 = _matrix(c, rs)
     b0 = b0.copy()
     b0[-1] = vs
     size = len(b0) + 1
-    # after dropping the reference row, node k keeps index k (k < n)
+    # after dropping the reference row, node k keeps index k (k < c.n_nodes)
     clamps = c.clamp_rows
 
     x = np.zeros(size - 1) if guess is None else guess[0].copy()
@@ -296,11 +295,11 @@ def _solution(net: Netlist, c: _Compiled, x, vcl, iters, vs, rs) -> Solution:
         a, b = c.index[e.between[0]], c.index[e.between[1]]
         voltage[e.id] = nv(a) - nv(b)
         current[e.id] = 0.0
-    for id, a, b, g in c.conductances:
+    for id, _, _, g in c.conductances:
         current[id] = g * voltage[id]
-    for id, a, b, law in c.clamps:
+    for id, _, _, law in c.clamps:
         current[id] = law.current(voltage[id])
-    for k, (id, a, b, _) in enumerate(c.branches):
+    for k, (id, _, _, _) in enumerate(c.branches):
         current[id] = float(x[n + k])
     src_i = -float(x[n + len(c.branches)])
     return Solution(node_voltage, voltage, current, src_i, iters, (x, vcl, c))
