@@ -31,15 +31,12 @@ def database_url(instance: Path | None = None) -> str:
     return os.environ.get("WITHSTAND_DATABASE_URL") or default_url(instance or instance_path())
 
 
-def secret_key(instance: Path) -> str:
-    env = os.environ.get("WITHSTAND_SECRET_KEY")
-    if env:
-        return env
-    path = instance / "secret_key"
+def _key_file(path: Path) -> str:
+    """A random key kept in ``path``, made on first use: readable by the owner only, and
+    created with O_EXCL so that two first starts agree on one key."""
     if not path.exists():
-        instance.mkdir(parents=True, exist_ok=True)
+        path.parent.mkdir(parents=True, exist_ok=True)
         try:
-            # readable by the owner only; O_EXCL so that two first starts agree on one key
             fd = os.open(path, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
         except FileExistsError:
             pass
@@ -47,6 +44,10 @@ def secret_key(instance: Path) -> str:
             with os.fdopen(fd, "w") as f:
                 f.write(secrets.token_hex(32))
     return path.read_text().strip()
+
+
+def secret_key(instance: Path) -> str:
+    return os.environ.get("WITHSTAND_SECRET_KEY") or _key_file(instance / "secret_key")
 
 
 def chain_key(instance: Path | None = None) -> str:
@@ -54,18 +55,5 @@ def chain_key(instance: Path | None = None) -> str:
     a key generated once into ``chain_key`` in the instance folder (mode 0600). It is kept out
     of the database on purpose: whoever can write the database but lacks this key cannot
     recompute valid links. Back it up apart from the database."""
-    env = os.environ.get("WITHSTAND_CHAIN_KEY")
-    if env:
-        return env
-    instance = instance or instance_path()
-    path = instance / "chain_key"
-    if not path.exists():
-        instance.mkdir(parents=True, exist_ok=True)
-        try:
-            fd = os.open(path, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
-        except FileExistsError:
-            pass
-        else:
-            with os.fdopen(fd, "w") as f:
-                f.write(secrets.token_hex(32))
-    return path.read_text().strip()
+    return (os.environ.get("WITHSTAND_CHAIN_KEY")
+            or _key_file((instance or instance_path()) / "chain_key"))
