@@ -160,19 +160,24 @@ def _soffice():
     return exe
 
 
-def test_demo_workbook_opens_in_libreoffice(with_events, demo_doc, tmp_path):
+def libreoffice_csvs(workbook, tmp_path):
+    """Every sheet of ``workbook`` as LibreOffice converts it to CSV, into ``tmp_path/lo``.
+    Filter options: comma separated, UTF-8 (76), and sheet -1: every sheet to its own file
+    (LibreOffice 7.2 and later)."""
     exe = _soffice()
-    out = tmp_path / "audit.xlsx"
-    export_audit(with_events, out, on=ON)
-    profile = tmp_path / "lo-profile"
-    # Filter options: comma separated, UTF-8 (76), and sheet -1: every sheet to its own file
-    # (LibreOffice 7.2 and later).
     proc = subprocess.run(
-        [exe, f"-env:UserInstallation=file://{profile}", "--headless", "--convert-to",
+        [exe, f"-env:UserInstallation=file://{tmp_path / 'lo-profile'}", "--headless",
+         "--convert-to",
          "csv:Text - txt - csv (StarCalc):44,34,76,1,,0,false,true,false,false,false,-1",
-         "--outdir", str(tmp_path / "lo"), str(out)],
+         "--outdir", str(tmp_path / "lo"), str(workbook)],
         capture_output=True, text=True, timeout=300)
     assert proc.returncode == 0, proc.stderr
+
+
+def test_demo_workbook_opens_in_libreoffice(with_events, demo_doc, tmp_path):
+    out = tmp_path / "audit.xlsx"
+    export_audit(with_events, out, on=ON)
+    libreoffice_csvs(out, tmp_path)
     units = tmp_path / "lo" / "audit-Units.csv"
     assert units.exists(), sorted(p.name for p in (tmp_path / "lo").iterdir())
     read = pd.read_csv(units)

@@ -25,7 +25,7 @@ from registry.store.audit import export_audit
 from registry.store.cells import (FORMULA_START, formula_like, safe_cell, safe_frame,
                                    write_csv)
 
-from test_history_audit import _soffice  # tests/history is on sys.path (rootdir import)
+from test_history_audit import _soffice, libreoffice_csvs  # tests/history is on sys.path (rootdir import)
 
 ON = date(2026, 12, 2)
 
@@ -168,18 +168,9 @@ def test_csvs_prefix_formula_text_with_an_apostrophe(hostile, tmp_path):
 
 
 def test_libreoffice_computes_no_formula(hostile, tmp_path):
-    exe = _soffice()
     out = tmp_path / "audit.xlsx"
     export_audit(hostile, out, on=ON)
-    profile = tmp_path / "lo-profile"
-    # csv filter options: comma, double quote, UTF-8 (76), from line 1, ..., sheet -1: every
-    # sheet to its own file (LibreOffice 7.2 and later)
-    proc = subprocess.run(
-        [exe, f"-env:UserInstallation=file://{profile}", "--headless", "--convert-to",
-         "csv:Text - txt - csv (StarCalc):44,34,76,1,,0,false,true,false,false,false,-1",
-         "--outdir", str(tmp_path / "lo"), str(out)],
-        capture_output=True, text=True, timeout=300)
-    assert proc.returncode == 0, proc.stderr
+    libreoffice_csvs(out, tmp_path)
     with (tmp_path / "lo" / "audit-Units.csv").open(newline="", encoding="utf-8") as f:
         units = {r["tag"]: r for r in csv.DictReader(f)}
     for tag, t in zip(TAGS, TEXTS):
