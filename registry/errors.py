@@ -57,17 +57,6 @@ class InvalidInput(WithstandError):
         self.problems: list[FieldProblem] = list(problems)
         super().__init__("; ".join(str(p) for p in self.problems))
 
-    def prefixed(self, prefix: str) -> "InvalidInput":
-        """The same problems with ``prefix`` put in front of each path."""
-        out = []
-        for p in self.problems:
-            if not p.path:
-                out.append(FieldProblem(prefix, p.message))
-            elif p.path.startswith("["):
-                out.append(FieldProblem(prefix + p.path, p.message))
-            else:
-                out.append(FieldProblem(f"{prefix}.{p.path}" if prefix else p.path, p.message))
-        return InvalidInput(out)
 
 
 class NotFound(WithstandError):

@@ -10,7 +10,6 @@ from __future__ import annotations
 import functools
 import math
 import re
-from dataclasses import dataclass
 
 import pint
 

@@ -504,9 +504,18 @@ _BIDI = set("\u202a\u202b\u202c\u202d\u202e\u2066\u2067\u2068\u2069")
 _NOTE_CONTROLS = set("\t\n\r")
 
 
+# The longest text a field takes: a name or tag fits a line, a note a page or two; beyond that
+# it is not a record but a payload. Common practice (no source).
+MAX_LINE_CHARS = 1_000
+MAX_NOTE_CHARS = 10_000
+
+
 def text_problem(value: str, *, multiline: bool = False) -> str | None:
-    """What is wrong with ``value`` as the text of a field, or ``None``: the first character
-    it may not hold, with its position."""
+    """What is wrong with ``value`` as the text of a field, or ``None``: too long, or the first
+    character it may not hold, with its position."""
+    longest = MAX_NOTE_CHARS if multiline else MAX_LINE_CHARS
+    if len(value) > longest:
+        return f"is {len(value)} characters long; this field takes at most {longest}"
     for i, ch in enumerate(value):
         if multiline and ch in _NOTE_CONTROLS:
             continue
@@ -556,10 +565,6 @@ def text_of(value: float | None, dim: u.Dimension) -> str | None:
     if value is None:
         return None
     return u.format_quantity(value, dim, digits=12)
-
-
-def number_text(value: float) -> float | int:
-    return int(value) if math.isfinite(value) and float(value).is_integer() else value
 
 
 def dump_document(data: Any, path: str | Path) -> None:

@@ -10,7 +10,7 @@ frozen and filtered; overdue and held rows are highlighted.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from datetime import date, datetime, timedelta
+from datetime import date, datetime
 from pathlib import Path
 
 import pandas as pd

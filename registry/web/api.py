@@ -11,7 +11,7 @@ import functools
 import json
 from datetime import date, datetime
 
-from flask import Blueprint, Response, current_app, g, jsonify, request, url_for
+from flask import Blueprint, current_app, g, jsonify, request, url_for
 from pydantic.json_schema import models_json_schema
 from sqlalchemy import select
 from sqlalchemy.orm import selectinload

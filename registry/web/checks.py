@@ -11,7 +11,7 @@ import math
 from datetime import date
 
 import yaml
-from flask import Blueprint, Response, abort, render_template, request, url_for
+from flask import Blueprint, Response, abort, render_template, request
 
 from ..engine.result import format_ratio, margin_ratio
 from ..engine.spec import PLAN_WAVEFORMS, SUPPLIES, TASKS

@@ -53,6 +53,21 @@ def plot_span(p: DischargeProfile) -> float:
     return 1.25 * t if t is not None and math.isfinite(t) and t > 0 else 5 * p.tau
 
 
+def value_grid(left: float, width: float, y, top: float, step: float, label,
+               colour: str) -> list[str]:
+    """Horizontal grid lines from 0 to ``top`` every ``step``, each labelled at the left by
+    ``label(value)`` (already escaped); ``y`` maps a value to its height."""
+    out = []
+    v = 0.0
+    while v <= top + 1e-9:
+        out.append(f'<line x1="{left}" y1="{y(v):.1f}" x2="{left + width}" y2="{y(v):.1f}" '
+                   f'stroke="{colour}"/>')
+        out.append(f'<text x="{left - 6}" y="{y(v) + 4:.1f}" text-anchor="end">'
+                   f'{label(v)}</text>')
+        v += step
+    return out
+
+
 def discharge_svg(path: DischargePath) -> str:
     """The curve of the setup's :class:`DischargeProfile`: the same numbers check 9 states."""
     p = path.profile
@@ -83,14 +98,8 @@ def discharge_svg(path: DischargePath) -> str:
         out.append(f'<text x="{x(t):.1f}" y="{TOP + ph + 16}" text-anchor="middle">'
                    f'{escape(fq(t, TIME)) if t else "0"}</text>')
         t += step_t
-    step_v = nice_step(v0)
-    v = 0.0
-    while v <= v0 + 1e-9:
-        out.append(f'<line x1="{LEFT}" y1="{y(v):.1f}" x2="{LEFT + pw}" y2="{y(v):.1f}" '
-                   f'stroke="#dde3e8"/>')
-        out.append(f'<text x="{LEFT - 6}" y="{y(v) + 4:.1f}" text-anchor="end">'
-                   f'{escape(fq(v, VOLTAGE)) if v else "0"}</text>')
-        v += step_v
+    out += value_grid(LEFT, pw, y, v0, nice_step(v0),
+                      lambda v: escape(fq(v, VOLTAGE)) if v else "0", "#dde3e8")
     out.append(f'<rect x="{LEFT}" y="{TOP}" width="{pw}" height="{ph}" fill="none" '
                f'stroke="#5a6570"/>')
     # the safe level: a dashed line, labelled in words (not by colour alone)
@@ -216,13 +225,7 @@ def month_chart_svg(months, series: dict[str, list[int]], title: str,
     out = [f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {CHART_W} {CHART_H}" '
            f'width="100%" role="img" font-family="sans-serif" font-size="11" class="month-chart">',
            f"<title>{escape(title)}</title>"]
-    v = 0.0
-    while v <= y_max + 1e-9:
-        out.append(f'<line x1="{CHART_LEFT}" y1="{y(v):.1f}" x2="{CHART_LEFT + pw}" '
-                   f'y2="{y(v):.1f}" stroke="#e3e8ec"/>')
-        out.append(f'<text x="{CHART_LEFT - 6}" y="{y(v) + 4:.1f}" text-anchor="end">'
-                   f'{v:g}</text>')
-        v += step
+    out += value_grid(CHART_LEFT, pw, y, y_max, step, lambda v: f"{v:g}", "#e3e8ec")
     for i, month in enumerate(months):
         x0 = CHART_LEFT + i * bw + bw * 0.15
         base = 0

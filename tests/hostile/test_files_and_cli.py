@@ -527,3 +527,14 @@ def test_spec_dataclasses_hold_the_same_bounds(build):
     from registry.engine import spec
     with pytest.raises(spec.SpecError, match="this field takes"):
         build(spec)
+
+
+@pytest.mark.parametrize("field, size", [("serial", 1_001), ("notes", 10_001)])
+def test_text_longer_than_a_field_takes_is_refused(field, size):
+    # a line takes at most 1,000 characters, a note 10,000: common practice (no source)
+    from registry.errors import InvalidInput
+    from registry.formats.common import check_text
+    with pytest.raises(InvalidInput) as err:
+        check_text("x" * size, field, multiline=field == "notes")
+    assert f"at most {size - 1}" in str(err.value)
+    assert check_text("x" * (size - 1), field, multiline=field == "notes")

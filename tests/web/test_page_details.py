@@ -1,5 +1,6 @@
-"""Form fields: a placeholder is escaped once, so the browser shows exactly the example text
-(an attribute string escaped as text showed its quotes: `"480` for `480 V`)."""
+"""Page details a user notices: a placeholder escaped once (an attribute string escaped as
+text showed its quotes, `"480` for `480 V`), overdue units marked, a favicon, sites on the
+result page, and a unit history that names people one way and shows the hold an event opened."""
 
 import re
 from html.parser import HTMLParser
