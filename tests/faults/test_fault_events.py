@@ -11,6 +11,7 @@ An event is acknowledged only after `log_event`'s transaction committed, so none
 
 from __future__ import annotations
 
+import http.client
 import random
 import threading
 import time
@@ -39,8 +40,10 @@ def _post_until_killed(base, token, client, run, acked, problems, stop):
                 "note": f"run {run} client {client} post {seq}"}
         try:
             status, body = fw.request(base, token, "POST", "/events", sent)
-        except OSError:
-            return  # the server is gone: this post is unacknowledged, stored or not
+        except (OSError, http.client.HTTPException):
+            # the server is gone, or died mid-answer (an answer cut short): this post is
+            # unacknowledged, stored or not
+            return
         if status != 201 or not isinstance(body, dict) or "id" not in body:
             problems.append((client, seq, status, body))
             return
