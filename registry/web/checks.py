@@ -283,7 +283,7 @@ def front_end_plot():
     or come closest to their limits under this plan marked with a symbol and a label."""
     from ..drawing import front_end_svg
     from ..engine.protection import context_of, setup_marks
-    from .models import IMAGE_POLICY
+    from .security import IMAGE_POLICY
     fields = fields_from(request.args)
     res, fleet, errors = checked(fields)
     if res is None:

@@ -368,7 +368,7 @@ def test_unit_edit_form_refuses_the_ends_of_the_calendar(env, unit_form, field, 
 def model_form(env):
     from registry.formats.fleet import model_to_document
     from registry.store.specs import model_spec
-    from registry.web.models import edit_texts
+    from registry.web.library import edit_texts
     with env["db"].transaction() as session:
         row = session.scalar(select(m.Model).where(m.Model.key == "kx-7"))
         return edit_texts(model_to_document(model_spec(row)))

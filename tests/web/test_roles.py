@@ -79,6 +79,6 @@ def test_roles_of_the_main_actions(app):
     assert need["api.log"] == "technician"
     assert need["events.release"] == "steward"
     assert need["api.release"] == "steward"
-    assert need["models.edit"] == "steward"
+    assert need["library.edit"] == "steward"
     assert need["users.index"] == "steward"
     assert need["checks.result"] == "viewer"

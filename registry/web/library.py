@@ -26,8 +26,9 @@ from ..store.specs import model_spec, write_model
 from .auth import role_required
 from .forms import FieldErrors
 from .limits import check_texts, control_problem
+from .security import IMAGE_POLICY
 
-bp = Blueprint("models", __name__, url_prefix="/models")
+bp = Blueprint("library", __name__, url_prefix="/models")
 
 SECTIONS = ("ratings", "modes", "front_end")
 FIXED = ("key", "kind", "maker", "name") + SECTIONS  # the rest goes in the "other" box
@@ -48,11 +49,6 @@ def model_or_404(key: str) -> m.Model:
     if row is None:
         abort(404)
     return row
-
-
-# The drawing's SVG carries style attributes; as an image it can run nothing, so this one
-# response may allow them without weakening the pages' policy.
-IMAGE_POLICY = "default-src 'none'; style-src 'unsafe-inline'; frame-ancestors 'none'"
 
 
 @bp.route("/<key>/front-end.svg")
@@ -81,7 +77,7 @@ def index():
                                                   .group_by(m.Unit.model_id))}
     kind = request.args.get("kind", "")
     models = [r for r in rows if not kind or r.kind == kind]
-    return render_template("models/index.html", models=models, counts=counts, kind=kind,
+    return render_template("library/index.html", models=models, counts=counts, kind=kind,
                            kinds=spec.KINDS)
 
 
@@ -95,7 +91,7 @@ def show(key: str):
     changes = db.session.scalars(select(m.Change).where(m.Change.entity == "model",
                                                         m.Change.entity_key == key)
                                  .order_by(m.Change.at.desc(), m.Change.id.desc()).limit(50))
-    return render_template("models/show.html", model=s, units=list(units),
+    return render_template("library/show.html", model=s, units=list(units),
                            changes=list(changes))
 
 
@@ -165,13 +161,13 @@ def edit(key: str):
     errors = FieldErrors()
     current = model_to_document(model_spec(row))
     if request.method == "GET":
-        return render_template("models/edit.html", model=row, texts=edit_texts(current),
+        return render_template("library/edit.html", model=row, texts=edit_texts(current),
                                errors=errors)
     texts = {k: request.form.get(k, "") for k in ("maker", "name", "other") + SECTIONS}
     errors.extend(check_texts(texts, multiline=("other",) + SECTIONS), {k: k for k in texts})
     new = None if errors else parse_edit(row, request.form, errors)
     if new is None:
-        return render_template("models/edit.html", model=row, texts=texts, errors=errors), 400
+        return render_template("library/edit.html", model=row, texts=texts, errors=errors), 400
     diffs = diff_documents(current, model_to_document(new))
     if diffs:
         write_model(row, new, db.session)
@@ -180,4 +176,4 @@ def edit(key: str):
         flash(f"Saved {key}: {len(diffs)} field{'' if len(diffs) == 1 else 's'} changed.")
     else:
         flash(f"Nothing changed in {key}.")
-    return redirect(url_for("models.show", key=key))
+    return redirect(url_for("library.show", key=key))
