@@ -9,6 +9,7 @@ import jsonschema
 from registry.demo import demo_fleet_path
 from registry.formats.common import read_document
 from registry.formats.fleet import fleet_json_schema
+from registry.plans import plan_json_schema
 
 
 def shipped(name):
@@ -18,6 +19,12 @@ def shipped(name):
 def test_fleet_schema_is_current():
     # regenerate with: python -c "from registry.formats.fleet import fleet_json_schema ..."
     assert shipped("fleet.schema.json") == json.loads(json.dumps(fleet_json_schema()))
+
+
+def test_plan_schema_is_current():
+    # regenerate with: python -c "from registry.plans import plan_json_schema ..."
+    # (DEVELOPERS.md, Conventions)
+    assert shipped("plan.schema.json") == json.loads(json.dumps(plan_json_schema()))
 
 
 def test_demo_fleet_validates_against_shipped_schema():

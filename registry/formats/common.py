@@ -166,7 +166,8 @@ def path_of(loc: tuple) -> str:
     return out
 
 
-def _friendly(err: dict) -> str:
+def error_message(err: dict) -> str:
+    """One pydantic error as the formats say it ("is required", a quantity's own message)."""
     kind = err["type"]
     if kind == "missing":
         return "is required"
@@ -186,7 +187,7 @@ def problems_from(exc: ValidationError, prefix: tuple = ()) -> list[FieldProblem
     for err in exc.errors():
         loc = tuple(p for p in err["loc"] if not (isinstance(p, str) and p.startswith(
             ("function-", "tagged-union"))))
-        problems.append(FieldProblem(path_of(prefix + loc), _friendly(err)))
+        problems.append(FieldProblem(path_of(prefix + loc), error_message(err)))
     return problems
 
 
