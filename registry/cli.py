@@ -292,7 +292,7 @@ def check(plan: Path, as_json: bool, show_all: bool, on: str | None, explain: st
     """Run a job plan against the fleet. Exit 0 if some setup fits, 1 if none does."""
     import json as json_module
 
-    from .checking import check_registry, plan_from
+    from .services.checks import check_registry, plan_from
     from .plans import read_plan_file
     from .report import exit_code, render_text
     from .formats.common import parse_date

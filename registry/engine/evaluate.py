@@ -1,4 +1,5 @@
-"""Run a plan against a fleet: checks per model combination, then mapped onto units.
+"""Run a plan against a fleet, the whole check (checks 1 to 12, the front-end analysis of
+check 10 included): checks per model combination, then mapped onto units.
 
 The checks depend on the models (instrument, mode, accessories) and the plan only, so each
 combination is evaluated once however many units share it; units then bring their state
@@ -17,6 +18,7 @@ from .derived import derive
 from .dead_work import check_proving_dead
 from .findings import _SEVERITY, Finding, verdict_of
 from .history import check_history, exclusion_reason, plan_cautions
+from .protection import protection_path_check
 from .result import (VERDICT_ORDER, AccessoryResult, Excluded, Result, SetupResult,
                      deciding_finding, setup_margin, sort_key)
 from .setups import SetupContext, check_setup, enumerate_setups
@@ -25,13 +27,15 @@ from .spec import Fleet, Plan, SpecError, UnitState
 ExtraCheck = Callable[[SetupContext], list[Finding]]
 # Rules of the task beside checks 2 to 9 (engine/dead_work.py).
 TASK_CHECKS: tuple[ExtraCheck, ...] = (check_proving_dead,)
+# Check 10, the front-end analysis (engine/protection.py), after the others.
+FRONT_END_CHECKS: tuple[ExtraCheck, ...] = (protection_path_check,)
 
 
 def findings_for(ctx: SetupContext, extra_checks: Sequence[ExtraCheck] = ()) -> tuple[Finding, ...]:
     """Every check's findings for one combination: check 1, checks 2 to 9, the task's rules,
-    then the extra checks (check 10, the front-end analysis, plugs in here)."""
+    check 10, then any extra checks a caller adds."""
     out = list(check_setup(ctx))
-    for check in tuple(CHECKS) + TASK_CHECKS + tuple(extra_checks):
+    for check in tuple(CHECKS) + TASK_CHECKS + FRONT_END_CHECKS + tuple(extra_checks):
         out.extend(check(ctx))
     return tuple(out)
 

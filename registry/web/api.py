@@ -24,7 +24,7 @@ from ..formats.common import parse_date, text_defaults
 from ..formats.fleet import ModelDoc, UnitDoc, model_to_document, unit_to_document
 from ..store import models as m
 from ..store import queries
-from ..checking import check_registry, plan_from
+from ..services.checks import check_registry, plan_from
 from ..store.specs import model_spec, unit_record
 from ..store.users import user_for_token
 from .audit import XLSX

@@ -20,7 +20,7 @@ from ..extensions import db
 from ..formats.common import not_utf8, parse_date, parse_text
 from ..plans import CIRCUIT_QUANTITIES, FORMAT
 from ..store import queries
-from ..checking import plan_from, run_check
+from ..services.checks import plan_from, run_check
 from ..store.fleet import engine_fleet
 from .auth import role_required
 from .forms import FieldErrors

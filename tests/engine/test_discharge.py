@@ -14,7 +14,7 @@ import pytest
 from scipy.integrate import solve_ivp
 from scipy.optimize import brentq
 
-from registry.checking import run_check
+from registry.services.checks import run_check
 from registry.engine import network
 from registry.engine.checks import check_discharge
 from registry.engine.derived import derive

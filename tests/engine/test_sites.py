@@ -3,7 +3,7 @@ pairing across sites is flagged: common practice (no source). The demo fleet kee
 and guarded 2 mm tips at the substation yard (LD-0010, PR-0010) and at the battery lab (LD-0020,
 PR-0020); the field station has LD-4 leads (LD-0030) but no guarded 2 mm tips (seeddata/fleet.yaml)."""
 
-from registry.checking import run_check
+from registry.services.checks import run_check
 from registry.demo import demo_fleet_path
 from registry.formats.fleet import fleet_from_file
 from registry.plans import load_plan

@@ -16,7 +16,7 @@ from pathlib import Path
 
 import pytest
 
-from registry.checking import run_check
+from registry.services.checks import run_check
 from registry.cli import main
 from registry.engine.network import NetworkError, SolveFailed, build_netlist, cache_clear
 from registry.engine.network import scenarios

@@ -1,0 +1,39 @@
+"""Check a job: a plan against the registry's fleet, the one place the CLI, the web page and
+the API call.
+
+It loads the fleet from the database into engine specs and runs the engine's whole check
+(:func:`registry.engine.evaluate.evaluate`, the front-end analysis of check 10 included).
+"""
+
+from __future__ import annotations
+
+from datetime import date
+
+from sqlalchemy import select
+from sqlalchemy.orm import Session
+
+from ..engine.evaluate import evaluate
+from ..engine.result import Result
+from ..engine.spec import Fleet, Plan
+from ..plans import parse_plan
+from ..store import models as m
+from ..store.fleet import engine_fleet
+
+
+def site_altitudes(session: Session) -> dict[str, float]:
+    return {s.name: s.altitude for s in session.scalars(select(m.Site))}
+
+
+def plan_from(data, session: Session, on: date | None = None) -> Plan:
+    """Validate a plan document; a plan naming a registered site may leave out its altitude."""
+    return parse_plan(data, on, sites=site_altitudes(session))
+
+
+def run_check(plan: Plan, fleet: Fleet) -> Result:
+    """The whole check of ``plan`` against a fleet already loaded."""
+    return evaluate(plan, fleet)
+
+
+def check_registry(plan: Plan, session: Session) -> Result:
+    """The whole check of ``plan`` against the fleet in the database."""
+    return run_check(plan, engine_fleet(session))
