@@ -20,7 +20,7 @@ import time
 from datetime import date
 from importlib import resources
 
-from registry.checking import run_check
+from registry.services.checks import run_check
 from registry.demo import demo_fleet_path
 from registry.engine.network import cache_clear
 from registry.engine.spec import Fleet
