@@ -418,7 +418,7 @@ def event():
 def event_add(unit, kind, mode, voltage, energy, duration, waveform, symptoms, note, by, at):
     """Log an event; print whether it was within rating and whether a hold opened."""
     from . import units as u
-    from .store.events import log_event
+    from .services.events import log_event
     values = dict(voltage=_quantity_option(voltage, u.VOLTAGE, "--voltage"),
                   energy=_quantity_option(energy, u.ENERGY, "--energy"),
                   duration=_quantity_option(duration, u.TIME, "--duration"))
@@ -466,7 +466,7 @@ def hold():
 @reports_errors
 def hold_release(unit, result, by, note):
     """Close a unit's open hold with the inspection result (fail retires the unit)."""
-    from .store.holds import release_hold
+    from .services.holds import release_hold
     database = _env().database()
     rel = release_hold(database, unit=unit, result=result, by=_by(by), note=note)
     ids = ", ".join(str(i) for i in rel.holds)

@@ -64,7 +64,13 @@ class NotFound(WithstandError):
 
 
 class NotAllowed(WithstandError):
-    """The user's role may not do this."""
+    """The user's role may not do this, or a rule forbids it (a steward lowering their own
+    role)."""
+
+
+class Conflict(WithstandError):
+    """The thing asked for was done already or the record's state forbids it now (a hold
+    released already); the web answers 409."""
 
 
 class DatabaseNotReady(WithstandError):

@@ -15,35 +15,16 @@ Chains: ``event`` (the links are the event rows' own ``prev_hash``/``hash``, see
 
 from __future__ import annotations
 
-import hashlib
 import hmac
-import json
-from dataclasses import dataclass
 from datetime import datetime, timezone
 
 from sqlalchemy import func, select, text
 from sqlalchemy.orm import Session
 
 from . import models as m
+from .keys import GENESIS, ChainState, canonical, chain_key, keyed_hash  # noqa: F401  (the chain's names)
 
-GENESIS = "0" * 64
 CHAIN_LOCK_KEY = 0x77697468  # the same advisory lock as event appends: one writer at a time
-
-
-def chain_key() -> bytes:
-    from ..config import chain_key as configured
-    return configured().encode("utf-8")
-
-
-def canonical(doc: dict) -> bytes:
-    """Sorted keys, no spaces, UTF-8, no NaN: one byte string per content."""
-    return json.dumps(doc, sort_keys=True, separators=(",", ":"), ensure_ascii=False,
-                      allow_nan=False).encode("utf-8")
-
-
-def keyed_hash(key: bytes, doc: dict) -> str:
-    """HMAC-SHA256 (RFC 2104, FIPS 180-4) of the canonical JSON of ``doc``, hex."""
-    return hmac.new(key, canonical(doc), hashlib.sha256).hexdigest()
 
 
 def lock(session: Session) -> None:
@@ -125,28 +106,6 @@ def link_hold_released(session: Session, hold: m.Hold) -> m.Link:
 def link_change(session: Session, change: m.Change) -> m.Link:
     """Call after adding a change record (``fleet.record_changes`` does)."""
     return append_link(session, "change", change)
-
-
-# -- state --------------------------------------------------------------------------------
-
-@dataclass(frozen=True)
-class ChainState:
-    ok: bool
-    count: int  # entries read
-    broken_at: int | None  # id of the first entry (event, hold, change) whose link fails
-    problem: str  # what is wrong there; "" when ok
-    head: str  # the last link (GENESIS when there is none)
-    noun: str = "event"
-
-    def summary(self) -> str:
-        if self.ok:
-            counted = (f"{self.count} event{'s' if self.count != 1 else ''}"
-                       if self.noun == "event"
-                       else f"{self.count} entr{'y' if self.count == 1 else 'ies'}")
-            return f"intact: {counted}, head {self.head[:16]}"
-        if self.broken_at is None:
-            return f"broken: {self.problem}"
-        return f"broken at {self.noun} {self.broken_at}: {self.problem}"
 
 
 def seal_content(seal: m.ChainSeal) -> dict:

@@ -3,7 +3,7 @@
 Every event row carries ``hash = HMAC-SHA256(key, canonical JSON of its content + prev_hash)``
 (HMAC: RFC 2104; SHA-256: FIPS 180-4), where ``prev_hash`` is the hash of the event before it
 (by id), the first event's is :data:`GENESIS`, and the key is kept outside the database
-(:func:`.chain.chain_key`). The content names the unit and the user by id and by tag and
+(:func:`.keys.chain_key`). The content names the unit and the user by id and by tag and
 login, so renaming either breaks the link. An edit of any hashed field changes that row's
 hash, and without the key nobody can recompute it; a deletion or a reordering breaks the next
 row's ``prev_hash``. :func:`verify_chain` names the first broken link. Events written before
@@ -12,7 +12,8 @@ boundary the seal records (:func:`.chain.seal_legacy`).
 
 Appends are serialised so that two writers cannot both chain onto the same last event: on
 SQLite the transaction takes the write lock at its start (``BEGIN IMMEDIATE``), on PostgreSQL
-it takes a transaction-level advisory lock.
+it takes a transaction-level advisory lock (:func:`lock_chain`). Logging an event, the use
+case, is :func:`registry.services.events.log_event`.
 """
 
 from __future__ import annotations
@@ -21,36 +22,17 @@ import hashlib
 import hmac
 import json
 import uuid
-from dataclasses import dataclass
 from datetime import datetime
 
 from sqlalchemy import select, text
 from sqlalchemy.orm import Session
 
-from ..engine import events as ev_engine
-from ..engine.events import Assessment, Stress
-from ..errors import InvalidInput, NotAllowed, NotFound
-from ..formats.common import FIRST_YEAR, LAST_YEAR, check_text
+from ..errors import NotFound
 from . import models as m
-from .chain import GENESIS, ChainState, chain_key, keyed_hash
-from .db import Database
-from .fleet import utcnow
-from .specs import model_spec
-from .users import get_user
+from .keys import GENESIS, ChainState, chain_key, keyed_hash
 
 # An arbitrary constant naming the event-chain lock among PostgreSQL advisory locks.
 CHAIN_LOCK_KEY = 0x77697468  # "with"
-LOGGING_ROLES = ("technician", "steward")
-FUTURE_SLACK_S = 300  # clocks differ; an event "in the future" by more than this is refused
-
-
-@dataclass(frozen=True)
-class LoggedEvent:
-    id: int
-    unit: str
-    assessment: Assessment
-    hold_id: int | None
-    hold_note: str  # why no hold opened although one was due, e.g. a retired unit
 
 
 def _iso(t: datetime | None) -> str | None:
@@ -120,17 +102,9 @@ def unit_by_tag(session: Session, tag: str) -> m.Unit:
     return unit
 
 
-def require_role(user: m.User, roles, action: str) -> None:
-    if not user.active:
-        raise NotAllowed(f"user '{user.username}' is not active")
-    if user.role not in roles:
-        raise NotAllowed(f"user '{user.username}' is a {user.role}; {action} needs a "
-                         f"{' or '.join(roles)}")
-
-
 def append_event(session: Session, row: m.Event) -> m.Event:
-    """Chain ``row`` onto the last event and insert it. The caller holds the chain lock (see
-    :func:`log_event`); the hash needs the row's id, so the row goes in with a placeholder
+    """Chain ``row`` onto the last event and insert it. The caller holds the chain lock (the
+    logging service, :mod:`registry.services.events`, takes it first); the hash needs the row's id, so the row goes in with a placeholder
     hash that only this transaction ever sees."""
     lock_chain(session)
     key = chain_key()
@@ -142,46 +116,6 @@ def append_event(session: Session, row: m.Event) -> m.Event:
     row.hash = event_hash(row, row.prev_hash, key)
     session.flush()
     return row
-
-
-def log_event(db: Database, *, unit: str, kind: str, by: str, mode: str | None = None,
-              voltage: float | None = None, energy: float | None = None,
-              duration: float | None = None, symptoms=(), note: str = "",
-              at: datetime | None = None, waveform: str | None = None) -> LoggedEvent:
-    """Validate and record one event (SI floats; ``at`` naive UTC, default now; ``waveform``
-    ``ac``, ``dc`` or ``None`` when not known), opening a hold when the assessment calls for
-    one. Nothing is written when anything is invalid."""
-    check_text(note or "", "note", multiline=True)
-    if at is not None and not FIRST_YEAR <= at.year <= LAST_YEAR:
-        raise InvalidInput(f"{at.isoformat(timespec='seconds')} is in the year {at.year}; give "
-                           f"a time from {FIRST_YEAR} to {LAST_YEAR}", "at")
-    stress = Stress(kind, voltage, energy, duration, waveform)
-    with db.transaction(immediate=True) as session:
-        lock_chain(session)  # before reading anything the append depends on
-        user = get_user(session, by)
-        require_role(user, LOGGING_ROLES, "logging an event")
-        row_unit = unit_by_tag(session, unit)
-        assessment = ev_engine.assess(model_spec(row_unit.model), mode, stress, symptoms)
-        now = utcnow()
-        occurred = at or now
-        if (occurred - now).total_seconds() > FUTURE_SLACK_S:
-            raise InvalidInput(f"{occurred.isoformat(timespec='seconds')} UTC is in the future",
-                               "at")
-        row = append_event(session, m.Event(
-            unit_id=row_unit.id, occurred_at=occurred, logged_at=now, logged_by_id=user.id,
-            mode_key=mode, kind=kind, voltage=voltage, energy=energy, duration=duration,
-            waveform=waveform, symptoms=list(ev_engine.check_symptoms(symptoms)), notes=note or "",
-            within_rating=assessment.within_rating,
-            clamp_conducted=assessment.clamp_conducted))
-        hold_id, hold_note = None, ""
-        if assessment.hold:
-            if row_unit.status == "retired":
-                hold_note = "the unit is retired, so no hold was opened"
-            else:
-                from .holds import open_hold
-                hold = open_hold(session, row_unit, row, assessment.hold_reason, user)
-                hold_id = hold.id
-        return LoggedEvent(row.id, row_unit.tag, assessment, hold_id, hold_note)
 
 
 # -- verification ---------------------------------------------------------------------------
@@ -228,5 +162,5 @@ def events_of(session: Session, tag: str) -> list[m.Event]:
     return list(unit_by_tag(session, tag).events)
 
 
-__all__ = ["GENESIS", "ChainState", "LoggedEvent", "canonical_content", "event_hash",
-           "legacy_event_hash", "log_event", "verify_chain", "append_event"]
+__all__ = ["GENESIS", "ChainState", "canonical_content", "event_hash",
+           "legacy_event_hash", "verify_chain", "append_event"]

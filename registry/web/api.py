@@ -18,7 +18,7 @@ from sqlalchemy.orm import selectinload
 
 from .. import units as u
 from ..engine import spec
-from ..errors import FieldProblem, InvalidInput, NotAllowed, NotFound
+from ..errors import Conflict, FieldProblem, InvalidInput, NotAllowed, NotFound
 from ..extensions import csrf, db
 from ..formats.common import parse_date, text_defaults
 from ..formats.fleet import ModelDoc, UnitDoc, model_to_document, unit_to_document
@@ -27,9 +27,13 @@ from ..store import queries
 from ..services.checks import check_registry, plan_from
 from ..store.specs import model_spec, unit_record
 from ..store.users import user_for_token
-from .audit import XLSX
-from .auth import ROLE_RANK
+from ..services.events import log_event
+from ..services.holds import release_hold
+from .access import ROLE_RANK
+from .downloads import XLSX, workbook_response
+from .forms import FieldErrors
 from .limits import check_texts, int_arg, parse_json_body
+from .params import audit_args, fleet_query
 from .schemas import EventRequest, HoldRelease, plan_schema, validated
 
 bp = Blueprint("api", __name__, url_prefix="/api/v1")
@@ -68,6 +72,11 @@ def _not_found(exc: NotFound):
 @bp.errorhandler(NotAllowed)
 def _not_allowed(exc: NotAllowed):
     return jsonify(error_body(403, str(exc))), 403
+
+
+@bp.errorhandler(Conflict)
+def _conflict(exc: Conflict):
+    return jsonify(error_body(409, str(exc))), 409
 
 
 def token_required(role: str):
@@ -147,8 +156,6 @@ def event_json(e: m.Event) -> dict:
 @bp.route("/units")
 @token_required("viewer")
 def units():
-    from .fleet import fleet_query
-    from .forms import FieldErrors
     errors = FieldErrors()
     fq, _typed = fleet_query(request.args, errors)
     if errors:
@@ -209,11 +216,12 @@ def events():
 @bp.route("/events", methods=["POST"])
 @token_required("technician")
 def log():
-    from .events import record
     req = validated(EventRequest, json_body())
-    logged = record(req, g.api_user.username)
-    row = db.session.get(m.Event, logged.id)
-    hold = db.session.get(m.Hold, logged.hold_id) if logged.hold_id else None
+    logged = log_event(db.database, unit=req.unit, kind=req.kind, by=g.api_user.username,
+                       mode=req.mode, voltage=req.voltage, energy=req.energy,
+                       duration=req.duration, symptoms=req.symptoms, note=req.note,
+                       at=req.at, waveform=req.waveform)
+    row, hold = logged.event, logged.hold  # loaded whole by the service
     body = dict(event_json(row), reasons=list(logged.assessment.reasons),
                 hold=None if hold is None else hold_json(hold), hold_note=logged.hold_note)
     return body, 201, {"Location": url_for("api.events", unit=row.unit.tag)}
@@ -232,19 +240,9 @@ def holds():
 @bp.route("/holds/<int:hold_id>/release", methods=["POST"])
 @token_required("steward")
 def release(hold_id: int):
-    from ..store.holds import release_hold
     req = validated(HoldRelease, json_body())
-    hold = db.session.get(m.Hold, hold_id)
-    if hold is None:
-        raise NotFound(f"no hold {hold_id}")
-    if hold.released_at is not None:
-        raise ApiError(409, f"hold {hold_id} was released already")
-    from .events import end_read
-    tag, username = hold.unit.tag, g.api_user.username
-    end_read()
-    done = release_hold(db.database, unit=tag, result=req.result,
-                        by=username, note=req.note, hold_id=hold_id)
-    db.session.expire_all()
+    done = release_hold(db.database, hold_id=hold_id, result=req.result,
+                        by=g.api_user.username, note=req.note)
     return {"unit": done.unit, "holds": list(done.holds), "result": done.result,
             "status": done.status}
 
@@ -252,8 +250,6 @@ def release(hold_id: int):
 @bp.route("/audit/workbook")
 @token_required("viewer")
 def audit_workbook():
-    from .audit import audit_args, workbook_response
-    from .forms import FieldErrors
     errors = FieldErrors()
     since, site, _typed = audit_args(request.args, errors)
     if errors:

@@ -1,45 +1,21 @@
-"""Logging in and out, the current user, and the role a route needs."""
+"""Logging in and out, and loading the signed-in user of a request."""
 
 from __future__ import annotations
 
-import functools
-from dataclasses import dataclass
-
 import math
 
-from flask import (Blueprint, abort, current_app, flash, redirect, render_template, request,
+from flask import (Blueprint, current_app, flash, redirect, render_template, request,
                    session, url_for)
-from flask_login import UserMixin, current_user, login_required, login_user, logout_user
+from flask_login import login_user, logout_user
 
 from ..extensions import db, login_manager
 from ..store import models as m
 from ..store.users import authenticate
+from .access import role_required, signed_in
 from .limits import control_problem
 from .throttle import LoginThrottle
 
 bp = Blueprint("auth", __name__)
-
-ROLE_RANK = {role: i for i, role in enumerate(m.ROLES)}  # viewer < technician < steward
-
-
-@dataclass(frozen=True)
-class SignedIn(UserMixin):
-    """What a request knows of its user; the row stays in the store."""
-
-    id: int
-    username: str
-    display_name: str
-    role: str
-
-    def get_id(self) -> str:
-        return str(self.id)
-
-    def may(self, role: str) -> bool:
-        return ROLE_RANK[self.role] >= ROLE_RANK[role]
-
-
-def signed_in(user: m.User) -> SignedIn:
-    return SignedIn(user.id, user.username, user.display_name, user.role)
 
 
 @login_manager.user_loader
@@ -49,20 +25,6 @@ def load_user(user_id: str):
     except ValueError:
         return None
     return signed_in(user) if user is not None and user.active else None
-
-
-def role_required(role: str):
-    """A view decorator: log in first, then have at least ``role``."""
-    def wrap(view):
-        @functools.wraps(view)
-        @login_required
-        def inner(*args, **kwargs):
-            if not current_user.may(role):
-                abort(403)
-            return view(*args, **kwargs)
-        inner.required_role = role
-        return inner
-    return wrap
 
 
 def _safe_next(target: str | None) -> str:

@@ -22,7 +22,7 @@ from ..plans import CIRCUIT_QUANTITIES, FORMAT
 from ..store import queries
 from ..services.checks import plan_from, run_check
 from ..store.fleet import engine_fleet
-from .auth import role_required
+from .access import role_required
 from .forms import FieldErrors
 from .limits import check_texts, int_arg
 from .plots import DischargePath, discharge_svg, needs_has_svg

@@ -9,7 +9,7 @@ from flask import Blueprint, render_template
 from ..engine import rules, spec
 from ..extensions import db
 from ..store import queries
-from .auth import role_required
+from .access import role_required
 from .plots import KIND_MARKS, month_chart_svg
 
 bp = Blueprint("dashboard", __name__)

@@ -3,52 +3,27 @@
 
 from __future__ import annotations
 
-from datetime import datetime, timezone
-
 from flask import Blueprint, abort, flash, redirect, render_template, request, url_for
 from flask_login import current_user
 from sqlalchemy import select
 from sqlalchemy.orm import selectinload
 
 from ..engine import spec
-from ..errors import InvalidInput, NotAllowed, NotFound
+from ..errors import Conflict, InvalidInput, NotAllowed, NotFound
 from ..extensions import db
+from ..services.events import log_event
+from ..services.holds import release_hold
 from ..store import models as m
 from ..store import queries
-from ..store.events import log_event
-from ..store.holds import release_hold
-from .auth import role_required
-from .fleet import unit_or_404
+from .access import role_required
 from .forms import FieldErrors
 from .limits import check_texts, control_problem
+from .params import unit_or_404
 from .schemas import EventRequest, HoldRelease, validated
 
 bp = Blueprint("events", __name__)
 
 EVENT_FIELDS = ("mode", "kind", "voltage", "energy", "duration", "waveform", "note", "at")
-
-
-def naive_utc(t: datetime | None) -> datetime | None:
-    """The store keeps naive UTC; a time with a zone is converted, one without is taken as
-    UTC already (the form says so)."""
-    if t is None or t.tzinfo is None:
-        return t
-    return t.astimezone(timezone.utc).replace(tzinfo=None)
-
-
-def end_read() -> None:
-    """End the request session's read transaction before the store writes in its own, so
-    that what the view reads afterwards (the new event, the released hold) is read in a fresh
-    snapshot: an open SQLite read transaction keeps seeing the database as it was."""
-    db.session.rollback()
-
-
-def record(req: EventRequest, username: str):
-    end_read()
-    return log_event(db.database, unit=req.unit, kind=req.kind, by=username, mode=req.mode,
-                     voltage=req.voltage, energy=req.energy, duration=req.duration,
-                     symptoms=req.symptoms, note=req.note, at=naive_utc(req.at),
-                     waveform=req.waveform)
 
 
 def _event_form(unit, typed, errors, status=200):
@@ -78,7 +53,11 @@ def new(tag: str):
         if typed[k]:
             data[k] = typed[k]
     try:
-        logged = record(validated(EventRequest, data), current_user.username)
+        req = validated(EventRequest, data)
+        logged = log_event(db.database, unit=req.unit, kind=req.kind, by=current_user.username,
+                           mode=req.mode, voltage=req.voltage, energy=req.energy,
+                           duration=req.duration, symptoms=req.symptoms, note=req.note,
+                           at=req.at, waveform=req.waveform)
     except InvalidInput as exc:
         errors.extend(exc.problems, {k: k for k in EVENT_FIELDS + ("symptoms",)})
         return _event_form(unit, typed, errors, 400)
@@ -127,20 +106,18 @@ def release(hold_id: int):
     hold = hold_or_404(hold_id)
     errors = FieldErrors()
     typed = {"result": request.form.get("result", ""), "note": request.form.get("note", "")}
-    if request.method == "GET" or hold.released_at is not None:
-        if hold.released_at is not None and request.method == "POST":
-            errors.add("_form", "this hold was released already")
-            return _release_form(hold, typed, errors, 409)
+    if request.method == "GET":
         return _release_form(hold, typed, errors)
     try:
         req = validated(HoldRelease, {"result": typed["result"] or None, "note": typed["note"]})
-        tag, hold_id = hold.unit.tag, hold.id
-        end_read()
-        done = release_hold(db.database, unit=tag, result=req.result,
-                            by=current_user.username, note=req.note, hold_id=hold_id)
+        done = release_hold(db.database, hold_id=hold_id, result=req.result,
+                            by=current_user.username, note=req.note)
     except InvalidInput as exc:
         errors.extend(exc.problems, {"result": "result", "note": "note"})
         return _release_form(hold, typed, errors, 400)
+    except Conflict:
+        errors.add("_form", "this hold was released already")
+        return _release_form(hold, typed, errors, 409)
     except (NotFound, NotAllowed) as exc:
         errors.add("_form", str(exc))
         return _release_form(hold, typed, errors, 409)

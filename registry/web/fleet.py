@@ -6,10 +6,9 @@ import io
 from datetime import date
 
 import segno
-from flask import (Blueprint, Response, abort, flash, redirect, render_template, request,
+from flask import (Blueprint, Response, flash, redirect, render_template, request,
                    url_for)
 from flask_login import current_user
-from sqlalchemy import select
 
 from ..engine import rules, spec
 from ..engine.quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, POWER, RESISTANCE, TIME,
@@ -17,13 +16,13 @@ from ..engine.quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, POWER, RESI
 from ..errors import InvalidInput
 from ..extensions import db
 from ..formats.fleet import FORMAT, unit_to_document
-from ..store import models as m
 from ..store import queries
 from ..store.fleet import import_fleet
 from ..store.specs import model_spec, unit_record
-from .auth import role_required
-from .forms import FieldErrors, quantity_or_none
-from .limits import check_texts, control_problem, int_arg
+from .access import role_required
+from .forms import FieldErrors
+from .limits import check_texts
+from .params import fleet_query, unit_or_404
 
 bp = Blueprint("fleet", __name__)
 
@@ -55,44 +54,6 @@ def percent_filter(value):
 def category_choices():
     """The measurement categories every form offers, from the engine's one list."""
     return {"category_choices": [(c, f"CAT {c}") for c in spec.MAINS_CATEGORIES]}
-
-
-def unit_or_404(tag: str) -> m.Unit:
-    if control_problem(tag, multiline=False):
-        abort(404)  # no tag holds a control character (and PostgreSQL refuses a NUL)
-    row = db.session.scalar(select(m.Unit).where(m.Unit.tag == tag))
-    if row is None:
-        abort(404)
-    return row
-
-
-def fleet_query(args, errors: FieldErrors) -> tuple[queries.FleetQuery, dict]:
-    """The filters from a query string; ``typed`` keeps the text as typed for the form."""
-    typed = {k: args.get(k, "").strip() for k in
-             ("q", "kind", "site", "status", "category", "voltage", "due", "sort", "dir")}
-    bad = check_texts({k: args.get(k, "") for k in typed})
-    errors.extend(bad, {k: k for k in typed})
-    for p in bad:  # refused text never reaches the query
-        typed[p.path] = ""
-    if "voltage" not in errors:
-        voltage = quantity_or_none(typed["voltage"], VOLTAGE, "voltage", errors,
-                                   default_unit="V")
-    else:
-        voltage = None
-    try:
-        page = int_arg(args, "page", 1)
-    except InvalidInput as exc:
-        errors.extend(exc.problems, {"page": "page"})
-        page = 1
-    if typed["category"] and typed["category"] not in spec.MAINS_CATEGORIES:
-        errors.add("category", f"'{typed['category']}' is not one of "
-                               f"{', '.join(spec.MAINS_CATEGORIES)}")
-    fq = queries.FleetQuery(
-        q=typed["q"], kind=typed["kind"], site=typed["site"], status=typed["status"],
-        category=typed["category"], voltage=voltage, due=typed["due"],
-        sort=typed["sort"] if typed["sort"] in queries.SORTS else "tag",
-        desc=typed["dir"] == "desc", page=max(page, 1))
-    return fq, typed
 
 
 def _overdue_today():

@@ -23,7 +23,7 @@ from ..formats.fleet import ELEMENT_PARAM_DIMS, FORMAT, model_to_document, parse
 from ..store import models as m
 from ..store.fleet import diff_documents, known_keys, record_changes
 from ..store.specs import model_spec, write_model
-from .auth import role_required
+from .access import role_required
 from .forms import FieldErrors
 from .limits import check_texts, control_problem
 from .security import IMAGE_POLICY

@@ -12,7 +12,7 @@ from ..errors import InvalidInput
 from ..extensions import db
 from ..store import models as m
 from ..store.users import add_user, issue_token, revoke_tokens, validate_role
-from .auth import role_required
+from .access import role_required
 from .forms import FieldErrors
 from .limits import check_texts
 

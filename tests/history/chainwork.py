@@ -6,7 +6,7 @@ import sys
 
 def append_many(url: str, tag: str, n: int) -> int:
     from registry.store.db import Database
-    from registry.store.events import log_event
+    from registry.services.events import log_event
     db = Database(url)
     try:
         for i in range(n):
@@ -19,7 +19,7 @@ def append_many(url: str, tag: str, n: int) -> int:
 
 def append_until(url: str, tag: str, stop_file: str) -> int:
     from registry.store.db import Database
-    from registry.store.events import log_event
+    from registry.services.events import log_event
     db = Database(url)
     done = 0
     try:

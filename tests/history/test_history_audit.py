@@ -17,7 +17,7 @@ import yaml
 from registry.cli import main
 from registry.demo import demo_fleet_path
 from registry.store.audit import SHEETS, export_audit
-from registry.store.events import log_event
+from registry.services.events import log_event
 
 ON = date(2026, 12, 2)
 
@@ -191,7 +191,7 @@ def test_demo_workbook_opens_in_libreoffice(with_events, demo_doc, tmp_path):
 def test_days_open_is_in_days_to_one_decimal_and_dates_are_dates(demo, tmp_path):
     from sqlalchemy import update
     from registry.store import models as m
-    from registry.store.holds import release_hold
+    from registry.services.holds import release_hold
     log_event(demo, unit="NB-0002", kind="overvoltage", mode="vdc", voltage=400.0,
               symptoms=["smell"], by="tech", at=datetime(2026, 11, 1, 8, 0))
     release_hold(demo, unit="NB-0002", result="pass", by="steward")

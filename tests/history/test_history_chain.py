@@ -22,7 +22,8 @@ from registry.cli import main
 from registry.demo import load_demo
 from registry.store import db as store_db
 from registry.store import models as m
-from registry.store.events import GENESIS, log_event, verify_chain
+from registry.services.events import log_event
+from registry.store.events import GENESIS, verify_chain
 
 HERE = Path(__file__).parent
 sys.path.insert(0, str(HERE))

@@ -20,9 +20,9 @@ from registry.engine.events import Stress, assess, clamp_conducted
 from registry.errors import InvalidInput, NotAllowed, NotFound
 from registry.formats.fleet import load_fleet_file
 from registry.store import models as m
-from registry.store.events import log_event
+from registry.services.events import log_event
 from registry.store.fleet import engine_fleet
-from registry.store.holds import release_hold
+from registry.services.holds import release_hold
 
 ON = date(2026, 12, 2)
 

@@ -25,10 +25,11 @@ from registry.store import models as m
 from registry.store.audit import export_audit
 from registry.store.chain import (chain_key, compare_with, read_exported_heads, seal_legacy,
                                   verify_all)
+from registry.services.events import log_event
 from registry.store.events import (canonical_content, event_hash, legacy_event_hash,
-                                   log_event, signed_content)
+                                   signed_content)
 from registry.store.fleet import import_fleet
-from registry.store.holds import release_hold
+from registry.services.holds import release_hold
 
 TAGS = ("NB-0001", "NB-0002", "SY-0005", "BL-0001")
 

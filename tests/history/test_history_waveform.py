@@ -27,7 +27,8 @@ from registry.errors import InvalidInput
 from registry.formats.fleet import load_fleet_file
 from registry.store import db as store_db
 from registry.store import models as m
-from registry.store.events import GENESIS, legacy_event_hash, log_event, verify_chain
+from registry.services.events import log_event
+from registry.store.events import GENESIS, legacy_event_hash, verify_chain
 
 
 @pytest.fixture(scope="module")

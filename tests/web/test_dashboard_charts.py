@@ -10,7 +10,7 @@ from sqlalchemy.orm import Session
 
 from registry.demo import demo_fleet_path
 from registry.store import queries
-from registry.store.events import log_event
+from registry.services.events import log_event
 from webhelp import login_as
 
 TODAY = date(2026, 12, 2)

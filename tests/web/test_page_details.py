@@ -79,7 +79,7 @@ def test_result_page_shows_sites_and_flags_a_pairing_across_sites(client, demo):
 
 
 def test_unit_history_names_people_one_way_and_shows_the_hold_an_event_opened(client, demo):
-    from registry.store.events import log_event
+    from registry.services.events import log_event
     from registry.store.fleet import import_fleet  # noqa: F401  (the demo loaded by import)
     # a stress within rating but with a symptom opens a hold (the hold rule)
     log_event(demo, unit="NB-0002", kind="overvoltage", mode="vdc", voltage=400.0,
