@@ -10,10 +10,6 @@ from werkzeug.exceptions import HTTPException, InternalServerError
 CONTENT_SECURITY_POLICY = ("default-src 'self'; img-src 'self' data:; style-src 'self'; "
                            "script-src 'self'; frame-ancestors 'none'; form-action 'self'; "
                            "base-uri 'none'")
-# The drawing's SVG carries style attributes; as an image it can run nothing, so the drawing
-# responses (the model page's and the result's) may allow them without weakening the pages'.
-IMAGE_POLICY = "default-src 'none'; style-src 'unsafe-inline'; frame-ancestors 'none'"
-
 # An SVG drawing (a front end) carries style attributes; as an image it can run nothing, so
 # such a response may allow them without weakening the pages' policy.
 IMAGE_POLICY = "default-src 'none'; style-src 'unsafe-inline'; frame-ancestors 'none'"
