@@ -121,6 +121,14 @@ def test_unit_may_name_a_model_already_in_the_registry(doc):
     assert content.units[0].model == "kx-7"
 
 
+def test_a_model_key_that_is_a_list_is_a_problem_not_a_crash(doc):
+    # found by comparing the split model reader with the one before it on generated files:
+    # the set of model keys the units may name took the list and raised a TypeError
+    doc["models"][0]["key"] = ["kx", "7"]
+    got = problems(doc)
+    assert "models[0].key" in got, got
+
+
 @pytest.mark.parametrize("suffix", [".yaml", ".json"])
 def test_round_trip_is_lossless(doc, tmp_path, suffix):
     first = fleet_to_document(parse_fleet(doc))

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import math
 import re
+from collections.abc import Hashable
 from dataclasses import dataclass
 from datetime import date
 from typing import Annotated, Any, Literal
@@ -255,72 +256,96 @@ def _element_spec(doc: ElementDoc, path: str, problems: list[FieldProblem]) -> s
 
 
 def _model_spec(doc: ModelDoc, path: str, problems: list[FieldProblem]) -> spec.ModelSpec | None:
+    """The model's spec, or ``None`` with its problems added: its front end, its modes, what
+    its kind needs, then what the spec itself refuses."""
     before = len(problems)
-    elements = []
-    for i, e in enumerate(doc.front_end):
-        el = _element_spec(e, f"{path}.front_end[{i}]", problems)
-        if el is not None:
-            elements.append(el)
-    seen = set()
-    for i, e in enumerate(doc.front_end):
-        if e.id in seen:
-            problems.append(FieldProblem(f"{path}.front_end[{i}].id",
-                                         f"'{e.id}' is used by another element"))
-        seen.add(e.id)
-    modes = []
-    switches = {e.id for e in doc.front_end if e.type == "switch"}
-    mode_keys = set()
-    for i, m in enumerate(doc.modes):
-        mpath = f"{path}.modes[{i}]"
-        if m.key in mode_keys:
-            problems.append(FieldProblem(f"{mpath}.key", f"'{m.key}' is used by another mode"))
-        mode_keys.add(m.key)
-        for j, s in enumerate(m.closes):
-            if s not in switches:
-                problems.append(FieldProblem(f"{mpath}.closes[{j}]",
-                                             f"'{s}' is not a switch of this model's front end"))
-        if m.clamp and m.terminals:
-            problems.append(FieldProblem(f"{mpath}.terminals",
-                                         "a clamp-jaw mode has no terminals"))
-        if not m.clamp and (len(m.terminals) != 2 or m.terminals[0] == m.terminals[1]):
-            problems.append(FieldProblem(f"{mpath}.terminals",
-                                         "must name two different terminals, e.g. [V, COM]"))
-        if m.clamp and m.measures != "current":
-            problems.append(FieldProblem(f"{mpath}.clamp", "only a current mode can be a clamp"))
-        try:
-            modes.append(spec.Mode(
-                key=m.key, label=m.label, measures=m.measures, waveform=m.waveform,
-                terminals=tuple(m.terminals), input_resistance=m.input_resistance,
-                input_capacitance=m.input_capacitance, max_input=m.max_input,
-                max_current=m.max_current, max_duration=m.max_duration,
-                discharge_energy=m.discharge_energy, clamp=m.clamp,
-                fuse=m.fuse.spec() if m.fuse else None, closes=tuple(m.closes)))
-        except spec.SpecError:
-            pass  # reported above with its path
-    kind = doc.kind
-    if kind in spec.INSTRUMENT_KINDS and kind != "discharge-tool" and not doc.modes:
-        problems.append(FieldProblem(f"{path}.modes", f"a {kind} needs at least one mode"))
-    if kind == "hv-divider" and doc.attenuation is None:
-        problems.append(FieldProblem(f"{path}.attenuation", "a divider needs its attenuation"))
-    for i, r in enumerate(doc.ratings):
-        if r.category == "none" and r.transient is None:
-            # allowed, but the transient check will say "unknown": nothing to reject here
-            pass
+    elements = _front_end(doc, path, problems)
+    modes = _modes(doc, path, problems)
+    problems.extend(_kind_problems(doc, path))
     if len(problems) > before:
         return None
+    return _build_model(doc, modes, elements, path, problems)
+
+
+def _front_end(doc: ModelDoc, path: str, problems: list[FieldProblem]) -> list[spec.Element]:
+    """The front end's elements that are valid; every element's problems, and element ids
+    used twice, added to ``problems``."""
+    elements = [_element_spec(e, f"{path}.front_end[{i}]", problems)
+                for i, e in enumerate(doc.front_end)]
+    _repeats([e.id for e in doc.front_end], f"{path}.front_end", "id",
+             "is used by another element", problems)
+    return [e for e in elements if e is not None]
+
+
+def _modes(doc: ModelDoc, path: str, problems: list[FieldProblem]) -> list[spec.Mode]:
+    """The model's modes; each mode's problems added to ``problems`` under its path."""
+    switches = {e.id for e in doc.front_end if e.type == "switch"}
+    modes = []
+    seen: set[str] = set()
+    for i, m in enumerate(doc.modes):
+        mpath = f"{path}.modes[{i}]"
+        if m.key in seen:
+            problems.append(FieldProblem(f"{mpath}.key", f"'{m.key}' is used by another mode"))
+        seen.add(m.key)
+        problems.extend(_mode_problems(m, mpath, switches))
+        mode = _mode_spec(m)
+        if mode is not None:
+            modes.append(mode)
+    return modes
+
+
+def _mode_problems(m: ModeDoc, mpath: str, switches: set[str]) -> list[FieldProblem]:
+    """What a mode's fields say against each other and against the front end's switches."""
+    out = [FieldProblem(f"{mpath}.closes[{j}]", f"'{s}' is not a switch of this model's front "
+                                                "end")
+           for j, s in enumerate(m.closes) if s not in switches]
+    if m.clamp and m.terminals:
+        out.append(FieldProblem(f"{mpath}.terminals", "a clamp-jaw mode has no terminals"))
+    if not m.clamp and (len(m.terminals) != 2 or m.terminals[0] == m.terminals[1]):
+        out.append(FieldProblem(f"{mpath}.terminals",
+                                "must name two different terminals, e.g. [V, COM]"))
+    if m.clamp and m.measures != "current":
+        out.append(FieldProblem(f"{mpath}.clamp", "only a current mode can be a clamp"))
+    return out
+
+
+def _mode_spec(m: ModeDoc) -> spec.Mode | None:
+    try:
+        return spec.Mode(**m.model_dump(exclude={"terminals", "fuse", "closes"}),
+                         terminals=tuple(m.terminals), closes=tuple(m.closes),
+                         fuse=m.fuse.spec() if m.fuse else None)
+    except spec.SpecError:
+        return None  # _mode_problems reported it with its path
+
+
+def _kind_problems(doc: ModelDoc, path: str) -> list[FieldProblem]:
+    """What the model's kind needs: an instrument its modes, a divider its attenuation. (A
+    rating of category "none" without a transient is allowed: the transient check says
+    "unknown".)"""
+    out = []
+    if doc.kind in spec.INSTRUMENT_KINDS and doc.kind != "discharge-tool" and not doc.modes:
+        out.append(FieldProblem(f"{path}.modes", f"a {doc.kind} needs at least one mode"))
+    if doc.kind == "hv-divider" and doc.attenuation is None:
+        out.append(FieldProblem(f"{path}.attenuation", "a divider needs its attenuation"))
+    return out
+
+
+# The fields a model document and its spec share as they are.
+_MODEL_VALUES = ("key", "kind", "maker", "name", "integrated_leads", "max_altitude",
+                 "pollution_degree", "connector", "current_rating", "tip_exposure",
+                 "attenuation", "required_load", "output_resistance", "min_voltage",
+                 "resistance", "energy", "power", "max_voltage")
+
+
+def _build_model(doc: ModelDoc, modes: list[spec.Mode], elements: list[spec.Element],
+                 path: str, problems: list[FieldProblem]) -> spec.ModelSpec | None:
     try:
         return spec.ModelSpec(
-            key=doc.key, kind=kind, maker=doc.maker, name=doc.name,
+            **{name: getattr(doc, name) for name in _MODEL_VALUES},
             ratings=tuple(spec.Rating(r.category, r.voltage, r.transient, r.max_altitude)
                           for r in doc.ratings),
             modes=tuple(modes), front_end=tuple(elements), connectors=tuple(doc.connectors),
-            integrated_leads=doc.integrated_leads, max_altitude=doc.max_altitude,
-            pollution_degree=doc.pollution_degree, connector=doc.connector,
-            current_rating=doc.current_rating, tip_exposure=doc.tip_exposure,
-            fuse=doc.fuse.spec() if doc.fuse else None, attenuation=doc.attenuation,
-            required_load=doc.required_load, output_resistance=doc.output_resistance,
-            min_voltage=doc.min_voltage, resistance=doc.resistance, energy=doc.energy,
-            power=doc.power, max_voltage=doc.max_voltage)
+            fuse=doc.fuse.spec() if doc.fuse else None)
     except spec.SpecError as exc:
         problems.append(FieldProblem(path, str(exc)))
         return None
@@ -353,7 +378,9 @@ def parse_fleet(data: Any, *, known_models: set[str] = frozenset(),
     _duplicates([x and x.tag for x in unit_docs], "units", "tag", problems)
     # a model that failed validation is still named, so its units are not reported twice
     raw_models = data.get("models") if isinstance(data.get("models"), list) else []
-    model_keys = ({m.get("key") for m in raw_models if isinstance(m, dict)}
+    # (a key that is a list or a mapping is reported above; it names no model)
+    model_keys = ({m.get("key") for m in raw_models
+                   if isinstance(m, dict) and isinstance(m.get("key"), Hashable)}
                   | set(known_models))
     site_names = {s.name for s in sites if s} | set(known_sites)
     for i, unit in enumerate(unit_docs):
@@ -396,13 +423,17 @@ def _validate_list(data: dict, section: str, doc_type, problems: list[FieldProbl
 
 
 def _duplicates(values, section, field, problems):
+    _repeats(values, section, field, "appears twice in this file", problems)
+
+
+def _repeats(values, section: str, field: str, says: str, problems: list[FieldProblem]):
+    """Each value given again after its first (``None``: an entry that is not valid)."""
     seen = set()
     for i, v in enumerate(values):
         if v is None:
             continue
         if v in seen:
-            problems.append(FieldProblem(f"{section}[{i}].{field}",
-                                         f"'{v}' appears twice in this file"))
+            problems.append(FieldProblem(f"{section}[{i}].{field}", f"'{v}' {says}"))
         seen.add(v)
 
 
