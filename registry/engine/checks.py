@@ -10,10 +10,11 @@ from __future__ import annotations
 
 import math
 from dataclasses import replace
+from typing import Any
 
 from ..standards import altitude as alt
 from ..standards import impulse, probe_tips
-from .findings import Finding, headroom
+from .findings import Compare, Finding, headroom
 from .quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, POWER, RESISTANCE, TIME, VOLTAGE,
                        format_quantity as fq)
 # discharge_time and absorbed_in live with the one discharge rule; kept importable from here
@@ -45,8 +46,15 @@ DISCHARGE_TIME_LIMIT = 60.0  # s; a longer discharge is a caution (SPEC §5.9)
 DRAIN_FACTOR = 10.0       # R*C under ten times the duration drains appreciably (SPEC §5.9)
 
 
-def _f(check, status, subject, message, source, required="", available="", margin=None):
-    return Finding(check, status, subject, message, source, required, available, margin)
+def _f(check, status, subject, message, source, required="", available="", margin=None, *,
+       need: float | None = None, have: float | None = None, unit: str = "",
+       compare: Compare = Compare.AT_LEAST, basis: str = "") -> Finding:
+    """A finding; ``need``/``have`` are its numbers (SI floats in ``unit``), from which the
+    ``required``/``available`` texts are rendered where they are not given."""
+    numeric = need is not None or have is not None
+    return Finding(check, status, subject, message, source, required, available, margin,
+                   required_value=need, available_value=have, unit=unit if numeric else "",
+                   compare=compare, basis=basis)
 
 
 def rating_text(r: Rating) -> str:
@@ -88,7 +96,8 @@ def check_category(ctx: SetupContext) -> list[Finding]:
         if not item.ratings:
             out.append(_f("category", "unknown", item.key,
                           f"{item.key} has no rating recorded; its fitness for "
-                          f"{required} cannot be checked.", SRC_CATEGORY, required))
+                          f"{required} cannot be checked.", SRC_CATEGORY, required,
+                          need=need, unit="V"))
             continue
         fits = fitting_ratings(item, cat, need)
         if fits:
@@ -97,7 +106,8 @@ def check_category(ctx: SetupContext) -> list[Finding]:
             out.append(_f("category", "pass", item.key,
                           f"{item.key} is rated {rating_text(best)}, enough for {required}"
                           f"{' ' + where if where else ''}.", SRC_CATEGORY, required,
-                          rating_text(best), headroom(best.voltage, need)))
+                          rating_text(best), headroom(best.voltage, need),
+                          need=need, have=best.voltage, unit="V"))
         else:
             available = ", ".join(rating_text(r) for r in item.ratings)
             if cat is not None:
@@ -108,7 +118,8 @@ def check_category(ctx: SetupContext) -> list[Finding]:
             closest = max(item.ratings, key=lambda r: r.voltage)
             out.append(_f("category", "fail", item.key,
                           f"{item.key} must not be used here: {why}.", SRC_CATEGORY, required,
-                          available, _short(closest.voltage, need)))
+                          available, _short(closest.voltage, need),
+                          need=need, have=closest.voltage, unit="V"))
     return out
 
 
@@ -163,7 +174,8 @@ def check_tip(ctx: SetupContext) -> list[Finding]:
                f"should be {limit} or less"
                + (" (HSE GS38; an isolated circuit has no measurement category)." if cat is None
                   else "."))
-        return [_f("tip", "unknown", item.key, msg, source, f"<= {limit}")]
+        return [_f("tip", "unknown", item.key, msg, source, need=probe_tips.PREFERRED_EXPOSURE,
+                   unit="m", compare=Compare.AT_MOST)]
     assert item.tip_exposure is not None  # tip_status gives unknown (returned above) without it
     have = fq(item.tip_exposure, LENGTH)
     beyond = item.tip_exposure > probe_tips.MAX_EXPOSURE
@@ -182,8 +194,9 @@ def check_tip(ctx: SetupContext) -> list[Finding]:
     if cat is None and status != "pass":
         msg += (" An isolated circuit has no measurement category: IEC 61010-031's 4 mm limit "
                 "for CAT III/IV probes does not apply, GS38's guidance does, as a caution.")
-    required = f"<= {top}" if status == "fail" else f"<= {limit}"
-    return [_f("tip", status, item.key, msg, source, required, have)]
+    allowed = probe_tips.MAX_EXPOSURE if status == "fail" else probe_tips.PREFERRED_EXPOSURE
+    return [_f("tip", status, item.key, msg, source, need=allowed, have=item.tip_exposure,
+               unit="m", compare=Compare.AT_MOST)]
 
 
 # -- check 3: transient -----------------------------------------------------------------------
@@ -244,13 +257,14 @@ def check_transient(ctx: SetupContext) -> list[Finding]:
                           f"{item.key} has no rating that covers {cover}, so none of its "
                           f"impulse withstands applies here; {required} is not withstood.",
                           impulse.SOURCE, required,
-                          ", ".join(rating_text(r) for r in item.ratings)))
+                          ", ".join(rating_text(r) for r in item.ratings),
+                          need=need, unit="V", basis="peak"))
             continue
         if have is None:
             out.append(_f("transient", "unknown", item.key,
                           f"{item.key} states no impulse withstand (a 'none' rating without "
                           f"a transient); {required} cannot be checked.", impulse.SOURCE,
-                          required))
+                          need=need, unit="V", basis="peak"))
             continue
         by = max((r for r in covering if rating_withstand(r) == have),
                  key=lambda r: r.voltage)
@@ -259,8 +273,8 @@ def check_transient(ctx: SetupContext) -> list[Finding]:
                       f"{item.key} withstands {fq(have, VOLTAGE)} peak by its rating "
                       f"{rating_text(by)}; the circuit can deliver {required}"
                       + ("." if ok else ": it may flash over."),
-                      ctx.derived.transient_source, required, f"{fq(have, VOLTAGE)} peak",
-                      headroom(have, need)))
+                      ctx.derived.transient_source, margin=headroom(have, need),
+                      need=need, have=have, unit="V", basis="peak"))
     return out
 
 
@@ -300,7 +314,7 @@ def check_altitude(ctx: SetupContext) -> list[Finding]:
             out.append(_f("altitude", "pass" if ok else "fail", item.key,
                           f"{item.key} is for use up to {fq(top, LENGTH)}; the site is at "
                           f"{fq(h, LENGTH)}" + ("." if ok else f"; {_factor_text(h, top)}."),
-                          SRC_ALTITUDE, fq(h, LENGTH), fq(top, LENGTH), headroom(top, h)))
+                          SRC_ALTITUDE, margin=headroom(top, h), need=h, have=top, unit="m"))
             continue
         top_rating = max(relevant, key=lambda r: rating_altitude(item, r))
         top = rating_altitude(item, top_rating)
@@ -312,14 +326,14 @@ def check_altitude(ctx: SetupContext) -> list[Finding]:
             out.append(_f("altitude", "pass", item.key,
                           f"{item.key}'s rating {rating_text(top_rating)} holds up to "
                           f"{fq(top, LENGTH)}; the site is at {fq(h, LENGTH)}{note}.",
-                          SRC_ALTITUDE,
-                          fq(h, LENGTH), fq(top, LENGTH), headroom(top, h)))
+                          SRC_ALTITUDE, margin=headroom(top, h), need=h, have=top,
+                          unit="m"))
         else:
             out.append(_f("altitude", "fail", item.key,
                           f"{item.key}'s rating {rating_text(top_rating)} holds only up to "
                           f"{fq(top, LENGTH)}; at {fq(h, LENGTH)} it does not apply: "
-                          f"{_factor_text(h, top)}.", SRC_ALTITUDE, fq(h, LENGTH),
-                          fq(top, LENGTH), headroom(top, h)))
+                          f"{_factor_text(h, top)}.", SRC_ALTITUDE,
+                          margin=headroom(top, h), need=h, have=top, unit="m"))
     return out
 
 
@@ -329,12 +343,13 @@ def _limit(check, subject, what, have, need, dim, source, unit_note=""):
     required = fq(need, dim)
     if have is None:
         return _f(check, "unknown", subject, f"{what}: the maker's limit is not recorded; "
-                  f"{required}{unit_note} cannot be checked.", source, required)
+                  f"{required}{unit_note} cannot be checked.", source, need=need,
+                  unit=dim.unit)
     ok = have >= need
     return _f(check, "pass" if ok else "fail", subject,
               f"{what}: {fq(have, dim)} against {required}{unit_note}"
-              + ("." if ok else ", more than it is rated for."), source, required,
-              fq(have, dim), headroom(have, need))
+              + ("." if ok else ", more than it is rated for."), source,
+              margin=headroom(have, need), need=need, have=have, unit=dim.unit)
 
 
 def check_mode_input(ctx: SetupContext) -> list[Finding]:
@@ -368,7 +383,7 @@ def chain_current(ctx: SetupContext) -> list[Finding]:
         return []
     required = fq(need, CURRENT)
     out = [_f("mode-input", "unknown", a.key, f"{a.key} carries the {required} in series but "
-              "its rated current is not recorded.", SRC_CHAIN_CURRENT, required)
+              "its rated current is not recorded.", SRC_CHAIN_CURRENT, need=need, unit="A")
            for a in carriers if a.current_rating is None]
     rated = [(a, a.current_rating) for a in carriers if a.current_rating is not None]
     if rated:
@@ -378,8 +393,8 @@ def chain_current(ctx: SetupContext) -> list[Finding]:
         out.append(_f("mode-input", "pass" if ok else "fail", low.key,
                       f"The chain carries {required} in series; the lowest rated current in "
                       f"it is {low.key}'s {fq(have, CURRENT)} ({listing})"
-                      + ("." if ok else ": it would overheat."), SRC_CHAIN_CURRENT, required,
-                      fq(have, CURRENT), headroom(have, need)))
+                      + ("." if ok else ": it would overheat."), SRC_CHAIN_CURRENT,
+                      margin=headroom(have, need), need=need, have=have, unit="A"))
     return out
 
 
@@ -400,7 +415,8 @@ def _fuse_findings(ctx: SetupContext, subject: str, label: str, fuses, status_ba
         return [_f("misuse", "unknown", subject,
                    f"{label}: no fuse is recorded; whether it survives being put across "
                    f"{across} is not known.", SRC_MISUSE,
-                   fq(ipc, CURRENT) if ipc is not None else fq(c.voltage, VOLTAGE))]
+                   need=ipc if ipc is not None else c.voltage,
+                   unit="A" if ipc is not None else "V")]
     out = []
     v_need = c.voltage
     for who, fuse in fuses:
@@ -418,11 +434,17 @@ def _fuse_findings(ctx: SetupContext, subject: str, label: str, fuses, status_ba
         elif v_have < v_need:
             problems.append(f"its {v_word} {fq(v_have, VOLTAGE)} is below "
                             f"{fq(v_need, VOLTAGE)}")
-        margins = [m for m in (
-            headroom(fuse.breaking_capacity, ipc)
-            if ipc is not None and fuse.breaking_capacity is not None else None,
-            headroom(v_have, v_need) if v_have is not None else None) if m is not None]
-        margin = min(margins) if margins else None
+        # The numbers of the finding are the pair that decides: the one with the least
+        # headroom, else (nothing recorded to hold against) what the circuit asks first.
+        pairs = [(headroom(have, need), need, have, unit) for need, have, unit in (
+            (ipc, fuse.breaking_capacity, "A"), (v_need, v_have, "V"))
+            if need is not None and have is not None]
+        if pairs:
+            margin, need_x, have_x, unit_x = min(pairs, key=lambda p: p[0])
+        else:
+            margin, have_x = None, None
+            need_x, unit_x = (ipc, "A") if ipc is not None else (v_need, "V")
+        numbers: dict[str, Any] = dict(need=need_x, have=have_x, unit=unit_x)
         if ipc is not None:
             required = f"{fq(ipc, CURRENT)}, {fq(v_need, VOLTAGE)}"
             available = ", ".join(x for x in (fq(fuse.breaking_capacity, CURRENT),
@@ -433,23 +455,23 @@ def _fuse_findings(ctx: SetupContext, subject: str, label: str, fuses, status_ba
             out.append(_f("misuse", status_bad, subject,
                           f"{label}, put across the circuit, meets a fuse ({who}) that "
                           + "; ".join(problems) + ": it may not clear the fault.", SRC_MISUSE,
-                          required, available, margin))
+                          required, available, margin, **numbers))
         elif unknowns:
             out.append(_f("misuse", "unknown", subject,
                           f"{label}: the fuse ({who}) has no recorded "
                           + " or ".join(unknowns) + ".", SRC_MISUSE, required, available,
-                          margin))
+                          margin, **numbers))
         elif ipc is not None:
             out.append(_f("misuse", "pass", subject,
                           f"{label}: the fuse ({who}) breaks "
                           f"{fq(fuse.breaking_capacity, CURRENT)} at {fq(v_have, VOLTAGE)}, "
                           f"enough for {fq(ipc, CURRENT)} at {fq(v_need, VOLTAGE)}.",
-                          SRC_MISUSE, required, available, margin))
+                          SRC_MISUSE, required, available, margin, **numbers))
         else:
             out.append(_f("misuse", "pass", subject,
                           f"{label}: the fuse ({who}) has a {v_word} of "
                           f"{fq(v_have, VOLTAGE)}, enough for {fq(v_need, VOLTAGE)}.",
-                          SRC_MISUSE, required, available, margin))
+                          SRC_MISUSE, required, available, margin, **numbers))
     if ipc is None:
         out.append(_f("misuse", "not-run", subject,
                       f"{label}: the fuse's breaking capacity is not checked: the plan gives "
@@ -481,12 +503,11 @@ def _as_misuse(findings: list[Finding], other: Mode) -> list[Finding]:
     out = []
     for f in findings:
         status = "caution" if f.status in ("fail", "unknown") else f.status
-        out.append(_f("misuse", status, f.subject,
-                      f"If {other.label} is selected by mistake on the same terminals: "
-                      + f.message
-                      + (" Do not switch to it while connected." if status == "caution"
-                         else ""), SRC_MISUSE + "; " + f.source, f.required, f.available,
-                      f.margin))
+        out.append(replace(f, check="misuse", status=status,
+                           message=f"If {other.label} is selected by mistake on the same "
+                           "terminals: " + f.message
+                           + (" Do not switch to it while connected." if status == "caution"
+                              else ""), source=SRC_MISUSE + "; " + f.source))
     return out
 
 
@@ -509,17 +530,17 @@ def _misuse_energy(ctx: SetupContext, other: Mode) -> list[Finding]:
     path = "" if r is None else f" through {fq(r, RESISTANCE)}"
     facts = (f"{other.label}, selected by mistake on the {fq(cap, CAPACITANCE)} charged to "
              f"{fq(v0, VOLTAGE)}, would take {fq(e, ENERGY)}{path} in {fq(t, TIME)}")
-    required = fq(e, ENERGY)
     if limit is None:
         return [_f("misuse", "caution", subject, facts + "; the energy it may absorb is not "
                    "recorded. Do not switch to it while connected.", SRC_MISUSE_ENERGY,
-                   required)]
+                   need=e, unit="J")]
     if e > limit:
         return [_f("misuse", "caution", subject, facts + f", more than its "
                    f"{fq(limit, ENERGY)} limit. Do not switch to it while connected.",
-                   SRC_MISUSE_ENERGY, required, fq(limit, ENERGY), headroom(limit, e))]
+                   SRC_MISUSE_ENERGY, margin=headroom(limit, e), need=e, have=limit,
+                   unit="J")]
     return [_f("misuse", "pass", subject, facts + f", within its {fq(limit, ENERGY)} limit.",
-               SRC_MISUSE_ENERGY, required, fq(limit, ENERGY), headroom(limit, e))]
+               SRC_MISUSE_ENERGY, margin=headroom(limit, e), need=e, have=limit, unit="J")]
 
 
 def _current_sockets(ctx: SetupContext) -> list[Finding]:
@@ -581,19 +602,21 @@ def check_misuse(ctx: SetupContext) -> list[Finding]:
                           f"{other.label} shares the terminals {'/'.join(mode.terminals)}; its "
                           f"maximum input is not recorded, so selecting it by mistake on "
                           f"{fq(seen, VOLTAGE)} cannot be checked.", SRC_MISUSE,
-                          fq(seen, VOLTAGE)))
+                          need=seen, unit="V"))
         elif other.max_input < seen:
             out.append(_f("misuse", "caution", subject,
                           f"Do not switch to {other.label} while connected: it shares the "
                           f"terminals and takes only {fq(other.max_input, VOLTAGE)}, less "
-                          f"than {fq(seen, VOLTAGE)}.", SRC_MISUSE, fq(seen, VOLTAGE),
-                          fq(other.max_input, VOLTAGE), headroom(other.max_input, seen)))
+                          f"than {fq(seen, VOLTAGE)}.", SRC_MISUSE,
+                          margin=headroom(other.max_input, seen), need=seen,
+                          have=other.max_input, unit="V"))
         else:
             out.append(_f("misuse", "pass", subject,
                           f"{other.label} on the same terminals takes "
                           f"{fq(other.max_input, VOLTAGE)}, enough for {fq(seen, VOLTAGE)} "
-                          "if selected by mistake.", SRC_MISUSE, fq(seen, VOLTAGE),
-                          fq(other.max_input, VOLTAGE), headroom(other.max_input, seen)))
+                          "if selected by mistake.", SRC_MISUSE,
+                          margin=headroom(other.max_input, seen), need=seen,
+                          have=other.max_input, unit="V"))
         out += _as_misuse(check_duration(replace(ctx, mode=other)), other)
         out += _misuse_energy(ctx, other)
     return out
@@ -661,7 +684,8 @@ def _divider_data(d: ModelSpec) -> list[Finding]:
                    f"resistive divider ({fields}): an output resistance cannot exceed a "
                    "quarter of the input resistance. Check these fields against the maker's "
                    "data; readings through it are scaled by the recorded attenuation.",
-                   SRC_DIVIDER_DATA, f"{d.attenuation:g}:1", "no divider fits")]
+                   SRC_DIVIDER_DATA, f"{d.attenuation:g}:1", "no divider fits",
+                   need=d.attenuation, unit="1", compare=Compare.MATCH)]
     off = abs(computed - d.attenuation) / d.attenuation
     if off <= DIVIDER_DATA_TOLERANCE:
         return []
@@ -669,7 +693,8 @@ def _divider_data(d: ModelSpec) -> list[Finding]:
                f"its resistances into the required load give about {_ratio_text(computed)}:1, "
                f"{off:.0%} from the recorded attenuation. Check these fields against the "
                "maker's data; readings through it are scaled by the recorded attenuation.",
-               SRC_DIVIDER_DATA, f"{d.attenuation:g}:1", f"{_ratio_text(computed)}:1")]
+               SRC_DIVIDER_DATA, f"{d.attenuation:g}:1", f"{_ratio_text(computed)}:1",
+               need=d.attenuation, have=computed, unit="1", compare=Compare.MATCH)]
 
 
 def _ratio_text(ratio: float) -> str:
@@ -706,10 +731,14 @@ def check_loading(ctx: SetupContext) -> list[Finding]:
         if low > READING_TOLERANCE:
             out.append(_f("loading", "caution", subject, text + f", {low:.1%} low: the "
                           "source impedance drags the reading down.", SRC_LOADING,
-                          f"<= {READING_TOLERANCE:.0%} low", f"{low:.2%} low"))
+                          f"<= {READING_TOLERANCE:.0%} low", f"{low:.2%} low",
+                          need=READING_TOLERANCE, have=low, unit="1",
+                          compare=Compare.AT_MOST))
         else:
             out.append(_f("loading", "pass", subject, text + ".", SRC_LOADING,
-                          f"<= {READING_TOLERANCE:.0%} low", f"{low:.2%} low"))
+                          f"<= {READING_TOLERANCE:.0%} low", f"{low:.2%} low",
+                          need=READING_TOLERANCE, have=low, unit="1",
+                          compare=Compare.AT_MOST))
     d = ctx.divider
     if d is not None:
         out += _divider_load(ctx, d)
@@ -727,21 +756,21 @@ def _divider_load(ctx: SetupContext, d: ModelSpec) -> list[Finding]:
                    f"{d.key} reads true into this input is not known.", SRC_DIVIDER)]
     off = abs(z - d.required_load) / d.required_load
     required, available = fq(d.required_load, RESISTANCE), fq(z, RESISTANCE)
+    load: dict[str, Any] = dict(need=d.required_load, have=z, unit="ohm",
+                                compare=Compare.MATCH)
     if off <= LOAD_TOLERANCE:
         return [_f("loading", "pass", subject, f"{d.key} is calibrated into {required}; the "
                    f"input is {available}. It shows {fq(ctx.seen_voltage, VOLTAGE)} for "
-                   f"{fq(ctx.plan.circuit.voltage, VOLTAGE)}.", SRC_DIVIDER, required,
-                   available)]
+                   f"{fq(ctx.plan.circuit.voltage, VOLTAGE)}.", SRC_DIVIDER, **load)]
     if d.output_resistance is None:
         return [_f("loading", "unknown", subject, f"{d.key} is calibrated into {required} but "
                    f"the input is {available}; its output resistance is not recorded, so the "
-                   "error is not known.", SRC_DIVIDER, required, available)]
+                   "error is not known.", SRC_DIVIDER, **load)]
     err = divider_error(z, d.required_load, d.output_resistance)
     return [_f("loading", "caution", subject, f"{d.key} is calibrated into {required} but the "
                f"input is {available}: the reading will be {abs(err):.1%} "
                f"{'low' if err < 0 else 'high'} ({fq(ctx.seen_voltage * (1 + err), VOLTAGE)} "
-               f"for {fq(ctx.plan.circuit.voltage, VOLTAGE)}).", SRC_DIVIDER, required,
-               available)]
+               f"for {fq(ctx.plan.circuit.voltage, VOLTAGE)}).", SRC_DIVIDER, **load)]
 
 
 # -- check 8: low-Z and duration --------------------------------------------------------------
@@ -773,13 +802,14 @@ def check_duration(ctx: SetupContext) -> list[Finding]:
     required = fq(plan.duration, TIME)
     if mode.max_duration is None:
         return [_f("low-z", "unknown", subject, "; ".join(parts) + "; the maker's time limit "
-                   "for this mode is not recorded.", SRC_LOWZ, required)]
+                   "for this mode is not recorded.", SRC_LOWZ, need=plan.duration, unit="s")]
     ok = plan.duration <= mode.max_duration
     parts.append(f"the mode is rated for {fq(mode.max_duration, TIME)} at a time and the plan "
                  f"keeps it connected {required}")
     msg = "; ".join(parts) + ("." if ok else ": disconnect sooner or use a high-impedance mode.")
     return [_f("low-z", "pass" if ok else "fail", subject, msg[0].upper() + msg[1:], SRC_LOWZ,
-               required, fq(mode.max_duration, TIME), headroom(mode.max_duration, plan.duration))]
+               margin=headroom(mode.max_duration, plan.duration), need=plan.duration,
+               have=mode.max_duration, unit="s")]
 
 
 # -- check 9: stored energy and discharge -----------------------------------------------------
@@ -840,16 +870,15 @@ def check_discharge(ctx: SetupContext) -> list[Finding]:
     facts += f"; the path absorbs {'up to ' if bound else ''}{fq(e, ENERGY)}"
     facts = facts[0].upper() + facts[1:]
     out = []
-    required = fq(e, ENERGY)
     if limit is not None:
         ok = e <= limit
         out.append(_f("discharge", "pass" if ok else "fail", subject, facts
                       + f" against its {fq(limit, ENERGY)} limit"
                       + ("." if ok else ": it would be overstressed."), src,
-                      required, fq(limit, ENERGY), headroom(limit, e)))
+                      margin=headroom(limit, e), need=e, have=limit, unit="J"))
     elif discharging or low_z:
         out.append(_f("discharge", "unknown", subject, facts
-                      + "; the energy it may absorb is not recorded.", src, required))
+                      + "; the energy it may absorb is not recorded.", src, need=e, unit="J"))
     elif drains:
         # A capacitance can deliver no more into a resistive input than a stiff source at the
         # same voltage would (V**2/R for the whole duration), which the mode's maximum input
@@ -857,7 +886,7 @@ def check_discharge(ctx: SetupContext) -> list[Finding]:
         out.append(_f("discharge", "pass", subject, facts
                       + f": it drains the capacitance while connected (tau under "
                       f"{DRAIN_FACTOR:g} x {fq(plan.duration, TIME)}), no more than its "
-                      "continuous input dissipation.", src, required))
+                      "continuous input dissipation.", src, need=e, unit="J"))
     else:
         out.append(_f("discharge", "pass", subject, f"High-impedance input: tau "
                       f"{fq(prof.tau, TIME)} through {fq(prof.resistance, RESISTANCE)}, it "
@@ -882,14 +911,15 @@ def _hold_findings(ctx: SetupContext, prof: DischargeProfile, subject: str) -> l
                       f"{fq(prof.end_voltage, VOLTAGE)} and {fq(prof.energy_left, ENERGY)} are "
                       "left. Hold it on longer or use a lower-resistance path, and verify "
                       "absence before touching.", prof.source, prof.needed_text(),
-                      f"{time_text(hold)} held", margin))
+                      f"{time_text(hold)} held", margin, need=needed, have=hold, unit="s"))
     elif prof.time_to_safe > DISCHARGE_TIME_LIMIT:
         t_safe = prof.time_to_safe
         out.append(_f("discharge", "caution", subject, f"The discharge to {fq(vs, VOLTAGE)} "
                       f"takes {time_text(t_safe)}, more than {fq(DISCHARGE_TIME_LIMIT, TIME)}: "
                       "hold the tool on and verify absence before touching.", prof.source,
-                      f"<= {fq(DISCHARGE_TIME_LIMIT, TIME)}", time_text(t_safe),
-                      headroom(DISCHARGE_TIME_LIMIT, t_safe)))
+                      available=time_text(t_safe), margin=headroom(DISCHARGE_TIME_LIMIT, t_safe),
+                      need=DISCHARGE_TIME_LIMIT, have=t_safe, unit="s",
+                      compare=Compare.AT_MOST))
     rating = ctx.instrument.power if ctx.is_discharge_tool else None
     if rating is not None and prof.peak_power > rating:
         law = "V0**2/R" if prof.method == "rc" else "V0 x I0"
@@ -897,8 +927,8 @@ def _hold_findings(ctx: SetupContext, prof: DischargeProfile, subject: str) -> l
                       f"{fq(prof.peak_power, POWER)} ({law}) into {ctx.instrument.key}, more "
                       f"than its {fq(rating, POWER)} power rating: the tool's resistor is "
                       "stressed beyond its rating for the first moments.", SRC_POWER,
-                      fq(prof.peak_power, POWER), fq(rating, POWER),
-                      headroom(rating, prof.peak_power)))
+                      margin=headroom(rating, prof.peak_power), need=prof.peak_power,
+                      have=rating, unit="W"))
     return out
 
 CHECKS = (check_category, check_tip, check_transient, check_altitude, check_mode_input,

@@ -11,7 +11,7 @@ from datetime import date
 from ..standards import stored_energy as se
 from .dead_work import DEAD_TASKS, isolation_caution
 from .derived import Derived
-from .findings import Finding
+from .findings import Compare, Finding
 from .quantity import ENERGY, VOLTAGE, format_quantity as fq
 from .rules import verification_overdue
 from .spec import Plan, UnitState
@@ -65,7 +65,9 @@ def check_history(unit: UnitState, mode: str | None) -> list[Finding]:
         out.append(Finding("history", "caution", unit.tag,
                            f"{unit.tag} has clamped {clamped} transients; its varistor may be "
                            "worn and clamp at a lower voltage or not at all.", SRC_VARISTOR,
-                           f"< {WORN_CLAMP_EVENTS}", str(clamped)))
+                           f"< {WORN_CLAMP_EVENTS}", str(clamped),
+                           required_value=WORN_CLAMP_EVENTS - 1, available_value=clamped,
+                           unit="1", compare=Compare.AT_MOST))
     if unit.verification_due is None:
         out.append(Finding("history", "caution", unit.tag,
                            f"{unit.tag} has no verification date on record.", SRC_HISTORY))

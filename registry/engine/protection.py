@@ -88,9 +88,14 @@ def discharge_outcome(ctx: SetupContext) -> list[Finding]:
             f"{fq(prof.capacitance, CAPACITANCE)} at {fq(prof.v0, VOLTAGE)} {prof.outcome()}")
     if prof.events:
         text += " (" + "; ".join(prof.events) + ")"
+    if ctx.plan.task != "discharge":
+        return [Finding(CHECK, "caution" if short else "pass", ctx.instrument.key, text + ".",
+                        prof.source)]
+    # A discharge task: the time the capacitance needs to reach the safe level against the
+    # time the plan holds the path on.
     return [Finding(CHECK, "caution" if short else "pass", ctx.instrument.key, text + ".",
-                    prof.source, prof.needed_text() if ctx.plan.task == "discharge" else "",
-                    "")]
+                    prof.source, prof.needed_text(), required_value=prof.time_needed,
+                    available_value=prof.duration, unit="s")]
 
 
 def context_of(plan: Plan, derived: Derived, fleet: Fleet, instrument_model: str, mode: str,

@@ -11,7 +11,7 @@ from xml.sax.saxutils import escape
 
 from ..engine.discharge import DischargeProfile
 from ..engine.quantity import ENERGY, RESISTANCE, TIME, VOLTAGE, format_quantity as fq
-from ..engine.result import format_ratio, margin_ratio
+from ..engine.result import format_ratio
 
 
 @dataclass(frozen=True)
@@ -145,12 +145,15 @@ BAR_W, BAR_H, BAR_LEFT, BAR_SCALE_MAX = 420, 22, 150, 3.0
 
 
 def needs_has_rows(findings) -> list[dict]:
-    """The numeric findings of a setup as bars: what the item may take over what it must take
-    (available / required), the need at 1. Findings without a finite ratio are left out."""
+    """The numeric findings of a setup as bars, from their numbers (``required_value``,
+    ``available_value``): what the item may take over what it must take (available /
+    required; for a limit the job sets, the limit over the value), the need at 1. Findings
+    without both numbers, with values that are to match rather than leave room, or without a
+    finite ratio are left out."""
     rows = []
     for f in findings:
-        ratio = margin_ratio(f.margin)
-        if ratio is None or not math.isfinite(ratio) or not (f.required and f.available):
+        ratio = f.value_ratio if f.numeric else None
+        if ratio is None or not math.isfinite(ratio):
             continue
         rows.append({"label": f"{f.check}: {f.subject}", "ratio": ratio, "status": f.status,
                      "required": f.required, "available": f.available})

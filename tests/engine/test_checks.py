@@ -437,7 +437,7 @@ def test_extra_checks_receive_the_context_and_add_findings():
     def front_end(ctx: SetupContext):
         seen.append((ctx.instrument.key, ctx.mode.key, ctx.seen_voltage, ctx.expected_impulse,
                      ctx.generator_impedance, ctx.prospective_current))
-        return [Finding("protection", "fail", "RV1", "varistor overstressed", "test")]
+        return [Finding("protection-path", "fail", "RV1", "varistor overstressed", "test")]
 
     fleet = fleet_of([meter(), leads()], [unit("M1", "mx-3"), unit("M2", "mx-3"),
                                           unit("L1", "tl-4")])

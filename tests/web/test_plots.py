@@ -91,15 +91,24 @@ def test_needs_has_bars_are_the_ratio_of_has_to_needs():
     from registry.engine.findings import Finding
     from registry.web.plots import BAR_LEFT, BAR_SCALE_MAX, BAR_W, needs_has_svg
     ok = Finding("category", "pass", "tm-ir10", "m", "s", "CAT III 480 V", "CAT IV 600 V",
-                 600 / 480 - 1)
-    short = Finding("misuse", "caution", "kx-7/amp", "m", "s", "24 kA", "20 kA", 20 / 24 - 1)
+                 required_value=480.0, available_value=600.0, unit="V")
+    short = Finding("misuse", "caution", "kx-7/amp", "m", "s", required_value=24e3,
+                    available_value=20e3, unit="A")
+    # a limit the job sets: 2 mm allowed, 1 mm exposed leaves 2 / 1 = 2 (arithmetic)
+    tip = Finding("tip", "pass", "tl-4", "m", "s", required_value=2e-3, available_value=1e-3,
+                  unit="m", compare="at-most")
+    # values that are to agree (a divider's load) are not a headroom: no bar
+    match = Finding("loading", "pass", "dv-1", "m", "s", required_value=1e6,
+                    available_value=1.1e6, unit="ohm", compare="match")
     text = Finding("setup", "pass", "kx-7", "m", "s")  # not numeric: no bar
-    svg = needs_has_svg([ok, short, text])
+    svg = needs_has_svg([ok, short, tip, match, text])
     widths = [float(w) for w in re.findall(r'<rect x="[\d.]+" y="[\d.]+" width="([\d.]+)"', svg)]
     span = BAR_W - BAR_LEFT - 70
-    assert widths == pytest.approx([span * 1.25 / BAR_SCALE_MAX, span * (20 / 24) / BAR_SCALE_MAX],
-                                   abs=0.1)
+    assert widths == pytest.approx([span * 1.25 / BAR_SCALE_MAX, span * (20 / 24) / BAR_SCALE_MAX,
+                                    span * 2 / BAR_SCALE_MAX], abs=0.1)
     mark = float(re.search(r'<line x1="([\d.]+)"[^>]*class="need-mark"', svg).group(1))
     assert mark == pytest.approx(BAR_LEFT + span / BAR_SCALE_MAX, abs=0.1)
-    assert "x1.25" in svg and "x0.83" in svg and "bar-caution" in svg
+    assert "x1.25" in svg and "x0.83" in svg and "x2.00" in svg and "bar-caution" in svg
+    # the tooltip says the numbers in words, rendered from the numbers
+    assert "has 20 kA, needs 24 kA" in svg and "has 1 mm, needs &lt;= 2 mm" in svg
     assert needs_has_svg([text]) == ""

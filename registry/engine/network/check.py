@@ -13,17 +13,17 @@ import math
 from dataclasses import dataclass
 from functools import lru_cache
 
-from ..findings import Finding
+from ..findings import CheckName, Compare, Finding
 from ..quantity import RESISTANCE, format_quantity
 from ..spec import Mode, ModelSpec
-from .limits import (SRC_PRACTICE, Stress, discharge_limits, impulse_limits, steady_limits)
+from .limits import (SRC_PRACTICE, ElementStress, discharge_limits, impulse_limits, steady_limits)
 from .netlist import OPEN_RESISTANCE, Netlist, NetworkError, build_netlist, check_solvable, \
     solve_gaps
 from .scenarios import SQRT2, DischargeResult, discharge, impulse, small_signal_resistance, \
     steady
 
-CHECK = "protection-path"
-CONSISTENCY = "input-consistency"
+CHECK = CheckName.PROTECTION_PATH
+CONSISTENCY = CheckName.INPUT_CONSISTENCY
 CONSISTENCY_TOLERANCE = 0.10  # the issue's 10 %: common practice (no source)
 
 
@@ -55,15 +55,15 @@ class PathReport:
     """Everything the check found on one mode: the stresses and the discharge curve."""
 
     mode: str
-    stresses: tuple[Stress, ...]
+    stresses: tuple[ElementStress, ...]
     discharge: DischargeResult | None = None
 
 
 # -- the analysis (cached) --------------------------------------------------------------------
 
-def _unknown_for(gaps, scenario: str) -> list[Stress]:
-    return [Stress(id, scenario, "model", "unknown",
-                   f"{id}, {scenario}: {text}, so its stress is unknown", SRC_PRACTICE)
+def _unknown_for(gaps, scenario: str) -> list[ElementStress]:
+    return [ElementStress(id, scenario, "model", "unknown",
+                          f"{id}, {scenario}: {text}, so its stress is unknown", SRC_PRACTICE)
             for id, text in gaps]
 
 
@@ -73,19 +73,19 @@ def _unknown_for(gaps, scenario: str) -> list[Stress]:
 # ArithmeticErrors). Each becomes an ``unknown`` item for the scenario: the setup is then
 # unverified, and every other setup is still judged.
 SOLVE_ERRORS = (NetworkError, ArithmeticError, ValueError)
-SOLVE = "solve"  # the quantity of a Stress that reports a failed solve
+SOLVE = "solve"  # the quantity of an ElementStress that reports a failed solve
 
 _log = logging.getLogger(__name__)
 
 
-def _solve_failure(scenario: str, exc: Exception) -> Stress:
+def _solve_failure(scenario: str, exc: Exception) -> ElementStress:
     """The ``unknown`` item for a scenario whose solve failed, naming the scenario and why."""
     if not isinstance(exc, NetworkError):  # a numerical error: keep the trace for the log
         _log.warning("front-end %s solve failed", scenario, exc_info=exc)
     reason = str(exc) or type(exc).__name__
-    return Stress(None, scenario, SOLVE, "unknown",
-                  f"{scenario}: the front end could not be solved ({reason}), so its stresses "
-                  "are unknown", SRC_PRACTICE)
+    return ElementStress(None, scenario, SOLVE, "unknown",
+                         f"{scenario}: the front end could not be solved ({reason}), so its "
+                         "stresses are unknown", SRC_PRACTICE)
 
 
 def _solved_gaps(net: Netlist) -> set[str]:
@@ -112,11 +112,11 @@ def _analysed(net: Netlist, cond: Conditions):
     try:
         check_solvable(net)
     except NetworkError as exc:
-        return (Stress(None, "steady", "model", "unknown",
-                       f"{exc}; its stresses are unknown", SRC_PRACTICE),), None
+        return (ElementStress(None, "steady", "model", "unknown",
+                              f"{exc}; its stresses are unknown", SRC_PRACTICE),), None
     gaps = solve_gaps(net)
     unsolved = _solved_gaps(net)
-    items: list[Stress] = []
+    items: list[ElementStress] = []
     stiff = cond.source_impedance is None or cond.source_impedance == 0
     note = " (the plan gives no source impedance: solved as a stiff source)" if stiff else ""
 
@@ -136,9 +136,9 @@ def _analysed(net: Netlist, cond: Conditions):
         items += _unknown_for(gaps + res.notes, "steady")
     # 2. impulse
     if cond.impulse_peak is None:
-        items.append(Stress(None, "impulse", "impulse", "not-run",
-                            "impulse: the plan gives no transient (circuit.transient), so the "
-                            "impulse is not solved", SRC_PRACTICE))
+        items.append(ElementStress(None, "impulse", "impulse", "not-run",
+                                   "impulse: the plan gives no transient (circuit.transient), so "
+                                   "the impulse is not solved", SRC_PRACTICE))
     else:
         gen_note = "" if cond.generator_impedance else \
             " (no generator impedance: solved as a stiff generator)"
@@ -192,13 +192,13 @@ def protection_path_report(model: ModelSpec, mode: Mode, *, working_voltage: flo
     try:
         net = build_netlist(model, mode)
     except NetworkError as exc:
-        return PathReport(mode.key, (Stress(None, "steady", "model", "unknown",
-                                            f"{exc}: the protection path in this mode is not "
-                                            "described", SRC_PRACTICE),))
+        return PathReport(mode.key, (ElementStress(None, "steady", "model", "unknown",
+                                                   f"{exc}: the protection path in this mode "
+                                                   "is not described", SRC_PRACTICE),))
     return analyse(net, mode.key, cond)
 
 
-def _finding(model: ModelSpec, mode: Mode, s: Stress, misuse: bool) -> Finding:
+def _finding(model: ModelSpec, mode: Mode, s: ElementStress, misuse: bool) -> Finding:
     status = s.status
     prefix = f"Mode {mode.key}"
     if misuse:
@@ -212,8 +212,12 @@ def _finding(model: ModelSpec, mode: Mode, s: Stress, misuse: bool) -> Finding:
     subject = f"{model.key} {s.element}" if s.element else model.key
     if s.quantity == SOLVE:
         prefix = f"Model {model.key}, {prefix[0].lower()}{prefix[1:]}"
+    numeric = s.unit != "" and (s.seen is not None or s.limit is not None)
     return Finding(s.check, status, subject, f"{prefix}, {s.message}.", s.source,
-                   s.required, s.available, margin)
+                   s.required, s.available, margin,
+                   required_value=s.seen if numeric else None,
+                   available_value=s.limit if numeric else None,
+                   unit=s.unit if numeric else "", basis=s.basis if numeric else "")
 
 
 def consistency_finding(model: ModelSpec, mode: Mode) -> Finding | None:
@@ -237,10 +241,13 @@ def consistency_finding(model: ModelSpec, mode: Mode) -> Finding | None:
         return Finding(CONSISTENCY, "caution", model.key,
                        f"Mode {mode.key}: the stated input resistance is {s_t}, but the front "
                        f"end gives {r_t} between {mode.terminals[0]} and {mode.terminals[1]}"
-                       f"{gap}: check the model's data", src, s_t, r_t, None)
+                       f"{gap}: check the model's data", src, s_t, r_t, None,
+                       required_value=stated, available_value=r, unit="ohm",
+                       compare=Compare.MATCH)
     return Finding(CONSISTENCY, "pass", model.key,
                    f"Mode {mode.key}: the stated input resistance {s_t} and the front end's "
-                   f"{r_t} agree within {max(apart, 1e-4):.2%}", src, s_t, r_t, None)
+                   f"{r_t} agree within {max(apart, 1e-4):.2%}", src, s_t, r_t, None,
+                   required_value=stated, available_value=r, unit="ohm", compare=Compare.MATCH)
 
 
 def protection_path_findings(model: ModelSpec, mode: Mode, *, working_voltage: float,
@@ -275,12 +282,12 @@ def protection_path_findings(model: ModelSpec, mode: Mode, *, working_voltage: f
 _RANK = {"fail": 0, "caution": 1, "unknown": 2, "pass": 3, "not-run": 4}
 
 
-def worst_by_element(report: PathReport) -> dict[str, Stress]:
+def worst_by_element(report: PathReport) -> dict[str, ElementStress]:
     """The worst stress of each element: failed first, then unknown, then by smallest
     headroom."""
-    out: dict[str, Stress] = {}
+    out: dict[str, ElementStress] = {}
 
-    def key(s: Stress):
+    def key(s: ElementStress):
         m = s.margin
         return (_RANK[s.status], math.inf if m is None else m)
 

@@ -1,8 +1,8 @@
 """Every element's stress in each scenario held against its limit (SPEC §5 check 10).
 
-One :class:`Stress` per element, scenario and limit: what the element sees, what it may take
-and where that limit comes from. A missing limit is ``unknown``; an element the scenario does
-not stress at all (no current, no voltage: off the mode's path) gets no item.
+One :class:`ElementStress` per element, scenario and limit: what the element sees, what it
+may take and where that limit comes from. A missing limit is ``unknown``; an element the
+scenario does not stress at all (no current, no voltage: off the mode's path) gets no item.
 """
 
 from __future__ import annotations
@@ -11,7 +11,7 @@ import dataclasses
 from dataclasses import dataclass
 
 from ...standards import clearance
-from ..findings import headroom
+from ..findings import CheckName, Status, StatusText, headroom
 from ..quantity import CURRENT, ENERGY, POWER, VOLTAGE, format_quantity
 from .devices import (I_REF, K_8_20, T2_8_20, impulse_clamp_energy, impulse_resistor_energy)
 from .netlist import Netlist
@@ -43,20 +43,22 @@ SCENARIO_TEXT = {"steady": "steady state", "impulse": "impulse", "discharge": "d
 
 
 @dataclass(frozen=True)
-class Stress:
+class ElementStress:
     """One element's stress against one limit in one scenario (SI floats)."""
 
     element: str | None  # None: about the mode as a whole
     scenario: str  # steady | impulse | discharge | consistency
     quantity: str  # voltage, current, power, energy, breaking capacity, ...
-    status: str
+    status: Status | StatusText
     message: str  # the element, what it sees, what it may take
     source: str
     seen: float | None = None
     limit: float | None = None
-    required: str = ""
-    available: str = ""
-    check: str = "protection-path"
+    required: str = ""  # the text of ``seen``
+    available: str = ""  # the text of ``limit``
+    check: CheckName = CheckName.PROTECTION_PATH
+    unit: str = ""  # of ``seen`` and ``limit``: "V", "A", "W", "J"
+    basis: str = ""  # "rms" for an ac steady-state voltage or current
 
     @property
     def margin(self) -> float | None:
@@ -65,7 +67,7 @@ class Stress:
         return headroom(self.limit, self.seen)
 
 
-def _replace_message(item: Stress, message: str) -> Stress:
+def _replace_message(item: ElementStress, message: str) -> ElementStress:
     return dataclasses.replace(item, message=message)
 
 
@@ -75,15 +77,17 @@ def _q(v, dim):
 
 def held(element: str, scenario: str, quantity: str, seen: float, limit: float | None,
          dim, what: str, limit_name: str, source: str, context: str = "",
-         suffix: str = "") -> Stress:
+         suffix: str = "") -> ElementStress:
     """A stress ``seen`` against ``limit`` (None: unknown). ``what``: e.g. "voltage across
     it"; ``limit_name``: the parameter, e.g. "max_voltage"."""
     where = f"{element}, {SCENARIO_TEXT.get(scenario, scenario)}{context}"
     seen_t = _q(seen, dim) + suffix
+    basis = suffix.strip()
     if limit is None:
-        return Stress(element, scenario, quantity, "unknown",
-                      f"{where}: {what} {seen_t}; its {limit_name} is not given, so it cannot "
-                      "be held against a limit", source, seen, None, seen_t, "")
+        return ElementStress(element, scenario, quantity, "unknown",
+                             f"{where}: {what} {seen_t}; its {limit_name} is not given, so it "
+                             "cannot be held against a limit", source, seen, None, seen_t, "",
+                             unit=dim.unit, basis=basis)
     lim_t = _q(limit, dim) + suffix
     # A stress within one part per million of its limit meets it: that is rounding in the
     # solve, far below the precision of any datasheet value.
@@ -96,9 +100,10 @@ def held(element: str, scenario: str, quantity: str, seen: float, limit: float |
         verdict = "within it"
     else:
         verdict = f"within it (the limit is {limit / seen:.3g} times that)"
-    return Stress(element, scenario, quantity, "pass" if ok else "fail",
-                  f"{where}: {what} {seen_t} against its {limit_name} of {lim_t}: {verdict}",
-                  source, seen, limit, seen_t, lim_t)
+    return ElementStress(element, scenario, quantity, "pass" if ok else "fail",
+                         f"{where}: {what} {seen_t} against its {limit_name} of {lim_t}: "
+                         f"{verdict}", source, seen, limit, seen_t, lim_t, unit=dim.unit,
+                         basis=basis)
 
 
 def gap_limit(sw, altitude: float, kind: str = "impulse") -> tuple[float | None, str, str]:
@@ -140,8 +145,8 @@ def _stressed(v: float, i: float) -> bool:
 # -- steady -----------------------------------------------------------------------------------
 
 def steady_limits(net: Netlist, res: SteadyResult, waveform: str, altitude: float,
-                  duration: float) -> list[Stress]:
-    out: list[Stress] = []
+                  duration: float) -> list[ElementStress]:
+    out: list[ElementStress] = []
     ac = waveform == "ac"
     rms = " rms" if ac else ""
     final = res.final
@@ -206,11 +211,11 @@ def steady_limits(net: Netlist, res: SteadyResult, waveform: str, altitude: floa
                 out.append(held(e.id, "steady", "current", ih, None, CURRENT,
                                 "current through it", "current rating", SRC_FUSE, "", rms))
             elif trip is None:
-                out.append(Stress(e.id, "steady", "current", "pass",
-                                  f"{e.id}, steady state: carries {_q(ih, CURRENT)}{rms}, below "
-                                  f"its {_q(e.get('current'), CURRENT)} rating: does not "
-                                  "operate", SRC_FUSE, ih, e.get("current"),
-                                  _q(ih, CURRENT), _q(e.get("current"), CURRENT)))
+                out.append(ElementStress(e.id, "steady", "current", "pass",
+                                         f"{e.id}, steady state: carries {_q(ih, CURRENT)}{rms}, "
+                                         f"below its {_q(e.get('current'), CURRENT)} rating: "
+                                         "does not operate", SRC_FUSE, ih, e.get("current"),
+                                         _q(ih, CURRENT), _q(e.get("current"), CURRENT), unit="A"))
             else:
                 assert trip.current is not None  # steady() gives every fuse it opens a current
                 out.append(held(e.id, "steady", "breaking capacity", trip.current,
@@ -230,18 +235,19 @@ def steady_limits(net: Netlist, res: SteadyResult, waveform: str, altitude: floa
         elif e.type == "gas-tube":
             if e.id in final.state.fired:
                 i = abs(final.heat.current[e.id])
-                out.append(Stress(e.id, "steady", "follow current", "fail",
-                                  f"{e.id}, steady state: fires on the working voltage and "
-                                  f"carries {_q(i, CURRENT)}{rms} of follow current",
-                                  SRC_PRACTICE + ": a gas tube must not fire on the working "
-                                  "voltage", i, 0.0, _q(i, CURRENT), "no follow current"))
+                out.append(ElementStress(e.id, "steady", "follow current", "fail",
+                                         f"{e.id}, steady state: fires on the working voltage and "
+                                         f"carries {_q(i, CURRENT)}{rms} of follow current",
+                                         SRC_PRACTICE + ": a gas tube must not fire on the working "
+                                         "voltage", i, 0.0, _q(i, CURRENT), "no follow current",
+                                         unit="A"))
     return out
 
 
 # -- impulse ----------------------------------------------------------------------------------
 
-def impulse_limits(net: Netlist, res: ImpulseResult, altitude: float) -> list[Stress]:
-    out: list[Stress] = []
+def impulse_limits(net: Netlist, res: ImpulseResult, altitude: float) -> list[ElementStress]:
+    out: list[ElementStress] = []
     sol = res.solution
     for e in net.elements:
         v, i = abs(sol.voltage[e.id]), abs(sol.current[e.id])
@@ -249,10 +255,10 @@ def impulse_limits(net: Netlist, res: ImpulseResult, altitude: float) -> list[St
             continue
         if e.type == "varistor":
             if i < I_REF:
-                out.append(Stress(e.id, "impulse", "current", "pass",
-                                  f"{e.id}, impulse: {_q(v, VOLTAGE)} across it, "
-                                  f"{_q(i, CURRENT)}: below 1 mA, it does not conduct",
-                                  SRC_VARISTOR, i, None, _q(i, CURRENT)))
+                out.append(ElementStress(e.id, "impulse", "current", "pass",
+                                         f"{e.id}, impulse: {_q(v, VOLTAGE)} across it, "
+                                         f"{_q(i, CURRENT)}: below 1 mA, it does not conduct",
+                                         SRC_VARISTOR, i, None, _q(i, CURRENT), unit="A"))
                 continue
             out.append(held(e.id, "impulse", "peak current", i, e.get("peak_current"), CURRENT,
                             f"clamps at {_q(v, VOLTAGE)} with a peak current of", "peak_current",
@@ -289,8 +295,8 @@ def impulse_limits(net: Netlist, res: ImpulseResult, altitude: float) -> list[St
 
 # -- discharge --------------------------------------------------------------------------------
 
-def discharge_limits(net: Netlist, res: DischargeResult, altitude: float) -> list[Stress]:
-    out: list[Stress] = []
+def discharge_limits(net: Netlist, res: DischargeResult, altitude: float) -> list[ElementStress]:
+    out: list[ElementStress] = []
     for e in net.elements:
         v, i = res.peak_voltage[e.id], res.peak_element_current[e.id]
         energy = res.energy[e.id]
