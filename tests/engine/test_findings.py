@@ -107,15 +107,13 @@ def _demo_findings():
     from pathlib import Path
 
     from registry.engine.evaluate import evaluate
-    from registry.engine.protection import protection_path_check
     from registry.formats.fleet import fleet_from_file
     from registry.plans import load_plan
 
     root = Path(__file__).resolve().parents[2] / "seeddata"
     fleet = fleet_from_file(root / "fleet.yaml")
     for path in sorted((root / "plans").glob("*.yaml")):
-        result = evaluate(load_plan(path, on=date(2026, 12, 2)), fleet,
-                          extra_checks=(protection_path_check,))
+        result = evaluate(load_plan(path, on=date(2026, 12, 2)), fleet)  # check 10 included
         for s in result.setups:
             yield from s.findings
 
