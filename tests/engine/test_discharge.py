@@ -130,6 +130,9 @@ def test_kx7_check_9_fails_the_hold_with_the_numbers(fleet):
     assert f"{v_hold:.1f} V" in hold.message  # 704.7 V
     assert f"{0.5 * C * v_hold ** 2:.1f} J are left" in hold.message  # 496.6 J
     assert hold.margin == pytest.approx(HOLD / t_safe - 1, rel=1e-3)
+    # the time needed against the time held, as numbers (s)
+    assert hold.required_value == pytest.approx(t_safe, rel=1e-3) and hold.unit == "s"
+    assert hold.available_value == HOLD
 
 
 def test_kx7_through_the_engine_and_check_10_give_one_number(fleet):
@@ -241,6 +244,9 @@ def test_a_hold_shorter_than_the_discharge_fails_with_time_voltage_and_energy_le
     assert f"{v:.1f} V" == "688.6 V" and "688.6 V" in f.message
     assert f"{0.5 * C * v * v:.1f} J" == "474.1 J" and "474.1 J are left" in f.message
     assert "it needs 554.5 s" in f.message and "Held on for 30 s" in f.message
+    # t = RC ln(V0/Vs) against the 30 s held, as numbers
+    (hold,) = [f for f in s.findings if f.check == "discharge" and f.unit == "s"]
+    assert hold.available_value == 30.0 and hold.required_value == pytest.approx(554.5, abs=0.05)
     # held long enough, the same tool reaches the level: no fail
     s = _only(evaluate(dc_link_plan(duration=600.0), fleet), "T2")
     assert all(f.status != "fail" for f in s.findings)
@@ -253,7 +259,8 @@ def test_power_rating_below_the_peak_power_is_a_caution():
     result = evaluate(dc_link_plan(), fleet)
     low, high = _only(result, "T1"), _only(result, "T2")
     (f,) = [f for f in low.findings if f.status == "caution"]
-    assert "640 W" in f.message and "400 W" in f.message and "V0**2/R" in f.message
+    assert "V0**2/R" in f.message
+    assert (f.required_value, f.available_value, f.unit) == (pytest.approx(640.0), 400.0, "W")
     assert f.margin == pytest.approx(400 / 640 - 1)
     assert low.verdict == "conditional"
     assert high.verdict == "suitable"

@@ -42,7 +42,8 @@ def test_kx3_ohm_mode_on_mains_overloads_its_source_resistor(fleet):
     rs = _of(fs, "RS", "power")
     # 230 V across 1 kohm is 52.9 W (by hand, less the source's 0.2 ohm drop) against
     # 0.25 W: a misuse caution.
-    assert rs[0].status == "caution" and rs[0].available == "250 mW"
+    assert rs[0].status == "caution" and (rs[0].available_value, rs[0].unit) == (0.25, "W")
+    assert rs[0].required_value == pytest.approx(230.0 ** 2 / 1e3, rel=1e-3)
     rep = protection_path_report(m, m.mode("ohm"), **CAT_II)
     seen = next(s.seen for s in rep.stresses if s.element == "RS" and s.quantity == "power")
     assert seen == pytest.approx(230.0 ** 2 / 1000.0, rel=2e-3)
@@ -80,7 +81,8 @@ def test_readme_claims_on_the_distribution_board(fleet):
     kx3 = fleet.models["kx-3"]
     rv1 = [f for f in protection_path_findings(kx3, kx3.mode("vac"), **plan)
            if f.subject.endswith("RV1") and "steady" in f.message]
-    assert rv1 and rv1[0].status == "fail" and "300 V" in rv1[0].available
+    assert rv1 and rv1[0].status == "fail" and rv1[0].available_value == 300.0
+    assert rv1[0].unit == "V" and rv1[0].basis == "rms" and rv1[0].required_value > 300.0
     kx7 = fleet.models["kx-7"]
     statuses = {f.status for f in protection_path_findings(kx7, kx7.mode("vac"), **plan)}
     assert statuses <= {"pass", "not-run"}
