@@ -321,6 +321,23 @@ def user():
     """Logins and API tokens."""
 
 
+def _read_password(password_stdin: bool) -> str:
+    from .store.users import MAX_PASSWORD_LENGTH, validate_password
+    if password_stdin:
+        try:  # one line, read no further than a password can be long
+            password = sys.stdin.readline(4 * MAX_PASSWORD_LENGTH + 2).rstrip("\r\n")
+        except UnicodeDecodeError:
+            raise InvalidInput("is not UTF-8 text", "password") from None
+    else:
+        password = click.prompt("Password", hide_input=True, confirmation_prompt=True)
+    return validate_password(password)
+
+
+_STEWARD_OPTION = click.option("--by", "by", default=None,
+                               help="The steward doing this (a login; default "
+                                    "$WITHSTAND_USER).")
+
+
 @user.command("add")
 @click.argument("name")
 @click.option("--role", required=True, type=click.Choice(["viewer", "technician", "steward"]))
@@ -329,21 +346,64 @@ def user():
 @reports_errors
 def user_add(name: str, role: str, display_name: str, password_stdin: bool):
     """Create a login (the password is prompted, or read with --password-stdin)."""
-    from .store.users import add_user, validate_password, validate_username
-    validate_username(name)
-    if password_stdin:
-        from .store.users import MAX_PASSWORD_LENGTH
-        try:  # one line, read no further than a password can be long
-            password = sys.stdin.readline(4 * MAX_PASSWORD_LENGTH + 2).rstrip("\r\n")
-        except UnicodeDecodeError:
-            raise InvalidInput("is not UTF-8 text", "password") from None
+    from .services import users
+    from .store.users import validate_username
+    validate_username(name)  # before asking for a password
+    password = _read_password(password_stdin)
+    added = users.add_user(_env().database(), name, role, password, display_name=display_name)
+    click.echo(f"Created {added.role} '{added.username}'.")
+
+
+@user.command("role")
+@click.argument("name")
+@click.argument("role", type=click.Choice(["viewer", "technician", "steward"]))
+@_STEWARD_OPTION
+@reports_errors
+def user_role(name: str, role: str, by: str | None):
+    """Give a login another role (a steward cannot lower their own)."""
+    from .services import users
+    changed = users.change_role(_env().database(), name, role, by=_by(by))
+    click.echo(f"'{changed.username}' is now {changed.role}.")
+
+
+def _set_active(name: str, active: bool, by: str | None) -> None:
+    from .services import users
+    changed, revoked = users.set_active(_env().database(), name, active, by=_by(by))
+    if active:
+        click.echo(f"'{changed.username}' is active again; issue a token if it needs one.")
     else:
-        password = click.prompt("Password", hide_input=True, confirmation_prompt=True)
-    validate_password(password)
-    database = _env().database()
-    with database.transaction() as session:
-        add_user(session, name, role, password, display_name=display_name)
-    click.echo(f"Created {role} '{name}'.")
+        click.echo(f"'{changed.username}' is deactivated; {revoked} token"
+                   f"{'' if revoked == 1 else 's'} revoked.")
+
+
+@user.command("deactivate")
+@click.argument("name")
+@_STEWARD_OPTION
+@reports_errors
+def user_deactivate(name: str, by: str | None):
+    """Deactivate a login and revoke its tokens (not your own)."""
+    _set_active(name, False, by)
+
+
+@user.command("reactivate")
+@click.argument("name")
+@_STEWARD_OPTION
+@reports_errors
+def user_reactivate(name: str, by: str | None):
+    """Let a deactivated login in again."""
+    _set_active(name, True, by)
+
+
+@user.command("password")
+@click.argument("name")
+@click.option("--password-stdin", is_flag=True, help="Read the password from standard input.")
+@reports_errors
+def user_password(name: str, password_stdin: bool):
+    """Set a login's password (prompted, or read with --password-stdin)."""
+    from .services import users
+    password = _read_password(password_stdin)
+    changed = users.set_password(_env().database(), name, password)
+    click.echo(f"Set a new password for '{changed.username}'.")
 
 
 @user.command("token")
@@ -351,17 +411,16 @@ def user_add(name: str, role: str, display_name: str, password_stdin: bool):
 @click.option("--revoke", is_flag=True, help="Revoke every token of the user instead.")
 @reports_errors
 def user_token(name: str, revoke: bool):
-    """Print a new API token for the user (the last line is the token), or revoke them all."""
-    from .store.users import get_user, issue_token, revoke_tokens
+    """Print a new API token for the user (the last line is the token), or revoke them all.
+    A deactivated login gets none until it is reactivated."""
+    from .services import users
     database = _env().database()
-    with database.transaction() as session:
-        account = get_user(session, name)
-        if revoke:
-            count = revoke_tokens(session, account)
-            click.echo(f"Revoked {count} token{'s' if count != 1 else ''} of '{name}'.")
-            return
-        token = issue_token(session, account)
-    click.echo(f"New API token for '{name}' ({account.role}); it is shown only once:")
+    if revoke:
+        owner, count = users.revoke_tokens(database, name)
+        click.echo(f"Revoked {count} token{'s' if count != 1 else ''} of '{owner.username}'.")
+        return
+    owner, token = users.issue_token(database, name)
+    click.echo(f"New API token for '{owner.username}' ({owner.role}); it is shown only once:")
     click.echo(token)
 
 

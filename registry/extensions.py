@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from flask import Flask, current_app, g
+from flask import Flask, current_app, g, has_app_context
 from flask_login import LoginManager
 from flask_wtf import CSRFProtect
 
@@ -10,11 +10,29 @@ from .store.db import Database
 
 
 class DatabaseExtension:
-    """One :class:`Database` per app, and one session per request."""
+    """One :class:`Database` per app, and one session per request.
+
+    The request's session only reads: writes are the services' (``registry.services``), each
+    in a transaction of its own on a connection of its own. A reading session keeps the
+    snapshot its transaction began with (SQLite) and the rows it loaded, so once a service
+    has committed, :meth:`_renew` ends that read transaction and expires the rows: what the
+    view renders afterwards is read afresh and shows the write. Views never end a
+    transaction themselves."""
 
     def init_app(self, app: Flask) -> None:
-        app.extensions["withstand_db"] = Database(app.config["DATABASE_URL"])
+        database = Database(app.config["DATABASE_URL"])
+        database.after_commit.append(self._renew)
+        app.extensions["withstand_db"] = database
         app.teardown_appcontext(self._close)
+
+    @staticmethod
+    def _renew() -> None:
+        session = g.get("db_session") if has_app_context() else None
+        if session is None or not session.in_transaction():
+            return
+        if session.new or session.dirty or session.deleted:
+            return  # not a reading session: leave its work alone
+        session.rollback()  # a clean session: this only ends its snapshot and expires rows
 
     @property
     def database(self) -> Database:

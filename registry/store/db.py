@@ -129,6 +129,9 @@ class Database:
         self.url = url
         self.engine = make_engine(url)
         self._sessions = sessionmaker(self.engine, expire_on_commit=False)
+        # called after each transaction commits; the web app renews its request's reading
+        # session there (extensions.py), so a page rendered after a write sees the write
+        self.after_commit: list = []
 
     @property
     def is_sqlite(self) -> bool:
@@ -162,6 +165,8 @@ class Database:
             except BaseException:
                 session.rollback()
                 raise
+        for hook in self.after_commit:
+            hook()
 
     def dispose(self) -> None:
         self.engine.dispose()

@@ -10,8 +10,8 @@ from sqlalchemy.orm import selectinload
 
 from ..errors import InvalidInput
 from ..extensions import db
+from ..services import users
 from ..store import models as m
-from ..store.users import add_user, issue_token, revoke_tokens, validate_role
 from .access import role_required
 from .forms import FieldErrors
 from .limits import check_texts
@@ -40,6 +40,16 @@ def index():
     return _page()
 
 
+def _refused(exc: InvalidInput, user_id: int | None = None, typed=None):
+    """The page again, with each problem beside its field (a row's fields carry the id)."""
+    errors = FieldErrors()
+    fields = ({"username": "username", "display_name": "display_name", "role": "role",
+               "password": "password"} if user_id is None else
+              {k: f"{k}-{user_id}" for k in ("role", "active", "token")})
+    errors.extend(exc.problems, fields)
+    return _page(errors, typed, status=400)
+
+
 @bp.route("/", methods=["POST"])
 @role_required("steward")
 def add():
@@ -49,15 +59,12 @@ def add():
     if errors:
         return _page(errors, typed, status=400)
     try:
-        add_user(db.session, typed["username"], typed["role"], request.form.get("password", ""),
-                 display_name=typed["display_name"].strip())
+        added = users.add_user(db.database, typed["username"], typed["role"],
+                               request.form.get("password", ""),
+                               display_name=typed["display_name"], by=current_user.username)
     except InvalidInput as exc:
-        db.session.rollback()
-        errors.extend(exc.problems, {"username": "username", "role": "role",
-                                     "password": "password"})
-        return _page(errors, typed, status=400)
-    db.session.commit()
-    flash(f"Added {typed['username'].strip()} as {typed['role']}.")
+        return _refused(exc, typed=typed)
+    flash(f"Added {added.username} as {added.role}.")
     return redirect(url_for("users.index"))
 
 
@@ -65,18 +72,12 @@ def add():
 @role_required("steward")
 def change_role(user_id: int):
     user = user_or_404(user_id)
-    errors = FieldErrors()
-    role = request.form.get("role", "")
     try:
-        validate_role(role)
-        if user.id == current_user.id and role != "steward":
-            raise InvalidInput("you cannot lower your own role; another steward can", "role")
+        changed = users.change_role(db.database, user.username, request.form.get("role", ""),
+                                    by=current_user.username)
     except InvalidInput as exc:
-        errors.extend(exc.problems, {"role": f"role-{user.id}"})
-        return _page(errors, status=400)
-    user.role = role
-    db.session.commit()
-    flash(f"{user.username} is now {role}.")
+        return _refused(exc, user_id)
+    flash(f"{changed.username} is now {changed.role}.")
     return redirect(url_for("users.index"))
 
 
@@ -84,16 +85,14 @@ def change_role(user_id: int):
 @role_required("steward")
 def set_active(user_id: int):
     user = user_or_404(user_id)
-    active = request.form.get("active") == "1"
-    if user.id == current_user.id and not active:
-        errors = FieldErrors()
-        errors.add(f"active-{user.id}", "you cannot deactivate your own login")
-        return _page(errors, status=400)
-    user.active = active
-    if not active:
-        revoke_tokens(db.session, user)  # a deactivated login keeps no way in
-    db.session.commit()
-    flash(f"{user.username} is {'active' if active else 'deactivated; their tokens are revoked'}.")
+    try:
+        changed, _revoked = users.set_active(db.database, user.username,
+                                             request.form.get("active") == "1",
+                                             by=current_user.username)
+    except InvalidInput as exc:
+        return _refused(exc, user_id)
+    flash(f"{changed.username} is "
+          f"{'active' if changed.active else 'deactivated; their tokens are revoked'}.")
     return redirect(url_for("users.index"))
 
 
@@ -101,22 +100,21 @@ def set_active(user_id: int):
 @role_required("steward")
 def new_token(user_id: int):
     user = user_or_404(user_id)
-    if not user.active:
-        errors = FieldErrors()
-        errors.add(f"token-{user.id}", "reactivate the login before issuing a token")
-        return _page(errors, status=400)
-    token = issue_token(db.session, user)
-    db.session.commit()
-    return _page(token=token, token_user=user.username)
+    try:
+        owner, token = users.issue_token(db.database, user.username, by=current_user.username)
+    except InvalidInput as exc:
+        return _refused(exc, user_id)
+    # shown once, on this page (not through a redirect: the token never rides in a cookie);
+    # the list below is read afresh, the request's session renewed after the write
+    return _page(token=token, token_user=owner.username)
 
 
 @bp.route("/<int:user_id>/tokens/revoke", methods=["POST"])
 @role_required("steward")
 def revoke(user_id: int):
     user = user_or_404(user_id)
-    count = revoke_tokens(db.session, user)
-    db.session.commit()
-    flash(f"Revoked {count} token{'' if count == 1 else 's'} of {user.username}.")
+    owner, count = users.revoke_tokens(db.database, user.username, by=current_user.username)
+    flash(f"Revoked {count} token{'' if count == 1 else 's'} of {owner.username}.")
     return redirect(url_for("users.index"))
 
 
