@@ -517,6 +517,10 @@ def text_problem(value: str, *, multiline: bool = False) -> str | None:
     longest = MAX_NOTE_CHARS if multiline else MAX_LINE_CHARS
     if len(value) > longest:
         return f"is {len(value)} characters long; this field takes at most {longest}"
+    if value.isprintable():
+        # str.isprintable is false for every character refused below (Cc, Cs, Zl, Zp, and
+        # the bidirectional controls, which are Cf): most text is settled by this one call
+        return None
     for i, ch in enumerate(value):
         if multiline and ch in _NOTE_CONTROLS:
             continue

@@ -7,14 +7,16 @@ import json
 from dataclasses import dataclass, field
 from datetime import datetime, timezone
 
-from sqlalchemy import func, select
+from sqlalchemy import func, insert, select, update
 from sqlalchemy.orm import Session
 
 from ..engine import spec
-from ..formats.fleet import (FleetContent, model_to_document, parse_fleet, unit_to_document)
+from ..formats.fleet import (FleetContent, UnitRecord, model_to_document, parse_fleet,
+                              unit_to_document)
 from . import models as m
 from .db import Database
-from .specs import all_models, all_units, model_spec, site_record, unit_record, write_model
+from .specs import (all_models, all_units, insert_models, model_spec, site_record, stored_models,
+                    model_content, unit_record, write_model)
 
 
 def utcnow() -> datetime:
@@ -59,17 +61,32 @@ def diff_documents(old: dict, new: dict) -> list[tuple[str, str | None, str | No
 
 def record_changes(session: Session, entity: str, key: str, diffs, actor: str,
                    user_id: int | None, report: ImportReport | None = None) -> None:
-    """Record each field change and chain it onto the change chain (:mod:`.chain`)."""
-    from .chain import link_change
+    """Record each field change of one model, unit or site and chain it onto the change chain
+    (:mod:`.chain`)."""
+    record_many(session, [(entity, key, path, old, new) for path, old, new in diffs], actor,
+                user_id, report)
+
+
+def record_many(session: Session, changes: list[tuple[str, str, str, str | None, str | None]],
+                actor: str, user_id: int | None, report: ImportReport | None = None) -> None:
+    """Record (entity, key, field, old, new) changes in one multi-row INSERT, then chain them
+    in order onto the change chain (:func:`.chain.link_changes`): the way every change record
+    is written, one or twenty thousand."""
+    from .chain import link_changes
+    if not changes:
+        return
     now = utcnow()
-    for path, old, new in diffs:
-        change = m.Change(at=now, user_id=user_id, actor=actor, entity=entity,
-                          entity_key=key, field=path, old=old, new=new)
-        session.add(change)
-        session.flush()
-        link_change(session, change)
-        if report is not None:
-            report.changes.append((entity, key, path, old, new))
+    rows = [{"at": now, "user_id": user_id, "actor": actor, "entity": entity,
+             "entity_key": key, "field": path, "old": old, "new": new}
+            for entity, key, path, old, new in changes]
+    session.flush()
+    ids = session.scalars(insert(m.Change).returning(m.Change.id, sort_by_parameter_order=True),
+                          rows).all()
+    for row, change_id in zip(rows, ids):
+        row["id"] = change_id
+    link_changes(session, rows)
+    if report is not None:
+        report.changes.extend(changes)
 
 
 def known_keys(session: Session) -> tuple[set[str], set[str]]:
@@ -95,7 +112,21 @@ def import_fleet(db: Database, data, *, actor: str = "import", user_id: int | No
 
 def apply_fleet(session: Session, content: FleetContent, *, actor: str,
                 user_id: int | None) -> ImportReport:
+    """Write validated ``content`` in the caller's transaction: new rows in multi-row INSERTs,
+    changed ones updated by primary key, each changed field recorded; an unchanged row costs
+    one comparison of plain values and writes nothing."""
     report = ImportReport()
+    changes: list[tuple[str, str, str, str | None, str | None]] = []
+    site_ids = _apply_sites(session, content, report, changes)
+    model_ids = _apply_models(session, content, report, changes)
+    held = _apply_units(session, content, model_ids, site_ids, report, changes)
+    record_many(session, changes, actor, user_id, report)
+    _holds_from_file(session, held, actor)
+    session.flush()
+    return report
+
+
+def _apply_sites(session, content, report, changes) -> dict[str, int]:
     sites = {s.name: s for s in session.scalars(select(m.Site))}
     for rec in content.sites:
         row = sites.get(rec.name)
@@ -104,70 +135,115 @@ def apply_fleet(session: Session, content: FleetContent, *, actor: str,
             session.add(row)
             report.added.append(f"site {rec.name}")
         elif row.altitude != rec.altitude:
-            record_changes(session, "site", rec.name,
-                           [("altitude", repr(row.altitude), repr(rec.altitude))],
-                           actor, user_id, report)
+            changes.append(("site", rec.name, "altitude", repr(row.altitude),
+                            repr(rec.altitude)))
             row.altitude = rec.altitude
             report.updated.append(f"site {rec.name}")
         else:
             report.unchanged += 1
-    models = {x.key: x for x in all_models(session)}
+    session.flush()
+    return {name: row.id for name, row in sites.items()}
+
+
+def _apply_models(session, content, report, changes) -> dict[str, int]:
+    """Models: a spec equal to the stored one is unchanged; a changed one is rewritten with its
+    field changes; new ones go in together (:func:`.specs.insert_models`)."""
+    if not content.models:
+        return {k: i for k, i in session.execute(select(m.Model.key, m.Model.id))}
+    stored = stored_models(session)
+    new = []
     for s in content.models:
-        row = models.get(s.key)
-        if row is None:
-            row = models[s.key] = m.Model(key=s.key, kind=s.kind)
-            session.add(row)
-            write_model(row, s, session)
+        was = stored.get(s.key)
+        if was is None:
+            new.append(s)
             report.added.append(f"model {s.key}")
             continue
-        diffs = diff_documents(model_to_document(model_spec(row)), model_to_document(s))
+        diffs = [] if was.content == model_content(s) else diff_documents(
+            model_to_document(was.spec()), model_to_document(s))
         if diffs:
-            write_model(row, s, session)
-            record_changes(session, "model", s.key, diffs, actor, user_id, report)
+            write_model(session.get(m.Model, was.id), s, session)
+            changes.extend(("model", s.key, path, a, b) for path, a, b in diffs)
             report.updated.append(f"model {s.key}")
         else:
             report.unchanged += 1
     session.flush()
-    units = {x.tag: x for x in all_units(session)}
+    insert_models(session, new)
+    return {k: i for k, i in session.execute(select(m.Model.key, m.Model.id))}
+
+
+_UNIT_FIELDS = ("serial", "custodian", "status", "verified_on", "verification_due", "notes")
+
+
+def _stored_units(session: Session) -> dict[str, tuple]:
+    """tag -> (id, model key, site name, the _UNIT_FIELDS), as plain tuples from one query."""
+    q = (select(m.Unit.tag, m.Unit.id, m.Model.key, m.Site.name,
+                *(getattr(m.Unit, f) for f in _UNIT_FIELDS))
+         .join(m.Model, m.Unit.model_id == m.Model.id)
+         .outerjoin(m.Site, m.Unit.site_id == m.Site.id))
+    return {r[0]: tuple(r[1:]) for r in session.execute(q)}
+
+
+def _apply_units(session, content, model_ids, site_ids, report, changes) -> list:
+    """Units: compared as plain tuples with what is stored; new ones inserted and changed ones
+    updated by primary key, each in one executemany. Returns the (tag, notes) of the units
+    the file marks on-hold that were written, for their holds."""
+    stored = _stored_units(session)
+    inserts, updates, held = [], [], []
     for rec in content.units:
-        row = units.get(rec.tag)
-        new = unit_to_document(rec)
-        if row is None:
-            row = m.Unit(tag=rec.tag)
-            session.add(row)
-            report.added.append(f"unit {rec.tag}")
-        else:
-            diffs = diff_documents(unit_to_document(unit_record(row)), new)
+        values = (rec.model, rec.site) + tuple(getattr(rec, f) for f in _UNIT_FIELDS)
+        old = stored.get(rec.tag)
+        if old is not None:
+            if old[1:] == values:
+                report.unchanged += 1
+                continue
+            before = UnitRecord(rec.tag, old[1], **dict(zip(_UNIT_FIELDS, old[3:])),
+                                site=old[2])
+            diffs = diff_documents(unit_to_document(before), unit_to_document(rec))
             if not diffs:
                 report.unchanged += 1
                 continue
-            record_changes(session, "unit", rec.tag, diffs, actor, user_id, report)
+            changes.extend(("unit", rec.tag, path, a, b) for path, a, b in diffs)
             report.updated.append(f"unit {rec.tag}")
-        row.model = models[rec.model]
-        row.site = sites[rec.site] if rec.site else None
-        for name in ("serial", "custodian", "status", "verified_on", "verification_due",
-                     "notes"):
-            setattr(row, name, getattr(rec, name))
+        else:
+            report.added.append(f"unit {rec.tag}")
+        row = {"model_id": model_ids[rec.model],
+               "site_id": site_ids[rec.site] if rec.site else None,
+               **{f: getattr(rec, f) for f in _UNIT_FIELDS}}
+        if old is None:
+            inserts.append(dict(row, tag=rec.tag))
+        else:
+            updates.append(dict(row, id=old[0]))
         if rec.status == "on-hold":
-            _hold_from_file(session, row, actor)
-    session.flush()
-    return report
+            held.append((rec.tag, rec.notes))
+    if inserts:
+        session.execute(insert(m.Unit.__table__), inserts)
+    if updates:
+        session.execute(update(m.Unit), updates)  # ORM bulk UPDATE by primary key
+    return held
 
 
-def _hold_from_file(session: Session, unit: m.Unit, actor: str) -> None:
+def _holds_from_file(session: Session, held: list[tuple[str, str]], actor: str) -> None:
     """A unit a file marks on-hold gets an open hold, so that it shows among the holds and a
     steward's release (with its inspection result) is what returns it to service."""
-    session.flush()
-    if unit.id is not None and session.scalar(select(m.Hold.id).where(
-            m.Hold.unit_id == unit.id, m.Hold.released_at.is_(None))) is not None:
+    if not held:
         return
     from .chain import link_hold_opened
-    hold = m.Hold(unit=unit, opened_at=utcnow(),
-                  reason=f"marked on-hold in a fleet file imported by {actor}"
-                         + (f": {unit.notes}" if unit.notes else ""))
-    session.add(hold)
-    session.flush()
-    link_hold_opened(session, hold)
+    ids: dict[str, int] = {}
+    tags = [tag for tag, _ in held]
+    for i in range(0, len(tags), 500):  # within every database's limit on bound values
+        ids.update(session.execute(select(m.Unit.tag, m.Unit.id)
+                                   .where(m.Unit.tag.in_(tags[i:i + 500]))).all())
+    open_units = set(session.scalars(select(m.Hold.unit_id).where(m.Hold.released_at.is_(None))))
+    for tag, notes in held:
+        if ids[tag] in open_units:
+            continue
+        hold = m.Hold(unit_id=ids[tag], opened_at=utcnow(),
+                      reason=f"marked on-hold in a fleet file imported by {actor}"
+                             + (f": {notes}" if notes else ""))
+        session.add(hold)
+        session.flush()
+        link_hold_opened(session, hold)
+        open_units.add(ids[tag])
 
 
 def export_fleet(session: Session) -> FleetContent:

@@ -2,6 +2,9 @@
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+from typing import Any
+
 from sqlalchemy import select
 from sqlalchemy.orm import Session, selectinload
 
@@ -16,12 +19,6 @@ def _fuse_of(row) -> spec.Fuse | None:
     if not row.has_fuse:
         return None
     return spec.Fuse(**{f: getattr(row, f"fuse_{f}") for f in _FUSE_FIELDS})
-
-
-def _put_fuse(row, fuse: spec.Fuse | None) -> None:
-    row.has_fuse = fuse is not None
-    for f in _FUSE_FIELDS:
-        setattr(row, f"fuse_{f}", getattr(fuse, f) if fuse else None)
 
 
 def model_spec(row: m.Model) -> spec.ModelSpec:
@@ -53,34 +50,70 @@ _SCALARS = ("maker", "name", "kind", "integrated_leads", "max_altitude", "pollut
             "output_resistance", "min_voltage", "resistance", "energy", "power", "max_voltage")
 
 
+def _fuse_columns(fuse: spec.Fuse | None) -> dict:
+    out = {f"fuse_{f}": getattr(fuse, f) if fuse else None for f in _FUSE_FIELDS}
+    out["has_fuse"] = fuse is not None
+    return out
+
+
+def model_columns(s: spec.ModelSpec) -> dict:
+    """The model row's own columns for ``s``, as plain values (no children)."""
+    out = {name: getattr(s, name) for name in _SCALARS}
+    out.update(key=s.key, connectors=list(s.connectors), **_fuse_columns(s.fuse))
+    return out
+
+
+def rating_rows(s: spec.ModelSpec) -> list[dict]:
+    return [dict(position=i, category=r.category, voltage=r.voltage, transient=r.transient,
+                 max_altitude=r.max_altitude) for i, r in enumerate(s.ratings)]
+
+
+def mode_rows(s: spec.ModelSpec) -> list[dict]:
+    return [dict(position=i, key=x.key, label=x.label, measures=x.measures,
+                 waveform=x.waveform, terminals=list(x.terminals),
+                 input_resistance=x.input_resistance, input_capacitance=x.input_capacitance,
+                 max_input=x.max_input, max_current=x.max_current,
+                 max_duration=x.max_duration, discharge_energy=x.discharge_energy,
+                 clamp=x.clamp, closes=list(x.closes), **_fuse_columns(x.fuse))
+            for i, x in enumerate(s.modes)]
+
+
+def element_rows(s: spec.ModelSpec) -> list[dict]:
+    return [dict(position=i, element_id=e.id, type=e.type, node_a=e.between[0],
+                 node_b=e.between[1], params=dict(e.params))
+            for i, e in enumerate(s.front_end)]
+
+
 def write_model(row: m.Model, s: spec.ModelSpec, session: Session) -> None:
     """Make ``row`` hold ``s``; its ratings, modes and front end are replaced whole."""
-    row.key = s.key
-    for name in _SCALARS:
-        setattr(row, name, getattr(s, name))
-    row.connectors = list(s.connectors)
-    _put_fuse(row, s.fuse)
+    for name, value in model_columns(s).items():
+        setattr(row, name, value)
     row.ratings.clear()
     row.modes.clear()
     row.elements.clear()
     session.flush()  # the old children go before the new ones claim their unique keys
-    row.ratings.extend(m.Rating(position=i, category=r.category, voltage=r.voltage,
-                                transient=r.transient, max_altitude=r.max_altitude)
-                       for i, r in enumerate(s.ratings))
-    for i, x in enumerate(s.modes):
-        mode = m.Mode(position=i, key=x.key, label=x.label, measures=x.measures,
-                      waveform=x.waveform, terminals=list(x.terminals),
-                      input_resistance=x.input_resistance,
-                      input_capacitance=x.input_capacitance, max_input=x.max_input,
-                      max_current=x.max_current, max_duration=x.max_duration,
-                      discharge_energy=x.discharge_energy, clamp=x.clamp,
-                      closes=list(x.closes))
-        _put_fuse(mode, x.fuse)
-        row.modes.append(mode)
-    row.elements.extend(m.FrontEndElement(position=i, element_id=e.id, type=e.type,
-                                          node_a=e.between[0], node_b=e.between[1],
-                                          params=dict(e.params))
-                        for i, e in enumerate(s.front_end))
+    row.ratings.extend(m.Rating(**r) for r in rating_rows(s))
+    row.modes.extend(m.Mode(**x) for x in mode_rows(s))
+    row.elements.extend(m.FrontEndElement(**e) for e in element_rows(s))
+
+
+def insert_models(session: Session, new: list[spec.ModelSpec]) -> dict[str, int]:
+    """Write new models and their children in a few multi-row INSERTs (SQLAlchemy Core
+    executemany), not one ORM object per row: key -> id of each."""
+    from sqlalchemy import insert
+    if not new:
+        return {}
+    ids = session.scalars(insert(m.Model).returning(m.Model.id, sort_by_parameter_order=True),
+                          [model_columns(s) for s in new]).all()
+    children: dict = {m.Rating: [], m.Mode: [], m.FrontEndElement: []}
+    for s, model_id in zip(new, ids):
+        for table, rows in ((m.Rating, rating_rows(s)), (m.Mode, mode_rows(s)),
+                            (m.FrontEndElement, element_rows(s))):
+            children[table] += [dict(r, model_id=model_id) for r in rows]
+    for table, rows in children.items():
+        if rows:
+            session.execute(insert(table.__table__), rows)
+    return {s.key: model_id for s, model_id in zip(new, ids)}
 
 
 def unit_record(row: m.Unit) -> UnitRecord:
@@ -98,6 +131,51 @@ def all_models(session: Session) -> list[m.Model]:
     return list(session.scalars(select(m.Model).order_by(m.Model.key).options(
         selectinload(m.Model.ratings), selectinload(m.Model.modes),
         selectinload(m.Model.elements))))
+
+
+def model_content(s: spec.ModelSpec) -> tuple:
+    """Everything the database holds of ``s``, as plain values: the model's columns and the
+    rows of its ratings, modes and front end (what :func:`write_model` writes)."""
+    return model_columns(s), rating_rows(s), mode_rows(s), element_rows(s)
+
+
+@dataclass(frozen=True)
+class StoredModel:
+    """A model as read by :func:`stored_models`: its id, its content in the shape of
+    :func:`model_content`, and the plain row its spec is built from when needed."""
+
+    id: int
+    content: tuple
+    row: Any
+
+    def spec(self) -> spec.ModelSpec:
+        return model_spec(self.row)
+
+
+def stored_models(session: Session) -> dict[str, StoredModel]:
+    """key -> :class:`StoredModel` of every model, read with four plain queries and no ORM
+    objects: a re-import compares each file model's :func:`model_content` against it, so an
+    unchanged model costs one comparison of plain values."""
+    from types import SimpleNamespace
+
+    def plain(r) -> dict:
+        return {k: v for k, v in r._mapping.items() if k not in ("id", "model_id")}
+
+    children: dict[str, dict[int, list]] = {}
+    for name, table in (("ratings", m.Rating), ("modes", m.Mode),
+                        ("elements", m.FrontEndElement)):
+        t = table.__table__
+        by_model: dict[int, list] = {}
+        for r in session.execute(select(t).order_by(t.c.model_id, t.c.position)):
+            by_model.setdefault(r.model_id, []).append(r)
+        children[name] = by_model
+    out = {}
+    for r in session.execute(select(m.Model.__table__)):
+        kids = {name: by_model.get(r.id, []) for name, by_model in children.items()}
+        content = (plain(r), [plain(x) for x in kids["ratings"]],
+                   [plain(x) for x in kids["modes"]], [plain(x) for x in kids["elements"]])
+        out[r.key] = StoredModel(r.id, content, SimpleNamespace(**r._mapping, **kids))
+    return out
 
 
 def all_units(session: Session) -> list[m.Unit]:
