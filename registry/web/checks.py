@@ -22,10 +22,12 @@ from ..plans import CIRCUIT_QUANTITIES, FORMAT
 from ..store import queries
 from ..services.checks import plan_from, run_check
 from ..store.fleet import engine_fleet
+from ..store.versions import fleet_version
 from .access import role_required
 from .forms import FieldErrors
 from .limits import check_texts, int_arg
 from .plots import DischargePath, discharge_svg, needs_has_svg
+from .result_cache import results
 
 bp = Blueprint("checks", __name__, url_prefix="/checks")
 
@@ -113,10 +115,16 @@ def _form(fields, errors, status=200):
 
 def check_with_fleet(session, doc, on):
     """The shared job check (check 10 included), with the fleet it ran against, whose models
-    the discharge curves and the job card need."""
+    the discharge curves and the job card need; a result already computed for this plan on
+    this fleet version is reused (:mod:`.result_cache`)."""
     plan = plan_from(doc, session, on)
-    fleet = engine_fleet(session)
-    return run_check(plan, fleet), fleet
+
+    def check():
+        fleet = engine_fleet(session)
+        return run_check(plan, fleet), fleet
+
+    # kept per (plan, fleet version): the page, its plots and its job card run one check
+    return results().get((plan, plan.on or date.today(), fleet_version(session)), check)
 
 
 def checked(fields: dict):
