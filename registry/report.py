@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from .engine.quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, RESISTANCE, TIME, VOLTAGE,
-                              format_quantity as fq)
+                              format_quantity as qtext)
 from .engine.result import Result, SetupResult, format_ratio, margin_ratio
 
 DEFAULT_LIMIT = 20  # setups shown without --all (SPEC §4)
@@ -54,32 +54,35 @@ def _table(rows: list[list[str]], headers: list[str], wrap_last: int = 70) -> li
 def derived_lines(result: Result) -> list[str]:
     plan, d, c = result.plan, result.derived, result.plan.circuit
     supply = (f"mains CAT {c.category}" if c.supply == "mains" else "isolated")
-    volts = fq(c.voltage, VOLTAGE) + (" rms" if c.waveform == "ac" else " dc")
+    volts = qtext(c.voltage, VOLTAGE) + (" rms" if c.waveform == "ac" else " dc")
     if c.to_earth != c.voltage:
-        volts += f", {fq(c.to_earth, VOLTAGE)} to earth"
+        volts += f", {qtext(c.to_earth, VOLTAGE)} to earth"
     out = [f"Plan: {plan.title or '(untitled)'}",
            f"  task {plan.task}; {supply}, {volts}; site {plan.site or '-'} at "
-           f"{fq(plan.altitude, LENGTH)}{' (wet)' if plan.wet else ''}; connected "
-           f"{fq(plan.duration, TIME)}; on {result.on.isoformat() if result.on else '-'}"]
+           f"{qtext(plan.altitude, LENGTH)}{' (wet)' if plan.wet else ''}; connected "
+           f"{qtext(plan.duration, TIME)}; on {result.on.isoformat() if result.on else '-'}"]
     if d.transient is not None:
-        out.append(f"  expected transient   {fq(d.transient, VOLTAGE)} peak; source: {d.transient_source}")
+        out.append(f"  expected transient   {qtext(d.transient, VOLTAGE)} peak; "
+                   f"source: {d.transient_source}")
     else:
         out.append(f"  expected transient   not known: {d.transient_source}")
     if d.prospective_current is not None:
-        out.append(f"  prospective current  {fq(d.prospective_current, CURRENT)} "
-                   f"(source impedance {fq(d.source_impedance, RESISTANCE)})")
+        out.append(f"  prospective current  {qtext(d.prospective_current, CURRENT)} "
+                   f"(source impedance {qtext(d.source_impedance, RESISTANCE)})")
     else:
         out.append("  prospective current  not known (give circuit.source_impedance)")
     if d.energy is not None:
-        out.append(f"  stored energy        {fq(d.energy, ENERGY)} in "
-                   f"{fq(d.capacitance, CAPACITANCE)} at {fq(d.peak_voltage, VOLTAGE)}")
+        out.append(f"  stored energy        {qtext(d.energy, ENERGY)} in "
+                   f"{qtext(d.capacitance, CAPACITANCE)} at {qtext(d.peak_voltage, VOLTAGE)}")
     else:
         out.append("  stored energy        not given")
     unit = " rms" if c.waveform == "ac" else " dc"
-    out.append(f"  hazardous live       above {fq(d.hazardous_live, VOLTAGE)}{unit}: the circuit "
-               f"{'IS' if d.hazardous else 'is not'} hazardous live; source: {d.hazardous_live_source}")
+    out.append(f"  hazardous live       above {qtext(d.hazardous_live, VOLTAGE)}{unit}: "
+               f"the circuit {'IS' if d.hazardous else 'is not'} hazardous live; "
+               f"source: {d.hazardous_live_source}")
     if plan.task == "discharge":
-        out.append(f"  safe level           {fq(d.safe_level, VOLTAGE)}; source: {d.safe_level_source}")
+        out.append(f"  safe level           {qtext(d.safe_level, VOLTAGE)}; "
+                   f"source: {d.safe_level_source}")
     return out
 
 

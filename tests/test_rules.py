@@ -71,8 +71,8 @@ def test_the_sql_fleet_filter_is_fitting_ratings(rating_db, category, voltage):
     """The fleet list's "takes category / voltage" filter (SQL, paginated) returns exactly the
     units that the engine's check 2 rule, fitting_ratings, finds a rating for."""
     session, specs = rating_db
-    fq = queries.FleetQuery(category=category or "", voltage=voltage, size=1000)
-    got = {u.tag for u in queries.fleet_page(session, fq).units}
+    filters = queries.FleetQuery(category=category or "", voltage=voltage, size=1000)
+    got = {u.tag for u in queries.fleet_page(session, filters).units}
     if category is None and voltage is None:
         want = set(specs)  # no filter asked
     else:

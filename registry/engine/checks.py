@@ -16,7 +16,7 @@ from ..standards import altitude as alt
 from ..standards import impulse, probe_tips
 from .findings import Compare, Finding, headroom
 from .quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, POWER, RESISTANCE, TIME, VOLTAGE,
-                       format_quantity as fq)
+                       format_quantity as qtext)
 # discharge_time and absorbed_in live with the one discharge rule; kept importable from here
 from .discharge import (SRC_FRONT_END, DischargeProfile, DischargeUnsolved, absorbed_in,  # noqa: F401
                         absorbed_to, discharge_profile, discharge_time, time_text)
@@ -59,8 +59,8 @@ def _f(check, status, subject, message, source, required="", available="", margi
 
 def rating_text(r: Rating) -> str:
     if r.category == "none":
-        return f"{fq(r.voltage, VOLTAGE)} (no category)"
-    return f"CAT {r.category} {fq(r.voltage, VOLTAGE)}"
+        return f"{qtext(r.voltage, VOLTAGE)} (no category)"
+    return f"CAT {r.category} {qtext(r.voltage, VOLTAGE)}"
 
 
 # -- check 2: category and voltage ------------------------------------------------------------
@@ -92,7 +92,7 @@ def check_category(ctx: SetupContext) -> list[Finding]:
                           f"of clamp {ctx.current_clamp.key}.", SRC_CATEGORY))
             continue
         cat, need = category_requirement(ctx, item)
-        required = (f"CAT {cat} " if cat else "") + fq(need, VOLTAGE)
+        required = (f"CAT {cat} " if cat else "") + qtext(need, VOLTAGE)
         if not item.ratings:
             out.append(_f("category", "unknown", item.key,
                           f"{item.key} has no rating recorded; its fitness for "
@@ -112,9 +112,9 @@ def check_category(ctx: SetupContext) -> list[Finding]:
             available = ", ".join(rating_text(r) for r in item.ratings)
             if cat is not None:
                 why = (f"none of its ratings ({available}) is at least CAT {cat} and at least "
-                       f"{fq(need, VOLTAGE)} at the same time")
+                       f"{qtext(need, VOLTAGE)} at the same time")
             else:
-                why = f"its highest rating ({available}) is below {fq(need, VOLTAGE)}"
+                why = f"its highest rating ({available}) is below {qtext(need, VOLTAGE)}"
             closest = max(item.ratings, key=lambda r: r.voltage)
             out.append(_f("category", "fail", item.key,
                           f"{item.key} must not be used here: {why}.", SRC_CATEGORY, required,
@@ -165,8 +165,8 @@ def check_tip(ctx: SetupContext) -> list[Finding]:
                                                   or ctx.is_discharge_tool):
         return []
     status = probe_tips.tip_status(item.tip_exposure, cat)
-    limit = fq(probe_tips.PREFERRED_EXPOSURE, LENGTH)
-    top = fq(probe_tips.MAX_EXPOSURE, LENGTH)
+    limit = qtext(probe_tips.PREFERRED_EXPOSURE, LENGTH)
+    top = qtext(probe_tips.MAX_EXPOSURE, LENGTH)
     work = f"CAT {cat} work" if cat else "isolated hazardous-live work"
     source = probe_tips.SOURCE_CAT if cat in probe_tips.FAIL_CATEGORIES else probe_tips.SOURCE
     if status == "unknown":
@@ -177,7 +177,7 @@ def check_tip(ctx: SetupContext) -> list[Finding]:
         return [_f("tip", "unknown", item.key, msg, source, need=probe_tips.PREFERRED_EXPOSURE,
                    unit="m", compare=Compare.AT_MOST)]
     assert item.tip_exposure is not None  # tip_status gives unknown (returned above) without it
-    have = fq(item.tip_exposure, LENGTH)
+    have = qtext(item.tip_exposure, LENGTH)
     beyond = item.tip_exposure > probe_tips.MAX_EXPOSURE
     if status == "pass":
         msg = f"{item.key} leaves {have} of exposed metal at the tip ({limit} or less)."
@@ -247,12 +247,12 @@ def check_transient(ctx: SetupContext) -> list[Finding]:
             continue
         need = ctx.seen_transient if item is ctx.instrument else expected
         assert need is not None  # both come from the transient, None returned above
-        required = f"{fq(need, VOLTAGE)} peak"
+        required = f"{qtext(need, VOLTAGE)} peak"
         cat, need_v = category_requirement(ctx, item)
         covering = fitting_ratings(item, cat, need_v)
         have = withstand_of(item, covering)
         if item.ratings and not covering:
-            cover = (f"CAT {cat} " if cat else "") + fq(need_v, VOLTAGE)
+            cover = (f"CAT {cat} " if cat else "") + qtext(need_v, VOLTAGE)
             out.append(_f("transient", "fail", item.key,
                           f"{item.key} has no rating that covers {cover}, so none of its "
                           f"impulse withstands applies here; {required} is not withstood.",
@@ -270,7 +270,7 @@ def check_transient(ctx: SetupContext) -> list[Finding]:
                  key=lambda r: r.voltage)
         ok = have >= need
         out.append(_f("transient", "pass" if ok else "fail", item.key,
-                      f"{item.key} withstands {fq(have, VOLTAGE)} peak by its rating "
+                      f"{item.key} withstands {qtext(have, VOLTAGE)} peak by its rating "
                       f"{rating_text(by)}; the circuit can deliver {required}"
                       + ("." if ok else ": it may flash over."),
                       ctx.derived.transient_source, margin=headroom(have, need),
@@ -296,9 +296,9 @@ def _factor_text(h: float, rated: float) -> str:
         return ("the altitude is above the last row of IEC 60664-1 Table A.2 (20 000 m): no "
                 "clearance correction is given for it")
     f_rated = alt.credited_factor(rated)
-    return (f"IEC 60664-1 Table A.2 gives a factor of {f_site:.2f} at {fq(h, LENGTH)} (its row "
-            f"up to {fq(row, LENGTH)}, no interpolation) against {f_rated:.2f} for the rated "
-            f"{fq(rated, LENGTH)}: clearances would need to be {f_site / f_rated:.2f} times "
+    return (f"IEC 60664-1 Table A.2 gives a factor of {f_site:.2f} at {qtext(h, LENGTH)} (its row "
+            f"up to {qtext(row, LENGTH)}, no interpolation) against {f_rated:.2f} for the rated "
+            f"{qtext(rated, LENGTH)}: clearances would need to be {f_site / f_rated:.2f} times "
             "larger")
 
 
@@ -312,8 +312,8 @@ def check_altitude(ctx: SetupContext) -> list[Finding]:
             top = item.max_altitude
             ok = h <= top
             out.append(_f("altitude", "pass" if ok else "fail", item.key,
-                          f"{item.key} is for use up to {fq(top, LENGTH)}; the site is at "
-                          f"{fq(h, LENGTH)}" + ("." if ok else f"; {_factor_text(h, top)}."),
+                          f"{item.key} is for use up to {qtext(top, LENGTH)}; the site is at "
+                          f"{qtext(h, LENGTH)}" + ("." if ok else f"; {_factor_text(h, top)}."),
                           SRC_ALTITUDE, margin=headroom(top, h), need=h, have=top, unit="m"))
             continue
         top_rating = max(relevant, key=lambda r: rating_altitude(item, r))
@@ -325,13 +325,13 @@ def check_altitude(ctx: SetupContext) -> list[Finding]:
                         "read from the next row up)")
             out.append(_f("altitude", "pass", item.key,
                           f"{item.key}'s rating {rating_text(top_rating)} holds up to "
-                          f"{fq(top, LENGTH)}; the site is at {fq(h, LENGTH)}{note}.",
+                          f"{qtext(top, LENGTH)}; the site is at {qtext(h, LENGTH)}{note}.",
                           SRC_ALTITUDE, margin=headroom(top, h), need=h, have=top,
                           unit="m"))
         else:
             out.append(_f("altitude", "fail", item.key,
                           f"{item.key}'s rating {rating_text(top_rating)} holds only up to "
-                          f"{fq(top, LENGTH)}; at {fq(h, LENGTH)} it does not apply: "
+                          f"{qtext(top, LENGTH)}; at {qtext(h, LENGTH)} it does not apply: "
                           f"{_factor_text(h, top)}.", SRC_ALTITUDE,
                           margin=headroom(top, h), need=h, have=top, unit="m"))
     return out
@@ -340,14 +340,14 @@ def check_altitude(ctx: SetupContext) -> list[Finding]:
 # -- check 5: mode input ----------------------------------------------------------------------
 
 def _limit(check, subject, what, have, need, dim, source, unit_note=""):
-    required = fq(need, dim)
+    required = qtext(need, dim)
     if have is None:
         return _f(check, "unknown", subject, f"{what}: the maker's limit is not recorded; "
                   f"{required}{unit_note} cannot be checked.", source, need=need,
                   unit=dim.unit)
     ok = have >= need
     return _f(check, "pass" if ok else "fail", subject,
-              f"{what}: {fq(have, dim)} against {required}{unit_note}"
+              f"{what}: {qtext(have, dim)} against {required}{unit_note}"
               + ("." if ok else ", more than it is rated for."), source,
               margin=headroom(have, need), need=need, have=have, unit=dim.unit)
 
@@ -381,18 +381,18 @@ def chain_current(ctx: SetupContext) -> list[Finding]:
     carriers = [a for a in ctx.accessories if a.kind != "current-clamp"]
     if need is None or not carriers:
         return []
-    required = fq(need, CURRENT)
+    required = qtext(need, CURRENT)
     out = [_f("mode-input", "unknown", a.key, f"{a.key} carries the {required} in series but "
               "its rated current is not recorded.", SRC_CHAIN_CURRENT, need=need, unit="A")
            for a in carriers if a.current_rating is None]
     rated = [(a, a.current_rating) for a in carriers if a.current_rating is not None]
     if rated:
         low, have = min(rated, key=lambda pair: pair[1])
-        listing = ", ".join(f"{a.key} {fq(rating, CURRENT)}" for a, rating in rated)
+        listing = ", ".join(f"{a.key} {qtext(rating, CURRENT)}" for a, rating in rated)
         ok = have >= need
         out.append(_f("mode-input", "pass" if ok else "fail", low.key,
                       f"The chain carries {required} in series; the lowest rated current in "
-                      f"it is {low.key}'s {fq(have, CURRENT)} ({listing})"
+                      f"it is {low.key}'s {qtext(have, CURRENT)} ({listing})"
                       + ("." if ok else ": it would overheat."), SRC_CHAIN_CURRENT,
                       margin=headroom(have, need), need=need, have=have, unit="A"))
     return out
@@ -410,7 +410,7 @@ def _fuse_findings(ctx: SetupContext, subject: str, label: str, fuses, status_ba
     ipc = ctx.prospective_current
     fuses = [(who, f) for who, f in fuses if f is not None]
     if not fuses:
-        across = fq(c.voltage, VOLTAGE) + (f" ({fq(ipc, CURRENT)} prospective)"
+        across = qtext(c.voltage, VOLTAGE) + (f" ({qtext(ipc, CURRENT)} prospective)"
                                            if ipc is not None else "")
         return [_f("misuse", "unknown", subject,
                    f"{label}: no fuse is recorded; whether it survives being put across "
@@ -427,13 +427,13 @@ def _fuse_findings(ctx: SetupContext, subject: str, label: str, fuses, status_ba
             if fuse.breaking_capacity is None:
                 unknowns.append("breaking capacity")
             elif fuse.breaking_capacity < ipc:
-                problems.append(f"breaks only {fq(fuse.breaking_capacity, CURRENT)} of the "
-                                f"{fq(ipc, CURRENT)} prospective current")
+                problems.append(f"breaks only {qtext(fuse.breaking_capacity, CURRENT)} of the "
+                                f"{qtext(ipc, CURRENT)} prospective current")
         if v_have is None:
             unknowns.append(v_word)
         elif v_have < v_need:
-            problems.append(f"its {v_word} {fq(v_have, VOLTAGE)} is below "
-                            f"{fq(v_need, VOLTAGE)}")
+            problems.append(f"its {v_word} {qtext(v_have, VOLTAGE)} is below "
+                            f"{qtext(v_need, VOLTAGE)}")
         # The numbers of the finding are the pair that decides: the one with the least
         # headroom, else (nothing recorded to hold against) what the circuit asks first.
         pairs = [(headroom(have, need), need, have, unit) for need, have, unit in (
@@ -446,11 +446,11 @@ def _fuse_findings(ctx: SetupContext, subject: str, label: str, fuses, status_ba
             need_x, unit_x = (ipc, "A") if ipc is not None else (v_need, "V")
         numbers: dict[str, Any] = dict(need=need_x, have=have_x, unit=unit_x)
         if ipc is not None:
-            required = f"{fq(ipc, CURRENT)}, {fq(v_need, VOLTAGE)}"
-            available = ", ".join(x for x in (fq(fuse.breaking_capacity, CURRENT),
-                                              fq(v_have, VOLTAGE)) if x)
+            required = f"{qtext(ipc, CURRENT)}, {qtext(v_need, VOLTAGE)}"
+            available = ", ".join(x for x in (qtext(fuse.breaking_capacity, CURRENT),
+                                              qtext(v_have, VOLTAGE)) if x)
         else:
-            required, available = fq(v_need, VOLTAGE), fq(v_have, VOLTAGE)
+            required, available = qtext(v_need, VOLTAGE), qtext(v_have, VOLTAGE)
         if problems:
             out.append(_f("misuse", status_bad, subject,
                           f"{label}, put across the circuit, meets a fuse ({who}) that "
@@ -464,13 +464,13 @@ def _fuse_findings(ctx: SetupContext, subject: str, label: str, fuses, status_ba
         elif ipc is not None:
             out.append(_f("misuse", "pass", subject,
                           f"{label}: the fuse ({who}) breaks "
-                          f"{fq(fuse.breaking_capacity, CURRENT)} at {fq(v_have, VOLTAGE)}, "
-                          f"enough for {fq(ipc, CURRENT)} at {fq(v_need, VOLTAGE)}.",
+                          f"{qtext(fuse.breaking_capacity, CURRENT)} at {qtext(v_have, VOLTAGE)}, "
+                          f"enough for {qtext(ipc, CURRENT)} at {qtext(v_need, VOLTAGE)}.",
                           SRC_MISUSE, required, available, margin, **numbers))
         else:
             out.append(_f("misuse", "pass", subject,
                           f"{label}: the fuse ({who}) has a {v_word} of "
-                          f"{fq(v_have, VOLTAGE)}, enough for {fq(v_need, VOLTAGE)}.",
+                          f"{qtext(v_have, VOLTAGE)}, enough for {qtext(v_need, VOLTAGE)}.",
                           SRC_MISUSE, required, available, margin, **numbers))
     if ipc is None:
         out.append(_f("misuse", "not-run", subject,
@@ -491,7 +491,7 @@ def _chain_fuses(ctx: SetupContext, mode_fuse: Fuse | None, mode: Mode | None = 
         if ids:
             where += ", " + "/".join(ids)
     if mode_fuse is not None and mode_fuse.current is not None:
-        where += f", {fq(mode_fuse.current, CURRENT)}"
+        where += f", {qtext(mode_fuse.current, CURRENT)}"
     items = [(where, mode_fuse)]
     items += [(f"in {a.key}", a.fuse) for a in ctx.accessories if a.fuse is not None]
     return items
@@ -527,19 +527,19 @@ def _misuse_energy(ctx: SetupContext, other: Mode) -> list[Finding]:
     v0, t = ctx.derived.peak_voltage, ctx.plan.duration
     e = absorbed_to(cap, v0, 0.0) if r is None else absorbed_in(cap, v0, r, t)
     subject = f"{ctx.instrument.key}/{other.key}"
-    path = "" if r is None else f" through {fq(r, RESISTANCE)}"
-    facts = (f"{other.label}, selected by mistake on the {fq(cap, CAPACITANCE)} charged to "
-             f"{fq(v0, VOLTAGE)}, would take {fq(e, ENERGY)}{path} in {fq(t, TIME)}")
+    path = "" if r is None else f" through {qtext(r, RESISTANCE)}"
+    facts = (f"{other.label}, selected by mistake on the {qtext(cap, CAPACITANCE)} charged to "
+             f"{qtext(v0, VOLTAGE)}, would take {qtext(e, ENERGY)}{path} in {qtext(t, TIME)}")
     if limit is None:
         return [_f("misuse", "caution", subject, facts + "; the energy it may absorb is not "
                    "recorded. Do not switch to it while connected.", SRC_MISUSE_ENERGY,
                    need=e, unit="J")]
     if e > limit:
         return [_f("misuse", "caution", subject, facts + f", more than its "
-                   f"{fq(limit, ENERGY)} limit. Do not switch to it while connected.",
+                   f"{qtext(limit, ENERGY)} limit. Do not switch to it while connected.",
                    SRC_MISUSE_ENERGY, margin=headroom(limit, e), need=e, have=limit,
                    unit="J")]
-    return [_f("misuse", "pass", subject, facts + f", within its {fq(limit, ENERGY)} limit.",
+    return [_f("misuse", "pass", subject, facts + f", within its {qtext(limit, ENERGY)} limit.",
                SRC_MISUSE_ENERGY, margin=headroom(limit, e), need=e, have=limit, unit="J")]
 
 
@@ -601,19 +601,19 @@ def check_misuse(ctx: SetupContext) -> list[Finding]:
             out.append(_f("misuse", "unknown", subject,
                           f"{other.label} shares the terminals {'/'.join(mode.terminals)}; its "
                           f"maximum input is not recorded, so selecting it by mistake on "
-                          f"{fq(seen, VOLTAGE)} cannot be checked.", SRC_MISUSE,
+                          f"{qtext(seen, VOLTAGE)} cannot be checked.", SRC_MISUSE,
                           need=seen, unit="V"))
         elif other.max_input < seen:
             out.append(_f("misuse", "caution", subject,
                           f"Do not switch to {other.label} while connected: it shares the "
-                          f"terminals and takes only {fq(other.max_input, VOLTAGE)}, less "
-                          f"than {fq(seen, VOLTAGE)}.", SRC_MISUSE,
+                          f"terminals and takes only {qtext(other.max_input, VOLTAGE)}, less "
+                          f"than {qtext(seen, VOLTAGE)}.", SRC_MISUSE,
                           margin=headroom(other.max_input, seen), need=seen,
                           have=other.max_input, unit="V"))
         else:
             out.append(_f("misuse", "pass", subject,
                           f"{other.label} on the same terminals takes "
-                          f"{fq(other.max_input, VOLTAGE)}, enough for {fq(seen, VOLTAGE)} "
+                          f"{qtext(other.max_input, VOLTAGE)}, enough for {qtext(seen, VOLTAGE)} "
                           "if selected by mistake.", SRC_MISUSE,
                           margin=headroom(other.max_input, seen), need=seen,
                           have=other.max_input, unit="V"))
@@ -675,9 +675,9 @@ def _divider_data(d: ModelSpec) -> list[Finding]:
             or d.required_load is None):
         return []
     fields = (f"model {d.key}: attenuation {d.attenuation:g}:1, resistance "
-              f"{fq(d.resistance, RESISTANCE)}, output_resistance "
-              f"{fq(d.output_resistance, RESISTANCE)}, required_load "
-              f"{fq(d.required_load, RESISTANCE)}")
+              f"{qtext(d.resistance, RESISTANCE)}, output_resistance "
+              f"{qtext(d.output_resistance, RESISTANCE)}, required_load "
+              f"{qtext(d.required_load, RESISTANCE)}")
     computed = loaded_divider_attenuation(d.resistance, d.output_resistance, d.required_load)
     if computed is None:
         return [_f("loading", "caution", d.key, f"The recorded data of {d.key} do not fit a "
@@ -724,10 +724,10 @@ def check_loading(ctx: SetupContext) -> list[Finding]:
         p = i * i * z_in
         low = 1.0 - v_in / c.voltage if c.voltage > 0 else 0.0
         shows = v_in / ctx.attenuation
-        text = (f"{subject} ({fq(z_in, RESISTANCE)}) draws {fq(i, CURRENT)} and takes "
-                f"{fq(p, POWER)}; it will show {fq(shows, VOLTAGE)}")
+        text = (f"{subject} ({qtext(z_in, RESISTANCE)}) draws {qtext(i, CURRENT)} and takes "
+                f"{qtext(p, POWER)}; it will show {qtext(shows, VOLTAGE)}")
         if ctx.divider is not None:
-            text += f" (for {fq(v_in, VOLTAGE)} at the divider input)"
+            text += f" (for {qtext(v_in, VOLTAGE)} at the divider input)"
         if low > READING_TOLERANCE:
             out.append(_f("loading", "caution", subject, text + f", {low:.1%} low: the "
                           "source impedance drags the reading down.", SRC_LOADING,
@@ -755,13 +755,13 @@ def _divider_load(ctx: SetupContext, d: ModelSpec) -> list[Finding]:
         return [_f("loading", "unknown", subject, f"The {missing} is not recorded; whether "
                    f"{d.key} reads true into this input is not known.", SRC_DIVIDER)]
     off = abs(z - d.required_load) / d.required_load
-    required, available = fq(d.required_load, RESISTANCE), fq(z, RESISTANCE)
+    required, available = qtext(d.required_load, RESISTANCE), qtext(z, RESISTANCE)
     load: dict[str, Any] = dict(need=d.required_load, have=z, unit="ohm",
                                 compare=Compare.MATCH)
     if off <= LOAD_TOLERANCE:
         return [_f("loading", "pass", subject, f"{d.key} is calibrated into {required}; the "
-                   f"input is {available}. It shows {fq(ctx.seen_voltage, VOLTAGE)} for "
-                   f"{fq(ctx.plan.circuit.voltage, VOLTAGE)}.", SRC_DIVIDER, **load)]
+                   f"input is {available}. It shows {qtext(ctx.seen_voltage, VOLTAGE)} for "
+                   f"{qtext(ctx.plan.circuit.voltage, VOLTAGE)}.", SRC_DIVIDER, **load)]
     if d.output_resistance is None:
         return [_f("loading", "unknown", subject, f"{d.key} is calibrated into {required} but "
                    f"the input is {available}; its output resistance is not recorded, so the "
@@ -769,8 +769,8 @@ def _divider_load(ctx: SetupContext, d: ModelSpec) -> list[Finding]:
     err = divider_error(z, d.required_load, d.output_resistance)
     return [_f("loading", "caution", subject, f"{d.key} is calibrated into {required} but the "
                f"input is {available}: the reading will be {abs(err):.1%} "
-               f"{'low' if err < 0 else 'high'} ({fq(ctx.seen_voltage * (1 + err), VOLTAGE)} "
-               f"for {fq(ctx.plan.circuit.voltage, VOLTAGE)}).", SRC_DIVIDER, **load)]
+               f"{'low' if err < 0 else 'high'} ({qtext(ctx.seen_voltage * (1 + err), VOLTAGE)} "
+               f"for {qtext(ctx.plan.circuit.voltage, VOLTAGE)}).", SRC_DIVIDER, **load)]
 
 
 # -- check 8: low-Z and duration --------------------------------------------------------------
@@ -796,15 +796,15 @@ def check_duration(ctx: SetupContext) -> list[Finding]:
         if ctx.source_impedance is not None:
             v = reading_with_source(v, r, ctx.source_impedance)
         p = input_power(v, r)
-        parts.append(f"{mode.label} ({fq(r, RESISTANCE)}) draws {fq(v / r, CURRENT)} and "
-                     f"dissipates {fq(p, POWER)}, {fq(p * plan.duration, ENERGY)} over "
-                     f"{fq(plan.duration, TIME)}")
-    required = fq(plan.duration, TIME)
+        parts.append(f"{mode.label} ({qtext(r, RESISTANCE)}) draws {qtext(v / r, CURRENT)} and "
+                     f"dissipates {qtext(p, POWER)}, {qtext(p * plan.duration, ENERGY)} over "
+                     f"{qtext(plan.duration, TIME)}")
+    required = qtext(plan.duration, TIME)
     if mode.max_duration is None:
         return [_f("low-z", "unknown", subject, "; ".join(parts) + "; the maker's time limit "
                    "for this mode is not recorded.", SRC_LOWZ, need=plan.duration, unit="s")]
     ok = plan.duration <= mode.max_duration
-    parts.append(f"the mode is rated for {fq(mode.max_duration, TIME)} at a time and the plan "
+    parts.append(f"the mode is rated for {qtext(mode.max_duration, TIME)} at a time and the plan "
                  f"keeps it connected {required}")
     msg = "; ".join(parts) + ("." if ok else ": disconnect sooner or use a high-impedance mode.")
     return [_f("low-z", "pass" if ok else "fail", subject, msg[0].upper() + msg[1:], SRC_LOWZ,
@@ -815,15 +815,15 @@ def check_duration(ctx: SetupContext) -> list[Finding]:
 # -- check 9: stored energy and discharge -----------------------------------------------------
 
 def _discharge_facts(ctx: SetupContext, prof: DischargeProfile) -> str:
-    cap, v0 = fq(prof.capacitance, CAPACITANCE), fq(prof.v0, VOLTAGE)
+    cap, v0 = qtext(prof.capacitance, CAPACITANCE), qtext(prof.v0, VOLTAGE)
     if prof.method == "rc":
-        return (f"through {fq(prof.resistance, RESISTANCE)} the {cap} at {v0} has tau "
-                f"{fq(prof.tau, TIME)}, peak current {fq(prof.peak_current, CURRENT)}, peak "
-                f"power {fq(prof.peak_power, POWER)}")
+        return (f"through {qtext(prof.resistance, RESISTANCE)} the {cap} at {v0} has tau "
+                f"{qtext(prof.tau, TIME)}, peak current {qtext(prof.peak_current, CURRENT)}, peak "
+                f"power {qtext(prof.peak_power, POWER)}")
     text = (f"through the front end of {ctx.instrument.key} in {ctx.mode.key} "
-            f"({fq(prof.resistance, RESISTANCE)} at the start) the {cap} at {v0} draws a peak "
-            f"current of {fq(prof.peak_current, CURRENT)}, peak power "
-            f"{fq(prof.peak_power, POWER)}")
+            f"({qtext(prof.resistance, RESISTANCE)} at the start) the {cap} at {v0} draws a peak "
+            f"current of {qtext(prof.peak_current, CURRENT)}, peak power "
+            f"{qtext(prof.peak_power, POWER)}")
     if prof.events:
         text += "; " + "; ".join(prof.events)
     return text
@@ -852,7 +852,7 @@ def check_discharge(ctx: SetupContext) -> list[Finding]:
     except DischargeUnsolved as exc:
         return [_f("discharge", "unknown", subject, f"The discharge through the front end of "
                    f"{ctx.instrument.key} in {mode.key} could not be solved ({exc}); the time "
-                   f"to {fq(vs, VOLTAGE)} and the energy the path takes are not known.",
+                   f"to {qtext(vs, VOLTAGE)} and the energy the path takes are not known.",
                    SRC_FRONT_END)]
     if prof is None:
         return [_f("discharge", "unknown", subject, f"The input resistance of {subject} is "
@@ -867,13 +867,13 @@ def check_discharge(ctx: SetupContext) -> list[Finding]:
     facts = _discharge_facts(ctx, prof)
     if discharging:
         facts += f"; it {prof.outcome()}"
-    facts += f"; the path absorbs {'up to ' if bound else ''}{fq(e, ENERGY)}"
+    facts += f"; the path absorbs {'up to ' if bound else ''}{qtext(e, ENERGY)}"
     facts = facts[0].upper() + facts[1:]
     out = []
     if limit is not None:
         ok = e <= limit
         out.append(_f("discharge", "pass" if ok else "fail", subject, facts
-                      + f" against its {fq(limit, ENERGY)} limit"
+                      + f" against its {qtext(limit, ENERGY)} limit"
                       + ("." if ok else ": it would be overstressed."), src,
                       margin=headroom(limit, e), need=e, have=limit, unit="J"))
     elif discharging or low_z:
@@ -885,12 +885,12 @@ def check_discharge(ctx: SetupContext) -> list[Finding]:
         # (check 5) already covers; so a high-impedance input passes, with the drain stated.
         out.append(_f("discharge", "pass", subject, facts
                       + f": it drains the capacitance while connected (tau under "
-                      f"{DRAIN_FACTOR:g} x {fq(plan.duration, TIME)}), no more than its "
+                      f"{DRAIN_FACTOR:g} x {qtext(plan.duration, TIME)}), no more than its "
                       "continuous input dissipation.", src, need=e, unit="J"))
     else:
         out.append(_f("discharge", "pass", subject, f"High-impedance input: tau "
-                      f"{fq(prof.tau, TIME)} through {fq(prof.resistance, RESISTANCE)}, it "
-                      f"barely drains the capacitance in {fq(plan.duration, TIME)}.", src))
+                      f"{qtext(prof.tau, TIME)} through {qtext(prof.resistance, RESISTANCE)}, it "
+                      f"barely drains the capacitance in {qtext(plan.duration, TIME)}.", src))
     if discharging:
         out += _hold_findings(ctx, prof, subject)
     return out
@@ -906,16 +906,17 @@ def _hold_findings(ctx: SetupContext, prof: DischargeProfile, subject: str) -> l
         margin = headroom(hold, needed) if needed is not None and math.isfinite(needed) \
             else None
         out.append(_f("discharge", "fail", subject, f"Held on for {time_text(hold)} the "
-                      f"capacitance does not reach {fq(vs, VOLTAGE)}: it needs "
+                      f"capacitance does not reach {qtext(vs, VOLTAGE)}: it needs "
                       f"{prof.needed_text()}; after {time_text(hold)} "
-                      f"{fq(prof.end_voltage, VOLTAGE)} and {fq(prof.energy_left, ENERGY)} are "
-                      "left. Hold it on longer or use a lower-resistance path, and verify "
-                      "absence before touching.", prof.source, prof.needed_text(),
-                      f"{time_text(hold)} held", margin, need=needed, have=hold, unit="s"))
+                      f"{qtext(prof.end_voltage, VOLTAGE)} and "
+                      f"{qtext(prof.energy_left, ENERGY)} are left. Hold it on longer or use a "
+                      "lower-resistance path, and verify absence before touching.", prof.source,
+                      prof.needed_text(), f"{time_text(hold)} held", margin, need=needed,
+                      have=hold, unit="s"))
     elif prof.time_to_safe > DISCHARGE_TIME_LIMIT:
         t_safe = prof.time_to_safe
-        out.append(_f("discharge", "caution", subject, f"The discharge to {fq(vs, VOLTAGE)} "
-                      f"takes {time_text(t_safe)}, more than {fq(DISCHARGE_TIME_LIMIT, TIME)}: "
+        out.append(_f("discharge", "caution", subject, f"The discharge to {qtext(vs, VOLTAGE)} "
+                      f"takes {time_text(t_safe)}, more than {qtext(DISCHARGE_TIME_LIMIT, TIME)}: "
                       "hold the tool on and verify absence before touching.", prof.source,
                       available=time_text(t_safe), margin=headroom(DISCHARGE_TIME_LIMIT, t_safe),
                       need=DISCHARGE_TIME_LIMIT, have=t_safe, unit="s",
@@ -924,8 +925,8 @@ def _hold_findings(ctx: SetupContext, prof: DischargeProfile, subject: str) -> l
     if rating is not None and prof.peak_power > rating:
         law = "V0**2/R" if prof.method == "rc" else "V0 x I0"
         out.append(_f("discharge", "caution", subject, f"At the start the discharge puts "
-                      f"{fq(prof.peak_power, POWER)} ({law}) into {ctx.instrument.key}, more "
-                      f"than its {fq(rating, POWER)} power rating: the tool's resistor is "
+                      f"{qtext(prof.peak_power, POWER)} ({law}) into {ctx.instrument.key}, more "
+                      f"than its {qtext(rating, POWER)} power rating: the tool's resistor is "
                       "stressed beyond its rating for the first moments.", SRC_POWER,
                       margin=headroom(rating, prof.peak_power), need=prof.peak_power,
                       have=rating, unit="W"))

@@ -17,7 +17,7 @@ Three rules live here, run by :func:`~registry.engine.evaluate.evaluate` beside 
 from __future__ import annotations
 
 from .findings import Finding
-from .quantity import VOLTAGE, format_quantity as fq
+from .quantity import VOLTAGE, format_quantity as qtext
 
 DEAD_TASKS = ("measure-resistance",)  # resistance, continuity and insulation modes
 PROVING_TASK = "verify-absence"
@@ -39,7 +39,7 @@ def isolation_caution(voltage: float, waveform: str) -> str:
     """The caution of a resistance, continuity or insulation task; ``voltage`` in V."""
     return (f"Resistance, continuity and insulation tests are made on a dead circuit: isolate "
             f"it, secure the isolation and prove it dead before connecting. The plan's "
-            f"{fq(voltage, VOLTAGE)} {waveform} is taken as what the circuit could deliver if "
+            f"{qtext(voltage, VOLTAGE)} {waveform} is taken as what the circuit could deliver if "
             "it is unexpectedly live: each setup's mode is checked to withstand it (its "
             "maximum input, and the other modes on the same terminals) as misuse protection, "
             f"not as a reason to measure live ({SRC_ISOLATE}).")

@@ -20,7 +20,7 @@ import dataclasses
 import math
 from dataclasses import dataclass
 
-from .quantity import ENERGY, TIME, VOLTAGE, format_quantity as fq
+from .quantity import ENERGY, TIME, VOLTAGE, format_quantity as qtext
 from .setups import SetupContext
 
 # How far the front-end solve looks for the time to the safe level when the plan's hold time
@@ -58,7 +58,7 @@ def absorbed_in(capacitance: float, v0: float, resistance: float, duration: floa
 def time_text(t: float) -> str:
     """A time (s) as the discharge texts show it: four significant figures, with minutes or
     hours beside a long one ("2095 s (about 35 min)")."""
-    text = fq(float(f"{t:.4g}"), TIME)
+    text = qtext(float(f"{t:.4g}"), TIME)
     if t >= 7200:
         return f"{text} (about {t / 3600:.1f} h)"
     if t >= 120:
@@ -173,12 +173,12 @@ class DischargeProfile:
         """What the hold achieves, in words: "reaches 50 V after 5.545 s", or "is still at
         704.7 V (496.6 J) after 60 s; it needs 2095 s to reach 50 V"."""
         if self.time_to_safe is not None:
-            return f"reaches {fq(self.v_safe, VOLTAGE)} after {time_text(self.time_to_safe)}"
-        text = (f"is still at {fq(self.end_voltage, VOLTAGE)} "
-                f"({fq(self.energy_left, ENERGY)}) after {time_text(self.duration)}")
+            return f"reaches {qtext(self.v_safe, VOLTAGE)} after {time_text(self.time_to_safe)}"
+        text = (f"is still at {qtext(self.end_voltage, VOLTAGE)} "
+                f"({qtext(self.energy_left, ENERGY)}) after {time_text(self.duration)}")
         if self.time_needed is None:
             return text
-        return text + f"; it needs {self.needed_text()} to reach {fq(self.v_safe, VOLTAGE)}"
+        return text + f"; it needs {self.needed_text()} to reach {qtext(self.v_safe, VOLTAGE)}"
 
 
 def path_resistance(ctx: SetupContext) -> float | None:

@@ -31,7 +31,7 @@ from dataclasses import dataclass
 
 from ..errors import FieldProblem, InvalidInput
 from .checks import withstand_of
-from .quantity import ENERGY, TIME, VOLTAGE, format_quantity as fq
+from .quantity import ENERGY, TIME, VOLTAGE, format_quantity as qtext
 from .spec import EVENT_KINDS, EVENT_WAVEFORMS, SYMPTOMS, Fuse, Mode, ModelSpec
 
 SRC_RATING = "IEC 61010-1:2010 rated voltage; isolated source, any category"
@@ -43,7 +43,7 @@ CLAMP_TYPES = ("varistor", "tvs", "gas-tube")
 
 
 @dataclass(frozen=True)
-class Stress:
+class AppliedStress:
     """What was applied: ``voltage`` V (rms or dc; peak for a transient), ``energy`` J,
     ``duration`` s, ``waveform`` ``ac`` or ``dc``; ``None`` where not known."""
 
@@ -115,11 +115,11 @@ def _limit(what: str, have: float | None, applied: float, dim, source: str,
            peak: bool = False) -> Verdict:
     tail = " peak" if peak else ""
     if have is None:
-        return None, (f"{what}: not recorded, so {fq(applied, dim)}{tail} cannot be held "
+        return None, (f"{what}: not recorded, so {qtext(applied, dim)}{tail} cannot be held "
                       f"against it ({source}).")
     ok = applied <= have
-    return ok, (f"{what} {fq(have, dim)}{tail} {'covers' if ok else 'is below'} the applied "
-                f"{fq(applied, dim)}{tail} ({source}).")
+    return ok, (f"{what} {qtext(have, dim)}{tail} {'covers' if ok else 'is below'} the applied "
+                f"{qtext(applied, dim)}{tail} ({source}).")
 
 
 def rating_voltage_verdict(model: ModelSpec, voltage: float) -> Verdict:
@@ -276,16 +276,17 @@ def _voltage_verdicts(model: ModelSpec, mode: Mode | None, voltage: float,
         per_mode = [_combine(mode_input_verdicts(model, x, voltage, duration, waveform))[0]
                     for x in model.modes]
         if all(v is True for v in per_mode):
-            out.append((True, f"Every mode of {model.key} takes {fq(voltage, VOLTAGE)} "
+            out.append((True, f"Every mode of {model.key} takes {qtext(voltage, VOLTAGE)} "
                               f"({SRC_MODE})."))
         else:
             short = [x.key for x, v in zip(model.modes, per_mode, strict=True) if v is not True]
             out.append((None, f"No mode was given and {', '.join(short)} of {model.key} "
-                              f"may not take {fq(voltage, VOLTAGE)} ({SRC_MODE})."))
+                              f"may not take {qtext(voltage, VOLTAGE)} ({SRC_MODE})."))
     return out
 
 
-def assess(model: ModelSpec, mode_key: str | None, stress: Stress, symptoms=()) -> Assessment:
+def assess(model: ModelSpec, mode_key: str | None, stress: AppliedStress,
+           symptoms=()) -> Assessment:
     """Decide ``within_rating`` for ``stress`` on a unit of ``model`` in ``mode_key``, whether
     a clamp conducted, and whether a hold opens (SPEC §3)."""
     mode = mode_of(model, mode_key)

@@ -12,7 +12,7 @@ from ..standards import stored_energy as se
 from .dead_work import DEAD_TASKS, isolation_caution
 from .derived import Derived
 from .findings import Compare, Finding
-from .quantity import ENERGY, VOLTAGE, format_quantity as fq
+from .quantity import ENERGY, VOLTAGE, format_quantity as qtext
 from .rules import verification_overdue
 from .spec import Plan, UnitState
 
@@ -90,25 +90,25 @@ def plan_cautions(plan: Plan, d: Derived) -> list[str]:
     out.append(PPE)
     if plan.task in DEAD_TASKS:
         out.append(isolation_caution(c.voltage, c.waveform))
-    level = fq(d.hazardous_live, VOLTAGE) + (" rms" if c.waveform == "ac" else " dc")
+    level = qtext(d.hazardous_live, VOLTAGE) + (" rms" if c.waveform == "ac" else " dc")
     if d.hazardous:
-        out.append(f"The circuit is hazardous live: {fq(c.voltage, VOLTAGE)} "
+        out.append(f"The circuit is hazardous live: {qtext(c.voltage, VOLTAGE)} "
                    f"{c.waveform} is above {level} ({d.hazardous_live_source}).")
     else:
-        out.append(f"The working voltage {fq(c.voltage, VOLTAGE)} {c.waveform} is not above "
+        out.append(f"The working voltage {qtext(c.voltage, VOLTAGE)} {c.waveform} is not above "
                    f"the hazardous-live level {level} ({d.hazardous_live_source}); treat it "
                    "as live until proven otherwise.")
     if d.energy is not None:
         hz = se.hazards(d.peak_voltage, d.energy)
-        stored = (f"The capacitance stores {fq(d.energy, ENERGY)} at "
-                  f"{fq(d.peak_voltage, VOLTAGE)}")
+        stored = (f"The capacitance stores {qtext(d.energy, ENERGY)} at "
+                  f"{qtext(d.peak_voltage, VOLTAGE)}")
         if hz:
             out.append(stored + ": " + ", ".join(h.kind for h in hz) + " hazard ("
                        + "; ".join(f"{h.kind} {h.threshold}" for h in hz) + f", {se.SOURCE}).")
         else:
             out.append(stored + f", below the capacitor hazard thresholds of {se.SOURCE}.")
         out.append(f"It stays charged after the supply is off: discharge it to "
-                   f"{fq(d.safe_level, VOLTAGE)} and verify absence before touching.")
+                   f"{qtext(d.safe_level, VOLTAGE)} and verify absence before touching.")
     if c.supply == "mains" and d.transient is None:
         out.append("The voltage to earth is above 1000 V: measurement categories do not cover "
                    "this circuit; high-voltage equipment and procedures apply.")

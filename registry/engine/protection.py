@@ -13,7 +13,7 @@ from .findings import Finding
 from .network import (CHECK, SOLVE_ERRORS, drawing_marks, protection_path_findings,
                       protection_path_report)
 from .network.limits import SRC_PRACTICE
-from .quantity import CAPACITANCE, VOLTAGE, format_quantity as fq
+from .quantity import CAPACITANCE, VOLTAGE, format_quantity as qtext
 from .setups import SetupContext, discharge_mode
 from .spec import Fleet, Plan
 
@@ -85,7 +85,7 @@ def discharge_outcome(ctx: SetupContext) -> list[Finding]:
         return []
     short = ctx.plan.task == "discharge" and not prof.reached
     text = (f"Mode {ctx.mode.key}, discharge through the front end: the "
-            f"{fq(prof.capacitance, CAPACITANCE)} at {fq(prof.v0, VOLTAGE)} {prof.outcome()}")
+            f"{qtext(prof.capacitance, CAPACITANCE)} at {qtext(prof.v0, VOLTAGE)} {prof.outcome()}")
     if prof.events:
         text += " (" + "; ".join(prof.events) + ")"
     if ctx.plan.task != "discharge":

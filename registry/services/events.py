@@ -16,7 +16,7 @@ from datetime import datetime, timezone
 from sqlalchemy.orm import Session
 
 from ..engine import events as ev_engine
-from ..engine.events import Assessment, Stress
+from ..engine.events import Assessment, AppliedStress
 from ..errors import InvalidInput
 from ..formats.common import FIRST_YEAR, LAST_YEAR, check_text
 from ..store import models as m
@@ -70,7 +70,7 @@ def log_event(database: Database, *, unit: str, kind: str, by: str, mode: str | 
     if at is not None and not FIRST_YEAR <= at.year <= LAST_YEAR:
         raise InvalidInput(f"{at.isoformat(timespec='seconds')} is in the year {at.year}; give "
                            f"a time from {FIRST_YEAR} to {LAST_YEAR}", "at")
-    stress = Stress(kind, voltage, energy, duration, waveform)
+    stress = AppliedStress(kind, voltage, energy, duration, waveform)
     with database.transaction(immediate=True) as session:
         lock_chain(session)  # before reading anything the append depends on
         user = acting_user(session, by, LOGGING_ROLES, "logging an event")

@@ -68,41 +68,41 @@ class FleetPage:
     pages: int
 
 
-def fleet_page(session: Session, fq: FleetQuery, today: date | None = None) -> FleetPage:
+def fleet_page(session: Session, filters: FleetQuery, today: date | None = None) -> FleetPage:
     today = today or date.today()
     stmt = (select(m.Unit).join(m.Unit.model).outerjoin(m.Unit.site)
             .options(selectinload(m.Unit.model).selectinload(m.Model.ratings),
                      selectinload(m.Unit.site)))
-    if fq.q:
-        like = f"%{fq.q.lower()}%"
+    if filters.q:
+        like = f"%{filters.q.lower()}%"
         stmt = stmt.where(or_(func.lower(m.Unit.tag).like(like),
                               func.lower(m.Unit.serial).like(like),
                               func.lower(m.Model.name).like(like),
                               func.lower(m.Model.key).like(like),
                               func.lower(m.Model.maker).like(like)))
-    if fq.kind in spec.KINDS:
-        stmt = stmt.where(m.Model.kind == fq.kind)
-    if fq.site:
-        stmt = stmt.where(m.Site.name == fq.site)
-    if fq.status in spec.UNIT_STATUSES:
-        stmt = stmt.where(m.Unit.status == fq.status)
-    if fq.category in MAINS_CATEGORIES or fq.voltage is not None:
+    if filters.kind in spec.KINDS:
+        stmt = stmt.where(m.Model.kind == filters.kind)
+    if filters.site:
+        stmt = stmt.where(m.Site.name == filters.site)
+    if filters.status in spec.UNIT_STATUSES:
+        stmt = stmt.where(m.Unit.status == filters.status)
+    if filters.category in MAINS_CATEGORIES or filters.voltage is not None:
         # no category asked: any rating (a not-for-mains one too) of that voltage
-        stmt = stmt.where(_takes(fq.category if fq.category in MAINS_CATEGORIES else None,
-                                 fq.voltage or 0.0))
-    if fq.due == "overdue":
+        stmt = stmt.where(_takes(filters.category if filters.category in MAINS_CATEGORIES else None,
+                                 filters.voltage or 0.0))
+    if filters.due == "overdue":
         stmt = stmt.where(_overdue(today))
-    elif fq.due in DUE_FILTERS:
-        stmt = stmt.where(_due_within(today, int(fq.due)))
+    elif filters.due in DUE_FILTERS:
+        stmt = stmt.where(_due_within(today, int(filters.due)))
     total = session.scalar(select(func.count()).select_from(stmt.subquery())) or 0
-    column = SORTS.get(fq.sort, m.Unit.tag)
-    order = [column.desc() if fq.desc else column.asc()]
+    column = SORTS.get(filters.sort, m.Unit.tag)
+    order = [column.desc() if filters.desc else column.asc()]
     if column is not m.Unit.tag:
         order.append(m.Unit.tag.asc())
-    pages = max((total + fq.size - 1) // fq.size, 1)
-    page = min(max(fq.page, 1), pages)
-    units = list(session.scalars(stmt.order_by(*order).limit(fq.size)
-                                 .offset((page - 1) * fq.size)))
+    pages = max((total + filters.size - 1) // filters.size, 1)
+    page = min(max(filters.page, 1), pages)
+    units = list(session.scalars(stmt.order_by(*order).limit(filters.size)
+                                 .offset((page - 1) * filters.size)))
     return FleetPage(units=units, total=total, page=page, pages=pages)
 
 

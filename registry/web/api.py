@@ -157,11 +157,11 @@ def event_json(e: m.Event) -> dict:
 @token_required("viewer")
 def units():
     errors = FieldErrors()
-    fq, _typed = fleet_query(request.args, errors)
+    filters, _typed = fleet_query(request.args, errors)
     if errors:
         raise InvalidInput([FieldProblem(k, msg) for k, msgs in errors.items() for msg in msgs])
-    fq.size = min(max(int_arg(request.args, "size", 100) or 100, 1), MAX_PAGE)
-    page = queries.fleet_page(db.session, fq)
+    filters.size = min(max(int_arg(request.args, "size", 100) or 100, 1), MAX_PAGE)
+    page = queries.fleet_page(db.session, filters)
     return {"units": [unit_json(x) for x in page.units], "total": page.total,
             "page": page.page, "pages": page.pages}
 

@@ -67,9 +67,9 @@ def _overdue_today():
 def index():
     from flask import current_app
     errors = FieldErrors()
-    fq, typed = fleet_query(request.args, errors)
-    fq.size = current_app.config.get("FLEET_PAGE_SIZE", 50)
-    result = queries.fleet_page(db.session, fq)
+    filters, typed = fleet_query(request.args, errors)
+    filters.size = current_app.config.get("FLEET_PAGE_SIZE", 50)
+    result = queries.fleet_page(db.session, filters)
 
     def link(**changes):
         args = {k: v for k, v in typed.items() if v}
@@ -79,7 +79,7 @@ def index():
     page = render_template("fleet/index.html", result=result, typed=typed, errors=errors,
                            kinds=spec.KINDS, statuses=spec.UNIT_STATUSES,
                            sites=queries.site_names(db.session), link=link,
-                           sort=fq.sort, desc=fq.desc, overdue=_overdue_today())
+                           sort=filters.sort, desc=filters.desc, overdue=_overdue_today())
     return page, (400 if errors else 200)
 
 

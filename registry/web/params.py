@@ -50,12 +50,12 @@ def fleet_query(args, errors: FieldErrors) -> tuple[queries.FleetQuery, dict]:
     if typed["category"] and typed["category"] not in spec.MAINS_CATEGORIES:
         errors.add("category", f"'{typed['category']}' is not one of "
                                f"{', '.join(spec.MAINS_CATEGORIES)}")
-    fq = queries.FleetQuery(
+    filters = queries.FleetQuery(
         q=typed["q"], kind=typed["kind"], site=typed["site"], status=typed["status"],
         category=typed["category"], voltage=voltage, due=typed["due"],
         sort=typed["sort"] if typed["sort"] in queries.SORTS else "tag",
         desc=typed["dir"] == "desc", page=max(page, 1))
-    return fq, typed
+    return filters, typed
 
 
 def audit_args(args, errors: FieldErrors) -> tuple[date | None, str | None, dict]:

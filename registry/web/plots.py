@@ -10,7 +10,7 @@ from dataclasses import dataclass
 from xml.sax.saxutils import escape
 
 from ..engine.discharge import DischargeProfile
-from ..engine.quantity import ENERGY, RESISTANCE, TIME, VOLTAGE, format_quantity as fq
+from ..engine.quantity import ENERGY, RESISTANCE, TIME, VOLTAGE, format_quantity as qtext
 from ..engine.result import format_ratio
 
 
@@ -24,7 +24,7 @@ class DischargePath:
     def through(self) -> str:
         """What the charge flows through, in words."""
         p = self.profile
-        r = fq(p.resistance, RESISTANCE)
+        r = qtext(p.resistance, RESISTANCE)
         return f"the front end ({r} at the start)" if p.method == "front-end" else r
 
 
@@ -87,7 +87,7 @@ def discharge_svg(path: DischargePath) -> str:
                       for i in range(n + 1))
     out = [f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {W} {H}" width="{W}" '
            f'height="{H}" role="img" font-family="sans-serif" font-size="12">',
-           f'<title>{escape(path.label)}: discharge from {escape(fq(v0, VOLTAGE))} through '
+           f'<title>{escape(path.label)}: discharge from {escape(qtext(v0, VOLTAGE))} through '
            f'{escape(path.through)}; it {escape(p.outcome())}</title>',
            f'<rect x="0" y="0" width="{W}" height="{H}" fill="#ffffff"/>']
     step_t = nice_step(t_max)
@@ -96,17 +96,17 @@ def discharge_svg(path: DischargePath) -> str:
         out.append(f'<line x1="{x(t):.1f}" y1="{TOP}" x2="{x(t):.1f}" y2="{TOP + ph}" '
                    f'stroke="#dde3e8"/>')
         out.append(f'<text x="{x(t):.1f}" y="{TOP + ph + 16}" text-anchor="middle">'
-                   f'{escape(fq(t, TIME)) if t else "0"}</text>')
+                   f'{escape(qtext(t, TIME)) if t else "0"}</text>')
         t += step_t
     out += value_grid(LEFT, pw, y, v0, nice_step(v0),
-                      lambda v: escape(fq(v, VOLTAGE)) if v else "0", "#dde3e8")
+                      lambda v: escape(qtext(v, VOLTAGE)) if v else "0", "#dde3e8")
     out.append(f'<rect x="{LEFT}" y="{TOP}" width="{pw}" height="{ph}" fill="none" '
                f'stroke="#5a6570"/>')
     # the safe level: a dashed line, labelled in words (not by colour alone)
     out.append(f'<line x1="{LEFT}" y1="{y(v_safe):.1f}" x2="{LEFT + pw}" y2="{y(v_safe):.1f}" '
                f'stroke="#1d6b2f" stroke-width="2" stroke-dasharray="8 5" class="safe-level"/>')
     out.append(f'<text x="{LEFT + pw - 4}" y="{y(v_safe) - 6:.1f}" text-anchor="end" '
-               f'fill="#1d6b2f">safe level {escape(fq(v_safe, VOLTAGE))}</text>')
+               f'fill="#1d6b2f">safe level {escape(qtext(v_safe, VOLTAGE))}</text>')
     out.append(f'<polyline points="{points}" fill="none" stroke="#1f5f8b" stroke-width="2.5" '
                f'class="curve"/>')
     if not p.reached and p.duration < t_max:
@@ -117,8 +117,8 @@ def discharge_svg(path: DischargePath) -> str:
                    f'stroke="#8b1f1f" stroke-width="1.5" stroke-dasharray="2 3" class="hold"/>')
         out.append(f'<text x="{xe + (-6 if right else 6):.1f}" y="{TOP + 16}" '
                    f'text-anchor="{"end" if right else "start"}" fill="#8b1f1f">held '
-                   f'{escape(fq(p.duration, TIME))}: {escape(fq(p.end_voltage, VOLTAGE))}, '
-                   f'{escape(fq(p.energy_left, ENERGY))} left</text>')
+                   f'{escape(qtext(p.duration, TIME))}: {escape(qtext(p.end_voltage, VOLTAGE))}, '
+                   f'{escape(qtext(p.energy_left, ENERGY))} left</text>')
     if math.isfinite(t_safe) and t_safe <= t_max:
         out.append(f'<circle cx="{x(t_safe):.1f}" cy="{y(v_safe):.1f}" r="5" fill="#1d2329"/>')
         # The label sits in the plot's top right corner, which a falling curve leaves empty
@@ -126,14 +126,14 @@ def discharge_svg(path: DischargePath) -> str:
         # when the end-of-hold label is there.
         y_label = TOP + (34 if not p.reached and p.duration < t_max else 16)
         out.append(f'<text x="{LEFT + pw - 6:.1f}" y="{y_label}" text-anchor="end" '
-                   f'class="reach-label">reaches {escape(fq(v_safe, VOLTAGE))} after '
+                   f'class="reach-label">reaches {escape(qtext(v_safe, VOLTAGE))} after '
                    f'{escape(p.needed_text())}</text>')
     out.append(f'<text x="{LEFT + pw / 2}" y="{H - 8}" text-anchor="middle">time</text>')
     out.append(f'<text x="16" y="{TOP + ph / 2}" text-anchor="middle" '
                f'transform="rotate(-90 16 {TOP + ph / 2})">voltage</text>')
     head = f"{path.label}: {path.through}"
     if p.method == "rc":
-        head += f", tau {fq(p.tau, TIME)}"
+        head += f", tau {qtext(p.tau, TIME)}"
     out.append(f'<text x="{LEFT}" y="{TOP - 10}">{escape(head)}</text>')
     out.append("</svg>")
     return "\n".join(out)

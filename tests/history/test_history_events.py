@@ -16,7 +16,7 @@ from registry.cli import main
 from registry.demo import demo_fleet_path
 from registry.engine import spec
 from registry.engine.evaluate import evaluate
-from registry.engine.events import Stress, assess, clamp_conducted
+from registry.engine.events import AppliedStress, assess, clamp_conducted
 from registry.errors import InvalidInput, NotAllowed, NotFound
 from registry.formats.fleet import load_fleet_file
 from registry.store import models as m
@@ -52,39 +52,40 @@ def unit_status(database, tag):
 def test_overvoltage_is_an_isolated_source_against_rating_and_max_input(models, volts, within):
     # kx-7: highest rated voltage 1000 V (CAT III), vdc max input 1000 V (model record);
     # an isolated source needs a rating of any category at least the voltage (SPEC §5.2).
-    a = assess(models["kx-7"], "vdc", Stress("overvoltage", volts))
+    a = assess(models["kx-7"], "vdc", AppliedStress("overvoltage", volts))
     assert a.within_rating is within
     assert a.hold is (not within)
 
 
 def test_low_z_duration_beyond_max_duration_is_not_within(models):
     # lowz: 600 V max input for at most 60 s (model record); 500 V is fine, 90 s is not.
-    assert assess(models["kx-7"], "lowz", Stress("overvoltage", 500.0, duration=30.0)).within_rating
-    a = assess(models["kx-7"], "lowz", Stress("overvoltage", 500.0, duration=90.0))
+    assert assess(models["kx-7"], "lowz",
+                  AppliedStress("overvoltage", 500.0, duration=30.0)).within_rating
+    a = assess(models["kx-7"], "lowz", AppliedStress("overvoltage", 500.0, duration=90.0))
     assert a.within_rating is False and "60 s" in a.reason
 
 
 def test_without_a_mode_every_mode_must_take_it(models):
     # 800 V is inside vdc (1000 V) but above lowz (600 V): with no mode stated the engine
     # cannot say it was within rating.
-    a = assess(models["kx-7"], None, Stress("overvoltage", 800.0))
+    a = assess(models["kx-7"], None, AppliedStress("overvoltage", 800.0))
     assert a.within_rating is None and a.hold and "lowz" in a.reason
-    assert assess(models["kx-7"], None, Stress("overvoltage", 500.0)).within_rating is True
+    assert assess(models["kx-7"], None, AppliedStress("overvoltage", 500.0)).within_rating is True
 
 
 @pytest.mark.parametrize("peak, within", [(8000.0, True), (8100.0, False)])
 def test_transient_against_the_impulse_table(models, peak, within):
     # IEC 61010-2-030:2010 Table 102: CAT III at 1000 V and CAT IV at 600 V both test at
     # 8000 V peak, so kx-7 withstands 8 kV.
-    assert assess(models["kx-7"], "vdc", Stress("transient", peak)).within_rating is within
+    assert assess(models["kx-7"], "vdc", AppliedStress("transient", peak)).within_rating is within
 
 
 def test_transient_on_a_none_rating_uses_the_stated_withstand(models):
     # ks-hv30: rating 'none' 30 kV with a stated transient of 36 kV (model record)
-    assert assess(models["ks-hv30"], None, Stress("transient", 35e3)).within_rating is True
-    assert assess(models["ks-hv30"], None, Stress("transient", 37e3)).within_rating is False
+    assert assess(models["ks-hv30"], None, AppliedStress("transient", 35e3)).within_rating is True
+    assert assess(models["ks-hv30"], None, AppliedStress("transient", 37e3)).within_rating is False
     # tm-sc2: 'none' 300 V with no stated transient: unknown, and so a hold
-    a = assess(models["tm-sc2"], "ch1", Stress("transient", 500.0))
+    a = assess(models["tm-sc2"], "ch1", AppliedStress("transient", 500.0))
     assert a.within_rating is None and a.hold
 
 
@@ -99,9 +100,10 @@ def test_clamp_conducts_above_the_varistor_voltage_in_the_input_path(models):
 
 def test_discharge_energy_against_the_tool(models):
     # ks-dr1 absorbs 2 kJ per discharge, up to 1500 V (model record)
-    assert assess(models["ks-dr1"], None, Stress("discharge", 1000.0, 1500.0)).within_rating
-    assert assess(models["ks-dr1"], None, Stress("discharge", 1000.0, 2500.0)).within_rating is False
-    assert assess(models["ks-dr1"], None, Stress("discharge", 1000.0)).within_rating is None
+    assert assess(models["ks-dr1"], None, AppliedStress("discharge", 1000.0, 1500.0)).within_rating
+    assert assess(models["ks-dr1"], None,
+                  AppliedStress("discharge", 1000.0, 2500.0)).within_rating is False
+    assert assess(models["ks-dr1"], None, AppliedStress("discharge", 1000.0)).within_rating is None
 
 
 @pytest.mark.parametrize("kind, symptoms, hold", [
@@ -111,7 +113,7 @@ def test_discharge_energy_against_the_tool(models):
     ("mechanical", ("none",), True),
 ])
 def test_hold_rule(models, kind, symptoms, hold):
-    a = assess(models["kx-7"], "vdc", Stress(kind, 230.0), symptoms)
+    a = assess(models["kx-7"], "vdc", AppliedStress(kind, 230.0), symptoms)
     assert a.hold is hold
 
 

@@ -22,7 +22,7 @@ from sqlalchemy import select, text
 
 from registry.cli import main
 from registry.demo import demo_fleet_path
-from registry.engine.events import Stress, assess
+from registry.engine.events import AppliedStress, assess
 from registry.errors import InvalidInput
 from registry.formats.fleet import load_fleet_file
 from registry.store import db as store_db
@@ -47,7 +47,7 @@ def models():
 ])
 def test_current_input_event_is_judged_on_the_fuse_rating_for_its_waveform(models, volts,
                                                                           waveform, within):
-    a = assess(models["kx-3"], "amp", Stress("overvoltage", volts, waveform=waveform))
+    a = assess(models["kx-3"], "amp", AppliedStress("overvoltage", volts, waveform=waveform))
     assert a.within_rating is within, a.reasons
     if waveform is None:
         assert any("lower of the fuse's ac and dc voltage ratings" in r for r in a.reasons)
@@ -58,13 +58,13 @@ def test_unknown_waveform_with_one_fuse_rating_missing_is_not_shown_within(model
     kx3 = models["kx-3"]
     amp = replace(kx3.mode("amp"), fuse=replace(kx3.mode("amp").fuse, voltage_dc=None))
     model = replace(kx3, modes=tuple(amp if x.key == "amp" else x for x in kx3.modes))
-    assert assess(model, "amp", Stress("overvoltage", 100.0)).within_rating is None
-    assert assess(model, "amp", Stress("overvoltage", 100.0, waveform="ac")).within_rating
+    assert assess(model, "amp", AppliedStress("overvoltage", 100.0)).within_rating is None
+    assert assess(model, "amp", AppliedStress("overvoltage", 100.0, waveform="ac")).within_rating
 
 
 def test_waveform_must_be_ac_or_dc():
     with pytest.raises(InvalidInput) as exc:
-        Stress("overvoltage", 100.0, waveform="square")
+        AppliedStress("overvoltage", 100.0, waveform="square")
     assert exc.value.problems[0].path == "waveform"
 
 
