@@ -1,14 +1,14 @@
-"""The model library: a list, a page per model, and the steward's edit form.
+"""The model library: a list, a page per model, and the steward's form for a new model and
+for editing one.
 
-The edit form takes the ratings, modes and front end as the fleet file writes them (YAML or
-JSON text, read by the fleet file's own reader, ``formats.common.load_yaml``) and validates
-the whole model with the fleet file's own validator, so the messages
-and the paths (``modes[1].max_input``) are the ones an import would give.
+The form (:mod:`.model_form`) has a field for everything a fleet file's model holds, rows for
+the ratings, modes and front-end elements; it becomes the model's fleet-file document, which
+the use case (:mod:`registry.services.models`) validates with the fleet file's own validator,
+so the messages and the paths (``modes[1].max_input``) are the ones an import would give.
 """
 
 from __future__ import annotations
 
-import yaml
 from flask import (Blueprint, Response, abort, flash, redirect, render_template, request,
                    url_for)
 from flask_login import current_user
@@ -16,23 +16,20 @@ from sqlalchemy import func, select
 from sqlalchemy.orm import selectinload
 
 from ..engine import spec
-from ..errors import FieldProblem, InvalidInput
+from ..errors import InvalidInput, NotFound, shown
 from ..extensions import db
-from ..formats.common import load_yaml, text_of
-from ..formats.fleet import ELEMENT_PARAM_DIMS, FORMAT, model_to_document, parse_fleet
+from ..formats.common import text_of
+from ..formats.fleet import ELEMENT_PARAM_DIMS, model_to_document
+from ..services.models import create_model, edit_model
 from ..store import models as m
-from ..store.fleet import diff_documents, known_keys, record_changes
-from ..store.specs import model_spec, write_model
+from ..store.specs import model_spec
+from . import model_form
 from .access import role_required
 from .forms import FieldErrors
 from .limits import check_texts, control_problem
 from .security import IMAGE_POLICY
 
 bp = Blueprint("library", __name__, url_prefix="/models")
-
-SECTIONS = ("ratings", "modes", "front_end")
-FIXED = ("key", "kind", "maker", "name") + SECTIONS  # the rest goes in the "other" box
-
 
 @bp.app_template_global()
 def element_param(name: str, value: float) -> str:
@@ -95,85 +92,69 @@ def show(key: str):
                            changes=list(changes))
 
 
-def _dump(value) -> str:
-    if value in (None, [], {}):
-        return ""
-    return yaml.safe_dump(value, sort_keys=False, allow_unicode=True, width=100)
+def _form_page(doc: dict, errors: FieldErrors, key: str | None, status: int = 200):
+    return render_template("library/form.html", doc=doc, errors=errors, key=key,
+                           f=model_form, spec=spec), status
 
 
-def edit_texts(doc: dict) -> dict:
-    other = {k: v for k, v in doc.items() if k not in FIXED}
-    return {"maker": doc.get("maker", ""), "name": doc.get("name", ""),
-            "ratings": _dump(doc.get("ratings")), "modes": _dump(doc.get("modes")),
-            "front_end": _dump(doc.get("front_end")), "other": _dump(other)}
-
-
-def parse_edit(row: m.Model, form, errors: FieldErrors) -> spec.ModelSpec | None:
-    doc: dict = {"key": row.key, "kind": row.kind, "maker": form.get("maker", "").strip(),
-                 "name": form.get("name", "").strip()}
-    other_text = form.get("other", "")
-    try:
-        other = load_yaml(other_text) if other_text.strip() else {}
-    except InvalidInput as exc:
-        errors.add("other", exc.problems[0].message)
-        other = {}
-    if not isinstance(other, dict):
-        errors.add("other", "must be a mapping of fields, e.g. 'max_altitude: 3000 m'")
-        other = {}
-    for k in other:
-        if k in FIXED:
-            errors.add("other", f"'{k}' has its own box; the key and kind cannot be changed "
-                       "here" if k in ("key", "kind") else f"'{k}' has its own box")
-    doc.update({k: v for k, v in other.items() if k not in FIXED})
-    for section in SECTIONS:
-        text = form.get(section, "")
-        try:
-            value = load_yaml(text) if text.strip() else []
-        except InvalidInput as exc:
-            errors.add(section, exc.problems[0].message)
-            continue
-        if not isinstance(value, list):
-            errors.add(section, "must be a list, one entry per line starting with '- '")
-            continue
-        doc[section] = value
-    if errors:
-        return None
-    models, sites = known_keys(db.session)
-    try:
-        content = parse_fleet({"format": FORMAT, "models": [doc]}, known_models=models,
-                              known_sites=sites)
-    except InvalidInput as exc:
-        problems = [FieldProblem(p.path.removeprefix("models[0].").removeprefix("models[0]"),
-                                 p.message) for p in exc.problems]
-        mapping = {s: s for s in SECTIONS} | {"maker": "maker", "name": "name"}
+def _posted(key: str | None):
+    """The form posted for a new model (``key`` None) or for ``key``: a button that adds or
+    removes a row shows the form again with the change; Save hands the document to the use
+    case, which validates it as a fleet file's model and writes it, or the form comes back
+    with each problem beside its field (400, nothing written)."""
+    doc = model_form.document_from_form(request.form, key)
+    errors = FieldErrors()
+    action = request.form.get("action", "save")
+    # The values go to the fleet file's validator, which refuses control characters with the
+    # import's own messages; only the names, which it never sees, are checked here.
+    problems = check_texts((name, "") for name in request.form) + model_form.too_many_rows(doc)
+    if problems:
         for p in problems:
-            field = next((v for k, v in mapping.items()
-                          if p.path == k or p.path.startswith((k + "[", k + "."))), "other")
-            errors.add(field, f"{p.path}: {p.message}" if p.path else p.message)
-        return None
-    return content.models[0]
+            errors.add(p.path if p.path in model_form.SECTIONS else "_form", str(p))
+        return _form_page(doc, errors, key, 400)
+    if action == "refresh" or model_form.apply_action(doc, action):
+        return _form_page(doc, errors, key)
+    if action != "save":
+        errors.add("_form", f"'{shown(action)}' is not a button of this form")
+        return _form_page(doc, errors, key, 400)
+    who, user_id = current_user.username, current_user.id
+    db.session.rollback()  # the use case writes in its own transaction; end this read first
+    try:
+        if key is None:
+            saved = create_model(db.database, doc, actor=who, user_id=user_id)
+        else:
+            saved = edit_model(db.database, key, doc, actor=who, user_id=user_id)
+    except InvalidInput as exc:
+        model_form.place(exc.problems, doc, errors)
+        return _form_page(doc, errors, key, 400)
+    except NotFound:
+        abort(404)
+    if saved.created:
+        flash(f"Added {saved.key}.")
+    elif saved.changes:
+        flash(f"Saved {saved.key}: {saved.changes} field{'' if saved.changes == 1 else 's'} "
+              "changed.")
+    else:
+        flash(f"Nothing changed in {saved.key}.")
+    return redirect(url_for("library.show", key=saved.key))
+
+
+# "_new" cannot be a model's key (a key starts with a letter or digit), so no model's page
+# is hidden behind the form for a new one.
+@bp.route("/_new", methods=["GET", "POST"])
+@role_required("steward")
+def new():
+    if request.method == "POST":
+        return _posted(None)
+    kind = request.args.get("kind", "multimeter")
+    return _form_page(model_form.new_document(kind if kind in spec.KINDS else "multimeter"),
+                      FieldErrors(), None)
 
 
 @bp.route("/<key>/edit", methods=["GET", "POST"])
 @role_required("steward")
 def edit(key: str):
     row = model_or_404(key)
-    errors = FieldErrors()
-    current = model_to_document(model_spec(row))
-    if request.method == "GET":
-        return render_template("library/edit.html", model=row, texts=edit_texts(current),
-                               errors=errors)
-    texts = {k: request.form.get(k, "") for k in ("maker", "name", "other") + SECTIONS}
-    errors.extend(check_texts(texts, multiline=("other",) + SECTIONS), {k: k for k in texts})
-    new = None if errors else parse_edit(row, request.form, errors)
-    if new is None:
-        return render_template("library/edit.html", model=row, texts=texts, errors=errors), 400
-    diffs = diff_documents(current, model_to_document(new))
-    if diffs:
-        write_model(row, new, db.session)
-        record_changes(db.session, "model", key, diffs, current_user.username, current_user.id)
-        db.session.commit()
-        flash(f"Saved {key}: {len(diffs)} field{'' if len(diffs) == 1 else 's'} changed.")
-    else:
-        flash(f"Nothing changed in {key}.")
-    return redirect(url_for("library.show", key=key))
+    if request.method == "POST":
+        return _posted(key)
+    return _form_page(model_to_document(model_spec(row)), FieldErrors(), key)

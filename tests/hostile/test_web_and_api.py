@@ -301,18 +301,23 @@ USER_FORM_VALUES = {"username": CONTROL[:3] + ["x" * 5000, ""],
 
 
 def model_form_cases():
-    bad = {"maker": CONTROL[:4], "name": CONTROL[:4]}
+    """Fields of the structured model form (registry/web/model_form.py names them)."""
+    bad = {"maker": CONTROL, "name": CONTROL + [" \x85 "], "modes-0-label": CONTROL[:3],
+           "connectors-0": CONTROL[:3], "front_end-0-id": CONTROL[:3]}
     for field, values in bad.items():
         for i, v in enumerate(values):
             yield pytest.param({field: v}, field, id=f"model-{field}-{i}")
-    for i, v in enumerate(bad_quantities("V")[:6]):
-        yield pytest.param({"ratings": f"- {{category: III, voltage: '{v}'}}\n"}, "ratings",
-                           id=f"model-ratings-{i}")
-    for i, v in enumerate(["[" * 3000 + "]" * 3000, "- \x00\n", "- &a [*a]\n", "x: !!python/object:os.system ls\n"]):
-        yield pytest.param({"ratings": v}, "ratings", id=f"model-ratings-text-{i}")
-    for i, v in enumerate(["max_altitude: 1e400 m", "max_altitude: nan m",
-                           "pollution_degree: " + "9" * 400, "max_altitude: '\x00'"]):
-        yield pytest.param({"other": v}, "other", id=f"model-other-{i}")
+    for field, unit in (("ratings-0-voltage", "V"), ("modes-0-max_input", "V"),
+                        ("front_end-0-resistance", "ohm"), ("max_altitude", "m"),
+                        ("modes-0-fuse-i2t", "A^2*s")):
+        for i, v in enumerate(bad_quantities(unit)):
+            yield pytest.param({field: v}, field, id=f"model-{field}-{i}")
+    for i, (field, v) in enumerate([("pollution_degree", "9" * 400), ("pollution_degree", "\x00"),
+                                    ("kind", "x" * 5000), ("ratings-0-category", "\x00"),
+                                    ("front_end-0-type", "capacitor"),
+                                    ("attenuation", "1" * 400 + ":1"),
+                                    ("modes-0-closes", "S1, S\x00")]):
+        yield pytest.param({field: v}, field, id=f"model-other-{i}")
 
 
 def event_form_cases():
@@ -366,12 +371,11 @@ def test_unit_edit_form_refuses_the_ends_of_the_calendar(env, unit_form, field, 
 
 @pytest.fixture(scope="module")
 def model_form(env):
-    from registry.formats.fleet import model_to_document
-    from registry.store.specs import model_spec
-    from registry.web.library import edit_texts
-    with env["db"].transaction() as session:
-        row = session.scalar(select(m.Model).where(m.Model.key == "kx-7"))
-        return edit_texts(model_to_document(model_spec(row)))
+    from formtools import form_of
+    form = form_of(env["web"].get("/models/kx-7/edit").get_data(as_text=True))
+    form.pop("csrf_token")
+    assert form["ratings-0-voltage"] and form["front_end-0-id"], "the form holds kx-7"
+    return form
 
 
 @pytest.mark.parametrize("change,field", list(model_form_cases()))
