@@ -229,16 +229,16 @@ def demo(port: int):
 def import_(file: Path, dry_run: bool, actor: str | None):
     """Import a fleet file (JSON or YAML), or units from a spreadsheet (xlsx or csv)."""
     from .formats.common import read_document
-    from .store.fleet import import_fleet
-    from .store.unit_sheet import import_unit_sheet, is_unit_sheet
+    from .services.fleet import import_document, import_sheet
+    from .store.unit_sheet import is_unit_sheet
     database = _env().database()
-    user_id, actor = _actor(database, actor)
+    shell_user = os.environ.get("USER", "cli")
     if is_unit_sheet(file):
-        report = import_unit_sheet(database, file, actor=actor, user_id=user_id,
-                                   dry_run=dry_run)
-    else:
-        report = import_fleet(database, read_document(file), actor=actor, user_id=user_id,
+        report = import_sheet(database, file, by=actor, default_actor=shell_user,
                               dry_run=dry_run)
+    else:
+        report = import_document(database, read_document(file), by=actor,
+                                 default_actor=shell_user, dry_run=dry_run)
     verb = "Would change" if dry_run else "Imported"
     click.echo(f"{verb} {file.name}: {report.summary()}.")
     for item in report.added:
@@ -248,15 +248,6 @@ def import_(file: Path, dry_run: bool, actor: str | None):
                    f"{new if new is not None else '(none)'}")
     if dry_run:
         click.echo("Dry run: nothing was written.")
-
-
-def _actor(database, username: str | None):
-    if not username:
-        return None, os.environ.get("USER", "cli")
-    from .store.users import get_user
-    with database.transaction() as session:
-        user = get_user(session, username)
-        return user.id, user.username
 
 
 @main.command()

@@ -173,3 +173,14 @@ def test_page_add_keeps_the_trimmed_name(client, demo, login_as):
     with demo.transaction() as s:
         row = s.scalar(select(m.User).where(m.User.username == "ada"))
         assert row.display_name == "Ada Pell"
+
+
+def test_cli_import_is_not_recorded_under_a_deactivated_login(runner, demo, tmp_path):
+    from registry.demo import demo_fleet_path
+    assert run(runner, "user", "deactivate", "tech", "--by", "steward").exit_code == 0
+    with demo.transaction() as s:
+        changes = s.scalar(select(func.count()).select_from(m.Change))
+    result = runner.invoke(main, ["import", str(demo_fleet_path()), "--by", "tech"])
+    assert result.exit_code == 2 and "the login 'tech' is deactivated" in result.output
+    with demo.transaction() as s:
+        assert s.scalar(select(func.count()).select_from(m.Change)) == changes

@@ -15,9 +15,9 @@ from ..engine.quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, POWER, RESI
                                VOLTAGE, format_quantity)
 from ..errors import InvalidInput
 from ..extensions import db
-from ..formats.fleet import FORMAT, unit_to_document
+from ..formats.fleet import unit_to_document
+from ..services.fleet import EDITABLE, edit_unit, status_choices
 from ..store import queries
-from ..store.fleet import import_fleet
 from ..store.specs import model_spec, unit_record
 from .access import role_required
 from .forms import FieldErrors
@@ -92,18 +92,11 @@ def unit(tag: str):
                            timeline=queries.unit_timeline(db.session, row), hold=hold)
 
 
-# What a steward may change on a unit's page; the model and tag stay, and a hold is opened by
-# an event and closed by a release, so "on-hold" is not offered as a status to pick.
-EDITABLE = ("serial", "site", "custodian", "status", "verified_on", "verification_due", "notes")
-PICKABLE_STATUSES = ("in-service", "away", "retired")
-
-
 @bp.route("/units/<tag>/edit", methods=["GET", "POST"])
 @role_required("steward")
 def edit(tag: str):
-    """Edit a unit's record, validated and recorded exactly as a fleet-file import is."""
+    """Edit a unit's record (the service validates and records it as an import)."""
     row = unit_or_404(tag)
-    held = any(h.released_at is None for h in row.holds)
     current = unit_to_document(unit_record(row))
     typed = {k: str(current.get(k) or "") for k in EDITABLE}
     errors = FieldErrors()
@@ -111,31 +104,19 @@ def edit(tag: str):
         typed = {k: request.form.get(k, "").strip() for k in EDITABLE}
         errors.extend(check_texts({k: request.form.get(k, "") for k in EDITABLE},
                                   multiline=("notes",)), {k: k for k in EDITABLE})
-        status = typed["status"]
-        if errors:
-            pass
-        elif held and status != row.status:
-            errors.add("status", "the unit has an open hold: a steward's release with its "
-                                 "inspection result changes its status")
-        elif not held and status not in PICKABLE_STATUSES and status != row.status:
-            errors.add("status", f"choose one of {', '.join(PICKABLE_STATUSES)}; a hold is "
-                                 "opened by logging an event")
         if not errors:
-            doc = {"tag": row.tag, "model": row.model.key, "status": status}
-            doc.update({k: v for k, v in typed.items() if v and k != "status"})
-            db.session.rollback()  # the import writes in its own transaction
             try:
-                report = import_fleet(db.database, {"format": FORMAT, "units": [doc]},
-                                      actor=current_user.username, user_id=current_user.id)
+                report = edit_unit(db.database, row.tag, typed, by=current_user.username)
             except InvalidInput as exc:
-                errors.extend(exc.problems, {f"units[0].{k}": k for k in EDITABLE})
+                errors.extend(exc.problems, {"status": "status",
+                                             **{f"units[0].{k}": k for k in EDITABLE}})
             else:
                 flash(f"Saved {row.tag}: {len(report.changes)} field"
                       f"{'' if len(report.changes) == 1 else 's'} changed.")
                 return redirect(url_for("fleet.unit", tag=row.tag))
-    statuses = (row.status,) if held else PICKABLE_STATUSES
     return render_template("fleet/edit.html", unit=row, typed=typed, errors=errors,
-                           statuses=statuses, held=held,
+                           statuses=status_choices(row),
+                           held=any(h.released_at is None for h in row.holds),
                            sites=queries.site_names(db.session)), (400 if errors else 200)
 
 
