@@ -1,5 +1,6 @@
-"""Shared fixtures: an app on a fresh, migrated SQLite file per test, its client and CLI
-runner, the demo fleet, and a scratch PostgreSQL database where a server answers."""
+"""Shared fixtures: an app on a fresh, migrated SQLite file per test (a copy of the session's
+template, tests/helpers/databases.py), its client and CLI runner, the demo fleet, and scratch
+PostgreSQL databases where a server answers."""
 
 from __future__ import annotations
 
@@ -9,10 +10,11 @@ import uuid
 
 import pytest
 
+from helpers.databases import Templates
+from helpers.web import login_as as _login_as
 from registry.app import create_app
 from registry.demo import load_demo
 from registry.store import db as store_db
-from webtools import login  # noqa: F401  (re-exported for the fixture)
 
 # Without WITHSTAND_INSTANCE the tool keeps its database in the user's data folder: in tests
 # (and the commands they start) that folder is a scratch one, never the real home's.
@@ -20,6 +22,20 @@ os.environ["XDG_DATA_HOME"] = tempfile.mkdtemp(prefix="withstand-tests-")
 
 PG_ADMIN_URL = os.environ.get("WITHSTAND_TEST_POSTGRES",
                               "postgresql+psycopg://postgres@127.0.0.1:5432/postgres")
+
+# set by `demo` before it asks for `database`, for a test that asks for `demo` only by
+# request.getfixturevalue (so it is not among the test's fixture names)
+_WANTS_DEMO = pytest.StashKey[bool]()
+_HAS_DEMO = pytest.StashKey[bool]()
+
+
+@pytest.fixture(scope="session")
+def templates(tmp_path_factory):
+    """The session's template databases (migrated, and migrated with the demo), made on first
+    use and copied for each test; see tests/helpers/databases.py."""
+    made = Templates(tmp_path_factory.mktemp("templates"), PG_ADMIN_URL)
+    yield made
+    made.close()
 
 
 @pytest.fixture
@@ -36,9 +52,14 @@ def db_url(instance):
 
 
 @pytest.fixture
-def database(db_url):
-    database = store_db.Database(db_url)
-    store_db.upgrade(database.engine)
+def database(request, instance, templates):
+    """A fresh SQLite file at the latest migration, this test's own: a copy of the session's
+    migrated template, or of its demo template (with the chain key that signed it) when the
+    test asks for `demo` too."""
+    demo = "demo" in request.fixturenames or request.node.stash.get(_WANTS_DEMO, False)
+    path = templates.copy_sqlite(instance / "test.sqlite3", demo=demo)
+    request.node.stash[_HAS_DEMO] = demo
+    database = store_db.Database(f"sqlite:///{path}")
     yield database
     database.dispose()
 
@@ -62,9 +83,13 @@ def runner(app):
 
 
 @pytest.fixture
-def demo(database):
+def demo(request):
     """The database with the demo fleet and demo logins loaded."""
-    assert load_demo(database)
+    request.node.stash[_WANTS_DEMO] = True
+    database = request.getfixturevalue("database")
+    if not request.node.stash.get(_HAS_DEMO, False):
+        # `database` was set up before `demo` was asked for: load the demo the slow way
+        assert load_demo(database)
     return database
 
 
@@ -82,22 +107,51 @@ def _postgres_or_skip():
         pytest.skip(f"no PostgreSQL at {PG_ADMIN_URL}: {exc.__class__.__name__}")
 
 
-@pytest.fixture
-def pg_url():
-    """A scratch PostgreSQL database, created for the test and dropped after it."""
+def _scratch_postgres(make):
+    """Create a scratch database with ``make(admin, name)``, yield its URL, drop it after."""
     import sqlalchemy as sa
     admin = _postgres_or_skip()
     name = f"withstand_test_{uuid.uuid4().hex[:12]}"
-    with admin.connect() as conn:
-        conn.execute(sa.text(f'CREATE DATABASE "{name}"'))
-    url = admin.url.set(database=name).render_as_string(hide_password=False)
-    yield url
-    with admin.connect() as conn:
-        conn.execute(sa.text(f'DROP DATABASE IF EXISTS "{name}" WITH (FORCE)'))
-    admin.dispose()
+    try:
+        make(admin, name)
+        yield admin.url.set(database=name).render_as_string(hide_password=False)
+    finally:
+        with admin.connect() as conn:
+            conn.execute(sa.text(f'DROP DATABASE IF EXISTS "{name}" WITH (FORCE)'))
+        admin.dispose()
+
+
+@pytest.fixture
+def pg_url():
+    """An empty scratch PostgreSQL database (no tables: for tests of migrations), created for
+    the test and dropped after it."""
+    import sqlalchemy as sa
+
+    def create(admin, name):
+        with admin.connect() as conn:
+            conn.execute(sa.text(f'CREATE DATABASE "{name}"'))
+
+    yield from _scratch_postgres(create)
+
+
+@pytest.fixture
+def pg_demo(instance, templates):
+    """A scratch PostgreSQL database at the latest migration with the demo fleet and logins,
+    this test's own (`CREATE DATABASE ... TEMPLATE` of the session's demo template; the key
+    that signed it goes to the test's instance folder), as a `Database`; dropped after."""
+    def create(admin, name):
+        templates.copy_postgres(admin, name, instance, demo=True)
+
+    for url in _scratch_postgres(create):
+        database = store_db.Database(url)
+        try:
+            yield database
+        finally:
+            database.dispose()
 
 
 @pytest.fixture
 def login_as():
-    """``login_as(client, user, password)``: log in through the real form."""
-    return login
+    """``login_as(client, who="steward")``, the one login helper (helpers.web.login_as), for
+    tests that take it as a fixture."""
+    return _login_as

@@ -2,15 +2,10 @@
 
 from datetime import date
 
+from helpers.builders import fleet_of, leads, meter, panel_plan, unit
 from registry.engine.evaluate import evaluate
 from registry.engine.spec import Rating
 from registry.report import exit_code, render_text
-
-import sys
-from pathlib import Path
-
-sys.path.insert(0, str(Path(__file__).resolve().parent / "engine"))
-from builders import fleet_of, leads, meter, panel_plan, unit  # noqa: E402
 
 
 def _result(n_meters=1, ratings=(Rating("III", 600.0),)):

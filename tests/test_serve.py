@@ -11,8 +11,8 @@ from urllib.parse import urlencode
 
 import pytest
 
-import live_server
-from live_server import WITHSTAND, free_port
+from helpers import live_server
+from helpers.live_server import WITHSTAND, free_port
 
 
 @pytest.fixture

@@ -2,7 +2,7 @@
 
 import re
 
-from webtools import login
+from helpers.web import login_as
 
 
 def test_pages_need_a_login(client, demo):
@@ -13,7 +13,7 @@ def test_pages_need_a_login(client, demo):
 
 
 def test_login_refuses_a_wrong_password(client, demo):
-    response = login(client, password="not the password")
+    response = login_as(client, password="not the password", ok=False)
     assert response.status_code == 401
     assert "do not match" in response.get_data(as_text=True)
 
@@ -25,7 +25,7 @@ def test_login_without_csrf_token_is_refused(client, demo):
 
 
 def test_fleet_list_and_search(client, demo):
-    assert login(client).status_code == 302
+    login_as(client)
     page = client.get("/").get_data(as_text=True)
     assert "NB-0001" in page and "35 units" in page
     page = client.get("/?q=halden").get_data(as_text=True)
@@ -36,7 +36,7 @@ def test_fleet_list_and_search(client, demo):
 
 
 def test_unit_page_shows_ratings_and_modes(client, demo):
-    login(client, "viewer", "larkspur-viewer")
+    login_as(client, "viewer")
     page = client.get("/units/NB-0001").get_data(as_text=True)
     assert "CAT III 1 kV" in page and "CAT IV 600 V" in page
     assert "Low-Z volts" in page and "3 kohm" in page
@@ -50,7 +50,7 @@ def test_security_headers(client, demo):
 
 
 def test_logout(client, demo):
-    login(client)
+    login_as(client)
     page = client.get("/").get_data(as_text=True)
     token = re.search(r'name="csrf_token" value="([^"]+)"', page).group(1)
     assert client.post("/logout", data={"csrf_token": token}).status_code == 302

@@ -12,7 +12,7 @@ from registry.engine.findings import Finding
 from registry.engine.setups import SetupContext
 from registry.engine.spec import (Circuit, Fuse, Mode, ModelSpec, PastEvent, Plan, Rating)
 
-from builders import DUE, JOB_DAY, fleet_of, leads, meter, panel_plan, unit
+from helpers.builders import DUE, JOB_DAY, fleet_of, leads, meter, panel_plan, unit
 
 
 def _only(result, tag, mode):

@@ -26,7 +26,7 @@ from registry.engine.setups import SetupContext
 from registry.engine.spec import Circuit, ModelSpec, Plan, Rating
 from registry.formats.fleet import fleet_from_file
 
-from builders import JOB_DAY, fleet_of, unit
+from helpers.builders import JOB_DAY, fleet_of, unit
 
 ROOT = Path(__file__).resolve().parents[2] / "seeddata"
 C, V0, VS, HOLD = 2e-3, 800.0, 50.0, 60.0  # the demo DC link, to 50 V, held on 60 s

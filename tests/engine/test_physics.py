@@ -10,7 +10,7 @@ from registry.engine.derived import derive
 from registry.engine.setups import SetupContext
 from registry.engine.spec import Circuit, Mode, ModelSpec, Plan, Rating
 
-from builders import JOB_DAY, meter
+from helpers.builders import JOB_DAY, meter
 
 
 def _integrate_discharge(r, c, v0, v_safe):

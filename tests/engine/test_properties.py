@@ -9,7 +9,7 @@ from registry.engine.derived import derive
 from registry.engine.evaluate import evaluate
 from registry.engine.spec import Circuit, Fuse, Mode, ModelSpec, Plan, Rating
 
-from builders import JOB_DAY, fleet_of, unit
+from helpers.builders import JOB_DAY, fleet_of, unit
 
 SEVERITY = {"suitable": 0, "conditional": 1, "unverified": 2, "unsuitable": 3}
 FIT = ("suitable", "conditional")

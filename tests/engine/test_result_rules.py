@@ -12,7 +12,7 @@ from registry.engine.result import format_ratio
 from registry.engine.spec import Mode, ModelSpec, PastEvent, Rating
 from registry.report import render_text
 
-from builders import fleet_of, leads, meter, panel_plan, unit
+from helpers.builders import fleet_of, leads, meter, panel_plan, unit
 
 CAT2_LEADS = dict(key="tl-2", ratings=(Rating("II", 600.0),))
 

@@ -1,13 +1,7 @@
-"""The fault tests import their helpers (faultwork) from this folder. Tests marked
-`faults_long` run only when asked for by marker (`pytest -m faults_long`), as their own CI
-step."""
-
-import sys
-from pathlib import Path
+"""Tests marked `faults_long` run only when asked for by marker (`pytest -m faults_long`),
+as their own CI step. The fault tests' helpers are in tests/helpers/faultwork.py."""
 
 import pytest
-
-sys.path.insert(0, str(Path(__file__).parent))
 
 
 def pytest_collection_modifyitems(config, items):

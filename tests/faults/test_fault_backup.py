@@ -12,7 +12,7 @@ import sqlite3
 import subprocess
 import time
 
-import faultwork as fw
+from helpers import faultwork as fw
 
 BALLAST_MB = 48  # large enough that the copy takes a while, so a kill lands inside it
 

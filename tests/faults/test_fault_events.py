@@ -18,7 +18,7 @@ import time
 
 import pytest
 
-import faultwork as fw
+from helpers import faultwork as fw
 
 CLIENTS = 8
 MAX_POSTS_PER_CLIENT = 400  # a bound on the loop; the kill comes long before

@@ -19,7 +19,7 @@ from pathlib import Path
 
 import pytest
 
-import faultwork as fw
+from helpers import faultwork as fw
 from registry.formats.common import read_document
 
 SEED_FLEET = Path(__file__).resolve().parents[2] / "seeddata" / "fleet.yaml"

@@ -4,9 +4,6 @@ The coverage counts are checked against a count made by hand from seeddata/fleet
 below), not against the code that computes them.
 """
 
-import os
-import shutil
-import subprocess
 from datetime import date, datetime
 
 import openpyxl
@@ -18,6 +15,8 @@ from registry.cli import main
 from registry.demo import demo_fleet_path
 from registry.store.audit import SHEETS, export_audit
 from registry.services.events import log_event
+
+from helpers.libreoffice import libreoffice_csvs
 
 ON = date(2026, 12, 2)
 
@@ -149,29 +148,6 @@ def test_cli_export_and_bad_out(runner, demo, tmp_path):
     site = runner.invoke(main, ["audit", "export", "--out", str(tmp_path / "y.xlsx"),
                                 "--site", "Moon base"])
     assert site.exit_code == 2 and "'Moon base' is not a site" in site.output
-
-
-def _soffice():
-    exe = shutil.which("soffice") or shutil.which("libreoffice")
-    if exe is None:
-        if os.environ.get("WITHSTAND_REQUIRE_TOOLS") == "1":
-            pytest.fail("LibreOffice (soffice) is required here (WITHSTAND_REQUIRE_TOOLS=1)")
-        pytest.skip("LibreOffice is not installed (Debian package libreoffice-calc)")
-    return exe
-
-
-def libreoffice_csvs(workbook, tmp_path):
-    """Every sheet of ``workbook`` as LibreOffice converts it to CSV, into ``tmp_path/lo``.
-    Filter options: comma separated, UTF-8 (76), and sheet -1: every sheet to its own file
-    (LibreOffice 7.2 and later)."""
-    exe = _soffice()
-    proc = subprocess.run(
-        [exe, f"-env:UserInstallation=file://{tmp_path / 'lo-profile'}", "--headless",
-         "--convert-to",
-         "csv:Text - txt - csv (StarCalc):44,34,76,1,,0,false,true,false,false,false,-1",
-         "--outdir", str(tmp_path / "lo"), str(workbook)],
-        capture_output=True, text=True, timeout=300)
-    assert proc.returncode == 0, proc.stderr
 
 
 def test_demo_workbook_opens_in_libreoffice(with_events, demo_doc, tmp_path):

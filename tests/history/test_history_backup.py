@@ -4,21 +4,18 @@ backup began, with an intact chain. PostgreSQL is sent to pg_dump."""
 
 import multiprocessing as mp
 import sqlite3
-import sys
 import time
-from pathlib import Path
 
 import pytest
 from sqlalchemy import func, select
 
+from helpers import chainwork
 from registry.cli import main
 from registry.store import db as store_db
 from registry.store import models as m
 from registry.store.backup import backup_database
 from registry.store.events import verify_chain
 
-sys.path.insert(0, str(Path(__file__).parent))
-import chainwork  # noqa: E402
 
 
 def _events(database):

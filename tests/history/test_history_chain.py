@@ -18,16 +18,12 @@ from pathlib import Path
 import pytest
 from sqlalchemy import func, select, text
 
+from helpers import chainwork
 from registry.cli import main
-from registry.demo import load_demo
-from registry.store import db as store_db
 from registry.store import models as m
 from registry.services.events import log_event
 from registry.store.events import GENESIS, verify_chain
 
-HERE = Path(__file__).parent
-sys.path.insert(0, str(HERE))
-import chainwork  # noqa: E402
 
 TAGS = ("NB-0001", "NB-0002", "SY-0005", "BL-0001")
 
@@ -158,12 +154,6 @@ def test_concurrent_cli_appends_on_sqlite(demo, tmp_path):
 
 
 @pytest.mark.postgres
-def test_concurrent_appends_on_postgresql(pg_url):
-    database = store_db.Database(pg_url)
-    try:
-        store_db.upgrade(database.engine)
-        assert load_demo(database)
-        total = _appended_by_processes(pg_url)
-        _check_chain(database, total)
-    finally:
-        database.dispose()
+def test_concurrent_appends_on_postgresql(pg_demo):
+    total = _appended_by_processes(pg_demo.url)
+    _check_chain(pg_demo, total)

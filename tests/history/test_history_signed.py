@@ -19,7 +19,6 @@ import pytest
 from sqlalchemy import select, text
 
 from registry.cli import main
-from registry.demo import load_demo
 from registry.store import db as store_db
 from registry.store import models as m
 from registry.store.audit import export_audit
@@ -41,11 +40,7 @@ def record(request):
     if request.param == "sqlite":
         database = request.getfixturevalue("demo")
     else:
-        request.getfixturevalue("instance")  # the key file goes to the test's instance folder
-        database = store_db.Database(request.getfixturevalue("pg_url"))
-        store_db.upgrade(database.engine)
-        assert load_demo(database)
-        request.addfinalizer(database.dispose)
+        database = request.getfixturevalue("pg_demo")
     return _with_entries(database)
 
 
@@ -324,28 +319,23 @@ def test_init_refuses_to_seal_an_old_chain_that_was_edited(runner, demo):
 
 
 @pytest.mark.postgres
-def test_upgraded_database_is_sealed_and_guarded_on_postgresql(instance, pg_url):
-    database = store_db.Database(pg_url)
-    try:
-        store_db.upgrade(database.engine)
-        assert load_demo(database)
-        for i in range(3):
-            log_event(database, unit=TAGS[i], kind="transient", mode="vdc",
-                      voltage=1000.0 + i, symptoms=["none"], by="tech")
-        count, _head = _as_written_before_the_key(database)
-        store_db.upgrade(database.engine)
-        assert "not sealed" in _states(database)["seal"].problem
-        with database.transaction(immediate=True) as s:
-            assert f"{count} events on plain SHA-256 links" in seal_legacy(s)
-        states = _states(database)
-        assert "seal" not in states and all(st.ok for st in states.values())
-        assert states["hold"].count >= 1  # the demo's holds, linked by the seal
-        _sql(database, "UPDATE event SET notes = 'changed later' WHERE id = 2")
-        with database.transaction() as s:
-            r = s.get(m.Event, 2)
-            plain = legacy_event_hash(r, r.prev_hash)
-        _sql(database, "UPDATE event SET hash = :h WHERE id = 2", h=plain)
-        st = _states(database)["event"]
-        assert not st.ok and st.broken_at == 3  # the next old link no longer follows
-    finally:
-        database.dispose()
+def test_upgraded_database_is_sealed_and_guarded_on_postgresql(pg_demo):
+    database = pg_demo
+    for i in range(3):
+        log_event(database, unit=TAGS[i], kind="transient", mode="vdc",
+                  voltage=1000.0 + i, symptoms=["none"], by="tech")
+    count, _head = _as_written_before_the_key(database)
+    store_db.upgrade(database.engine)
+    assert "not sealed" in _states(database)["seal"].problem
+    with database.transaction(immediate=True) as s:
+        assert f"{count} events on plain SHA-256 links" in seal_legacy(s)
+    states = _states(database)
+    assert "seal" not in states and all(st.ok for st in states.values())
+    assert states["hold"].count >= 1  # the demo's holds, linked by the seal
+    _sql(database, "UPDATE event SET notes = 'changed later' WHERE id = 2")
+    with database.transaction() as s:
+        r = s.get(m.Event, 2)
+        plain = legacy_event_hash(r, r.prev_hash)
+    _sql(database, "UPDATE event SET hash = :h WHERE id = 2", h=plain)
+    st = _states(database)["event"]
+    assert not st.ok and st.broken_at == 3  # the next old link no longer follows

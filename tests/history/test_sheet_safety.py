@@ -25,7 +25,7 @@ from registry.store.audit import export_audit
 from registry.store.cells import (FORMULA_START, formula_like, safe_cell, safe_frame,
                                    write_csv)
 
-from test_history_audit import _soffice, libreoffice_csvs  # tests/history is on sys.path (rootdir import)
+from helpers.libreoffice import libreoffice_csvs, soffice
 
 ON = date(2026, 12, 2)
 
@@ -216,7 +216,7 @@ def test_libreoffice_opens_the_csvs_with_no_formula(hostile, tmp_path):
     """LibreOffice reads the CSV files with formula evaluation switched on (the 13th token of
     its CSV filter options): the unescaped text would become formula cells there (checked on
     a control file), the escaped text stays text (OWASP CSV injection guidance)."""
-    exe = _soffice()
+    exe = soffice()
     folder = tmp_path / "audit"
     export_audit(hostile, str(folder) + "/", on=ON)
     control = tmp_path / "control.csv"
@@ -247,7 +247,7 @@ def test_libreoffice_opens_the_csvs_with_no_formula(hostile, tmp_path):
 def test_web_download_holds_no_formula(hostile, client, login_as):
     """The audit download of the web (and the API, which serves the same bytes) holds the
     text as text; a note typed into the web's event form is hostile too."""
-    login_as(client, "tech", "larkspur-tech")
+    login_as(client, "technician")
     page = client.get("/units/NB-0003/events/new").get_data(as_text=True)
     token = re.search(r'name="csrf_token"[^>]*value="([^"]+)"', page).group(1)
     posted = client.post("/units/NB-0003/events/new", data={

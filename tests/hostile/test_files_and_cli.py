@@ -24,7 +24,7 @@ from registry.formats.common import load_yaml
 
 from registry.app import create_app
 from registry.cli import main
-from registry.demo import demo_fleet_path, load_demo
+from registry.demo import demo_fleet_path
 from registry.store import db as store_db
 from registry.store import models as m
 
@@ -32,15 +32,15 @@ from registry.store import models as m
 
 
 @pytest.fixture(scope="module")
-def env(tmp_path_factory):
+def env(tmp_path_factory, templates):
     instance = tmp_path_factory.mktemp("hostile")
     mp = pytest.MonkeyPatch()
     mp.setenv("WITHSTAND_INSTANCE", str(instance))
     mp.delenv("WITHSTAND_DATABASE_URL", raising=False)
     mp.setenv("WITHSTAND_USER", "tech")
-    database = store_db.Database(f"sqlite:///{instance / 'hostile.sqlite3'}")
-    store_db.upgrade(database.engine)
-    assert load_demo(database)
+    # a copy of the session's demo template (tests/helpers/databases.py), key included
+    database = store_db.Database(
+        f"sqlite:///{templates.copy_sqlite(instance / 'hostile.sqlite3', demo=True)}")
     app = create_app({"DATABASE_URL": database.url, "SECRET_KEY": "test-only-key",
                       "TESTING": True, "INSTANCE_PATH": str(instance)})
     yield {"runner": app.test_cli_runner(), "database": database, "dir": instance}

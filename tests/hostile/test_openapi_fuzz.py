@@ -19,7 +19,7 @@ import schemathesis
 from schemathesis.specs.openapi.checks import negative_data_rejection, positive_data_acceptance
 from hypothesis import HealthCheck, settings
 
-import live_server
+from helpers import live_server
 from registry.store.db import Database, default_url
 from registry.store.users import get_user, issue_token
 from registry.web.api import openapi_document

@@ -23,7 +23,6 @@ from sqlalchemy import func, select
 
 from registry import units as u
 from registry.app import create_app
-from registry.demo import load_demo
 from registry.errors import InvalidInput
 from registry.formats.common import parse_date
 from registry.store import db as store_db
@@ -86,15 +85,14 @@ ABSURD = ["1e300 {}", "1e20 {}", "1e-300 {}"]
 # -- the shared database, app and clients ----------------------------------------------------
 
 @pytest.fixture(scope="module")
-def env(tmp_path_factory):
+def env(tmp_path_factory, templates):
     tmp = tmp_path_factory.mktemp("hostile")
     with pytest.MonkeyPatch.context() as mp:
         mp.setenv("WITHSTAND_INSTANCE", str(tmp))
         mp.delenv("WITHSTAND_DATABASE_URL", raising=False)
-        url = f"sqlite:///{tmp / 'hostile.sqlite3'}"
+        # a copy of the session's demo template (tests/helpers/databases.py), key included
+        url = f"sqlite:///{templates.copy_sqlite(tmp / 'hostile.sqlite3', demo=True)}"
         database = store_db.Database(url)
-        store_db.upgrade(database.engine)
-        assert load_demo(database)
         app = create_app({"DATABASE_URL": url, "SECRET_KEY": "hostile-test-key",
                           "TESTING": True, "INSTANCE_PATH": str(tmp)})
         # a 500 must come back as an answer to assert on, not as an exception in the test
@@ -530,15 +528,12 @@ def test_the_valid_bases_are_accepted(env, unit_form, model_form):
 # be stored"); every route refuses it before the query --------------------------------------
 
 @pytest.mark.postgres
-def test_nul_never_reaches_a_postgresql_query(pg_url, tmp_path, monkeypatch):
-    monkeypatch.setenv("WITHSTAND_INSTANCE", str(tmp_path))
-    database = store_db.Database(pg_url)
-    store_db.upgrade(database.engine)
-    assert load_demo(database)
+def test_nul_never_reaches_a_postgresql_query(pg_demo, instance):
+    database = pg_demo
     with database.transaction() as session:
         token = issue_token(session, get_user(session, "viewer"))
-    app = create_app({"DATABASE_URL": pg_url, "SECRET_KEY": "k", "TESTING": True,
-                      "INSTANCE_PATH": str(tmp_path)})
+    app = create_app({"DATABASE_URL": database.url, "SECRET_KEY": "k", "TESTING": True,
+                      "INSTANCE_PATH": str(instance)})
     app.config["PROPAGATE_EXCEPTIONS"] = False
     client = app.test_client()
     auth = {"Authorization": f"Bearer {token}"}
@@ -561,4 +556,3 @@ def test_nul_never_reaches_a_postgresql_query(pg_url, tmp_path, monkeypatch):
             assert client.get(path).status_code == 400, path
     finally:
         app.extensions["withstand_db"].dispose()
-        database.dispose()

@@ -12,7 +12,7 @@ import yaml
 from openapi_spec_validator import validate as validate_openapi
 
 from registry.store.users import get_user, revoke_tokens
-from webhelp import api_token, bearer
+from helpers.web import api_token, bearer
 
 PLAN = yaml.safe_load(Path("seeddata/plans/dc-link-discharge.yaml").read_text())
 

@@ -1,35 +1,20 @@
 """Browser tests: headless Chromium (the Debian package) driven by Playwright, against the real
 server. Screenshots of each step go to tests/artifacts/browser/ (ignored by git)."""
 
-import io
-import os
 import re
 import shutil
-from pathlib import Path
 
 import pytest
 
-import live_server
-
-CHROMIUM = "/usr/bin/chromium"
-ARTIFACTS = Path(__file__).resolve().parents[1] / "artifacts" / "browser"
-ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking",
-        "--disable-component-update", "--disable-sync", "--no-first-run"]
+from helpers import live_server
+from helpers.browser import ARGS, ARTIFACTS, CHROMIUM, require_chromium
 
 pytestmark = pytest.mark.browser
 
 
-def _require_chromium():
-    if Path(CHROMIUM).exists():
-        return
-    if os.environ.get("WITHSTAND_REQUIRE_TOOLS") == "1":
-        pytest.fail(f"{CHROMIUM} is required (WITHSTAND_REQUIRE_TOOLS=1) but missing")
-    pytest.skip(f"no {CHROMIUM}: install the Debian package 'chromium' (.ci/run does)")
-
-
 @pytest.fixture(scope="module")
 def server(tmp_path_factory):
-    _require_chromium()
+    require_chromium()
     base, proc = live_server.start(tmp_path_factory.mktemp("live"))
     yield base
     live_server.stop(proc)
@@ -37,7 +22,7 @@ def server(tmp_path_factory):
 
 @pytest.fixture(scope="module")
 def browser():
-    _require_chromium()
+    require_chromium()
     from playwright.sync_api import sync_playwright
     with sync_playwright() as p:
         b = p.chromium.launch(executable_path=CHROMIUM, args=ARGS)

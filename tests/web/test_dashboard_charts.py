@@ -8,10 +8,10 @@ from datetime import date, datetime
 import yaml
 from sqlalchemy.orm import Session
 
+from helpers.web import login_as
 from registry.demo import demo_fleet_path
 from registry.store import queries
 from registry.services.events import log_event
-from webhelp import login_as
 
 TODAY = date(2026, 12, 2)
 

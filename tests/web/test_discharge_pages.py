@@ -7,7 +7,7 @@ import html
 import math
 import re
 
-from webhelp import DISCHARGE_PLAN, login_as
+from helpers.web import DISCHARGE_PLAN, login_as
 
 ROW = re.compile(r'<tr class="v-\w+">\s*<td>(\d+)</td>\s*<td><a href="/units/([A-Z]{2}-\d{4})"'
                  r'[^>]*>[^<]*</a> <small>([\w-]+)</small>(?:<br><small class="site">[^<]*'

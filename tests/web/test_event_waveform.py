@@ -7,7 +7,7 @@ separate ratings, IEC 60269-1 rated voltage; from memory)."""
 from sqlalchemy import select
 
 from registry.store import models as m
-from webhelp import api_token, bearer, csrf_from, login_as
+from helpers.web import api_token, bearer, csrf_from, login_as
 
 
 def _events(demo):

@@ -7,7 +7,7 @@ import openpyxl
 from sqlalchemy import select
 
 from registry.store import models as m
-from webhelp import csrf_from, login_as
+from helpers.web import csrf_from, login_as
 
 
 def test_event_with_symptom_puts_the_unit_on_hold_and_steward_releases(client, demo):

@@ -4,7 +4,7 @@ of its limiter (the finding itself is checked against the clearance table in tes
 
 import re
 
-from webtools import login
+from helpers.web import login_as
 
 PLAN = {"task": "verify-absence", "supply": "mains", "category": "III", "waveform": "ac",
         "voltage": "480 V", "voltage_to_earth": "277 V", "source_impedance": "0.02 ohm",
@@ -12,7 +12,7 @@ PLAN = {"task": "verify-absence", "supply": "mains", "category": "III", "wavefor
 
 
 def test_result_page_links_a_marked_drawing(client, demo):
-    login(client)
+    login_as(client)
     page = client.get("/checks/result", query_string=dict(PLAN, all="1")).get_data(as_text=True)
     rows = re.findall(r'/checks/front-end\.svg\?[^"]+', page)
     assert rows
@@ -27,7 +27,7 @@ def test_result_page_links_a_marked_drawing(client, demo):
 
 
 def test_drawing_needs_a_valid_plan(client, demo):
-    login(client)
+    login_as(client)
     assert client.get("/checks/front-end.svg?setup=1&task=nonsense").status_code == 400
     assert client.get("/checks/front-end.svg", query_string=dict(PLAN, setup="999")) \
         .status_code == 404

@@ -5,7 +5,7 @@ result page, and a unit history that names people one way and shows the hold an 
 import re
 from html.parser import HTMLParser
 
-from webhelp import login_as
+from helpers.web import login_as
 
 from registry.web.checks import EXAMPLES
 

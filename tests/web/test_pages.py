@@ -8,7 +8,7 @@ import yaml
 from sqlalchemy import select
 
 from registry.store import models as m
-from webhelp import DISCHARGE_PLAN, MAINS_PLAN, csrf_from, login_as
+from helpers.web import DISCHARGE_PLAN, MAINS_PLAN, csrf_from, login_as
 
 TAGS = re.compile(r">([A-Z]{2}-\d{4})</a>")
 

@@ -5,8 +5,8 @@ the real server; screenshots go to tests/artifacts/browser/phone/."""
 
 import pytest
 
-from test_browser import ARGS, ARTIFACTS, CHROMIUM, _require_chromium  # noqa: F401
-import live_server
+from helpers import live_server
+from helpers.browser import ARGS, ARTIFACTS, CHROMIUM, require_chromium
 
 pytestmark = pytest.mark.browser
 
@@ -25,7 +25,7 @@ PAGES = [
 
 @pytest.fixture(scope="module")
 def phone(tmp_path_factory):
-    _require_chromium()
+    require_chromium()
     from playwright.sync_api import sync_playwright
     base, proc = live_server.start(tmp_path_factory.mktemp("phone"))
     with sync_playwright() as p:

@@ -3,7 +3,7 @@ accessory units under their own heading, and show margins as ratios."""
 
 import re
 
-from webhelp import MAINS_PLAN, api_token, bearer, login_as
+from helpers.web import MAINS_PLAN, api_token, bearer, login_as
 
 # A plan no setup in the demo fleet fits: CAT IV at 1000 V to earth is beyond every rating
 # in the demo lab (IEC 61010-1:2010: the rating must cover the category and the voltage).

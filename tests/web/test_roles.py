@@ -4,7 +4,7 @@ route added later without a role is caught here."""
 
 import pytest
 
-from webhelp import ROLE_USER, api_token, bearer, login_as
+from helpers.web import ROLE_USER, api_token, bearer, login_as
 
 PUBLIC = {"auth.login", "static"}
 ROLES = ("viewer", "technician", "steward")

@@ -9,7 +9,7 @@ from sqlalchemy import select
 
 from registry.store import models as m
 from registry.web.throttle import LoginThrottle
-from webhelp import DISCHARGE_PLAN, csrf_from, login_as
+from helpers.web import DISCHARGE_PLAN, csrf_from, login_as
 
 HOSTILE = '<script>alert("x")</script>"\'><img src=x onerror=alert(1)>'
 

@@ -13,7 +13,7 @@ from registry.demo import ensure_demo_logins
 from registry.engine.network import cache_clear, scenarios
 from registry.formats.common import read_document
 from registry.store.fleet import import_fleet
-from webhelp import api_token, bearer, login_as
+from helpers.web import api_token, bearer, login_as
 
 FLEETS = Path(__file__).parent.parent / "network" / "fleets"
 PLAN_DOC = yaml.safe_load((FLEETS / "dc-700.yaml").read_text())

@@ -5,7 +5,7 @@ import re
 from sqlalchemy import select
 
 from registry.store import models as m
-from webtools import login
+from helpers.web import login_as
 
 
 def token(client, path):
@@ -23,7 +23,7 @@ def form(client, tag, **changes):
 
 
 def test_steward_edits_and_the_change_is_recorded(client, demo):
-    login(client)
+    login_as(client)
     r = form(client, "NB-0001", custodian="Maeve Lintott", site="Battery lab")
     assert r.status_code == 302
     with demo.transaction() as s:
@@ -36,7 +36,7 @@ def test_steward_edits_and_the_change_is_recorded(client, demo):
 
 
 def test_bad_date_is_shown_at_the_field_and_nothing_is_written(client, demo):
-    login(client)
+    login_as(client)
     r = form(client, "NB-0001", verification_due="2020-01-01", custodian="Someone Else")
     page = r.get_data(as_text=True)
     assert r.status_code == 400 and "before verified_on" in page
@@ -47,7 +47,7 @@ def test_bad_date_is_shown_at_the_field_and_nothing_is_written(client, demo):
 
 
 def test_status_of_a_held_unit_changes_only_by_release(client, demo):
-    login(client)
+    login_as(client)
     r = form(client, "NB-0003", status="in-service", serial="22-0413")
     assert r.status_code == 400 and "open hold" in r.get_data(as_text=True)
     r = form(client, "NB-0001", status="on-hold")
@@ -55,5 +55,5 @@ def test_status_of_a_held_unit_changes_only_by_release(client, demo):
 
 
 def test_only_stewards_edit(client, demo):
-    login(client, "tech", "larkspur-tech")
+    login_as(client, "technician")
     assert client.get("/units/NB-0001/edit").status_code == 403

@@ -6,7 +6,7 @@ import json
 import re
 from importlib import resources
 
-from webhelp import api_token, bearer, login_as
+from helpers.web import api_token, bearer, login_as
 
 INTERNAL = re.compile(r"SPEC\b|§|from memory", re.I)
 

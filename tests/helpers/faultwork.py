@@ -9,14 +9,12 @@ import os
 import signal
 import sqlite3
 import subprocess
-import sys
 import time
 import urllib.error
 import urllib.request
 from pathlib import Path
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
-from live_server import WITHSTAND, free_port  # noqa: E402
+from .live_server import WITHSTAND, free_port
 
 CLI_TIMEOUT_S = 300  # a bound on any one command, never a claim about how fast it is
 

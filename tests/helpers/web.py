@@ -1,4 +1,7 @@
-"""Helpers for the web tests: CSRF tokens from real pages, logins per role, API tokens."""
+"""The web tests' helpers: CSRF tokens from real pages, the one login helper, API tokens and
+the plans the pages are checked with."""
+
+from __future__ import annotations
 
 import re
 
@@ -13,12 +16,20 @@ def csrf_from(client, path="/login") -> str:
     return re.search(r'name="csrf_token" value="([^"]+)"', page).group(1)
 
 
-def login_as(client, role: str):
-    user = ROLE_USER[role]
-    token = csrf_from(client)
-    response = client.post("/login", data={"username": user, "password": PASSWORDS[user],
-                                           "csrf_token": token})
-    assert response.status_code == 302, response.get_data(as_text=True)
+def login_as(client, who: str = "steward", password: str | None = None, *, ok: bool = True):
+    """Log in through the real form, CSRF token included, and return the answer.
+
+    ``who`` is a role of the demo logins (``steward``, ``technician``, ``viewer``) or a
+    username (``tech``, or one the test added, with its ``password``); a demo login's password
+    is known. With ``ok`` (the default) the login must succeed (a redirect); pass ``ok=False``
+    to get a refused login's answer back."""
+    user = ROLE_USER.get(who, who)
+    if password is None:
+        password = PASSWORDS[user]
+    response = client.post("/login", data={"username": user, "password": password,
+                                           "csrf_token": csrf_from(client)})
+    if ok:
+        assert response.status_code == 302, response.get_data(as_text=True)
     return response
 
 
