@@ -369,7 +369,7 @@ def test_unit_edit_form_refuses_the_ends_of_the_calendar(env, unit_form, field, 
 
 @pytest.fixture(scope="module")
 def model_form(env):
-    from formtools import form_of
+    from helpers.formtools import form_of
     form = form_of(env["web"].get("/models/kx-7/edit").get_data(as_text=True))
     form.pop("csrf_token")
     assert form["ratings-0-voltage"] and form["front_end-0-id"], "the form holds kx-7"

@@ -9,13 +9,13 @@ import re
 import pytest
 from sqlalchemy import func, select
 
+from helpers.formtools import buttons_of, form_of
+from helpers.web import login_as
 from registry.engine import spec
 from registry.formats.common import read_document
 from registry.formats.fleet import model_to_document, parse_fleet
 from registry.store import models as m
 from registry.store.specs import all_models, model_spec
-from formtools import buttons_of, form_of
-from webhelp import login_as
 
 
 def get_form(client, path: str) -> dict:

@@ -4,7 +4,7 @@ unit makes the next page show the fleet as it is now."""
 
 import re
 
-from webhelp import MAINS_PLAN, login_as
+from helpers.web import MAINS_PLAN, login_as
 
 from registry.services.events import log_event
 from registry.services.holds import release_hold

@@ -1,5 +1,4 @@
-"""Reading an HTML form as a browser would submit it (imported by name: tests/ is on
-sys.path)."""
+"""Reading an HTML form as a browser would submit it."""
 
 from html.parser import HTMLParser
 
