@@ -83,12 +83,20 @@ def fleet_database(units: int) -> Path:
     tmp = path.with_suffix(".building")
     tmp.unlink(missing_ok=True)
     url = f"sqlite:///{tmp}"
-    upgrade(make_engine(url))
+    migrating = make_engine(url)
+    upgrade(migrating)
+    migrating.dispose()
     db = Database(url)
     from registry.store.fleet import import_fleet
     import_fleet(db, fleet_document(units), actor="bench")
     _log_events(db, units)
     db.dispose()
+    import sqlite3
+    # everything into the file itself before it is renamed: a WAL file left beside the old
+    # name would be lost with what it holds
+    conn = sqlite3.connect(tmp)
+    conn.execute("PRAGMA journal_mode=DELETE")
+    conn.close()
     tmp.rename(path)
     return path
 
