@@ -1,7 +1,7 @@
 """Job plans (``withstand-plan/1``): read, validate, write back.
 
 The document is read by pydantic models (:class:`PlanDoc`, :class:`CircuitDoc`,
-:class:`SiteDoc`), which are also the source of the shipped JSON Schema
+:class:`PlanSiteDoc`), which are also the source of the shipped JSON Schema
 (``registry/schemas/plan.schema.json``, :func:`plan_json_schema`; ``tests/test_schemas.py``
 fails when the two drift). The models read the document only: each field's type, its text,
 its quantity with a unit (through :mod:`registry.units`). What the values must be
@@ -62,8 +62,28 @@ def Choice(choices: tuple[str, ...], description: str | None = None):
 Title = Annotated[Text, BeforeValidator(lambda value: value or "")]
 
 
+def _without_null(prop: dict) -> dict:
+    branches = prop.get("anyOf")
+    if isinstance(branches, list) and {"type": "null"} in branches:
+        rest = [b for b in branches if b != {"type": "null"}]
+        prop = {k: v for k, v in prop.items() if k != "anyOf"}
+        prop = {**rest[0], **prop} if len(rest) == 1 else {**prop, "anyOf": rest}
+    return {k: v for k, v in prop.items() if not (k == "default" and v is None)}
+
+
+def _schema(**fixed):
+    """A model's JSON Schema as a plan file sees it. The parser takes ``null`` as "not given";
+    a plan file has no reason to write it, so the schema leaves it out (and the ``null``
+    default with it); ``fixed`` adds what the fields' types cannot say (required fields, the
+    rules across fields)."""
+    def edit(schema: dict) -> None:
+        schema["properties"] = {k: _without_null(v) for k, v in schema["properties"].items()}
+        schema.update(fixed)
+    return edit
+
+
 class _Part(BaseModel):
-    model_config = ConfigDict(extra="forbid", frozen=True)
+    model_config = ConfigDict(extra="forbid", frozen=True, json_schema_extra=_schema())
 
 
 # The engine's rules across fields, said again in JSON Schema for a client that validates
@@ -92,8 +112,8 @@ _PLAN_RULES = {"allOf": [
 class CircuitDoc(_Part):
     """The circuit the job is done on."""
 
-    model_config = ConfigDict(json_schema_extra={"required": ["supply", "waveform", "voltage"],
-                                                 **_CIRCUIT_RULES})
+    model_config = ConfigDict(json_schema_extra=_schema(
+        required=["supply", "waveform", "voltage"], **_CIRCUIT_RULES))
     supply: Choice(SUPPLIES) = None  # type: ignore[valid-type]
     category: Choice(MAINS_CATEGORIES, "mains only") = None  # type: ignore[valid-type]
     waveform: Choice(PLAN_WAVEFORMS) = None  # type: ignore[valid-type]
@@ -110,7 +130,7 @@ class CircuitDoc(_Part):
     current: Current | None = Field(None, description="measure-current only")
 
 
-class SiteDoc(_Part):
+class PlanSiteDoc(_Part):
     """Where the job is done."""
 
     name: Text | None = None
@@ -124,12 +144,12 @@ class PlanDoc(_Part):
 
     model_config = ConfigDict(
         title="withstand-plan/1: a job plan checked against the fleet",
-        json_schema_extra={"required": ["format", "task", "circuit", "site"], **_PLAN_RULES})
+        json_schema_extra=_schema(required=["format", "task", "circuit", "site"], **_PLAN_RULES))
     format: Literal["withstand-plan/1"] | None = None
     title: Title = ""
     task: Choice(TASKS) = None  # type: ignore[valid-type]
     circuit: CircuitDoc | None = None
-    site: SiteDoc | None = None
+    site: PlanSiteDoc | None = None
     duration: Duration | None = Field(None, description="default 60 s")
     discharge_to: Voltage | None = Field(
         None, description="discharge only; default the dc hazardous-live level")
@@ -137,7 +157,7 @@ class PlanDoc(_Part):
 
 TOP_FIELDS = tuple(PlanDoc.model_fields)
 CIRCUIT_FIELDS = tuple(CircuitDoc.model_fields)
-SITE_FIELDS = tuple(SiteDoc.model_fields)
+SITE_FIELDS = tuple(PlanSiteDoc.model_fields)
 _FIELDS_OF = {(): ("a plan", TOP_FIELDS), ("circuit",): ("a plan circuit", CIRCUIT_FIELDS),
               ("site",): ("a plan site", SITE_FIELDS)}
 
@@ -229,7 +249,7 @@ def _missing(doc: PlanDoc, problems: list[FieldProblem]) -> None:
                                     "{name: North bench, altitude: 40 m}")])
 
 
-def _altitude(site: SiteDoc | None, sites: dict[str, float] | None,
+def _altitude(site: PlanSiteDoc | None, sites: dict[str, float] | None,
               problems: list[FieldProblem]) -> float | None:
     """The site's altitude (m): the plan's, else the fleet's site of that name."""
     if site is None or site.altitude is not None:
@@ -271,7 +291,7 @@ def parse_plan(data, on: date | None = None, *, sites: dict[str, float] | None =
                                     discharge_to=doc.discharge_to))
     if problems or circuit is None:
         raise InvalidInput(problems)
-    site = doc.site or SiteDoc()
+    site = doc.site or PlanSiteDoc()
     try:
         return Plan(task=doc.task, circuit=circuit, title=doc.title, site=site.name,
                     altitude=altitude, wet=site.wet, duration=duration,
@@ -279,24 +299,6 @@ def parse_plan(data, on: date | None = None, *, sites: dict[str, float] | None =
     except SpecError as e:  # the same rules ran above: say so plainly anyway
         raise InvalidInput([FieldProblem(path, msg) for path, msg in e.problems]
                            or str(e)) from None
-
-
-def _schema_without_null(node):
-    """The parser takes ``null`` as "not given"; a plan file has no reason to write it, so
-    the schema leaves it out (and the ``null`` default with it)."""
-    if isinstance(node, list):
-        return [_schema_without_null(x) for x in node]
-    if not isinstance(node, dict):
-        return node
-    out = {k: _schema_without_null(v) for k, v in node.items()}
-    branches = out.get("anyOf")
-    if isinstance(branches, list) and {"type": "null"} in branches:
-        rest = [b for b in branches if b != {"type": "null"}]
-        out.pop("anyOf")
-        out = {**rest[0], **out} if len(rest) == 1 else {**out, "anyOf": rest}
-    if "default" in out and out["default"] is None:
-        out.pop("default")
-    return out
 
 
 def _inline(node, defs: dict):
@@ -315,7 +317,7 @@ def _inline(node, defs: dict):
 def plan_json_schema() -> dict:
     """The JSON Schema of a plan file, generated from :class:`PlanDoc`: what is stored in
     ``registry/schemas/plan.schema.json``."""
-    raw = _schema_without_null(PlanDoc.model_json_schema())
+    raw = PlanDoc.model_json_schema()
     schema = _inline(raw, raw.get("$defs", {}))
     return {"$schema": "https://json-schema.org/draft/2020-12/schema",
             "$id": "https://withstand.invalid/schemas/plan.schema.json", **schema}

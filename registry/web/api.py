@@ -1,5 +1,6 @@
 """The JSON API under /api/v1: Bearer tokens only (never the session cookie), errors as JSON
-naming the field, and an OpenAPI 3 document generated from the request models.
+naming the field, and an OpenAPI 3.1 document that spectree generates from the routes and the
+request and answer models each route names (:func:`documented`).
 
 CSRF does not apply here: a token in a header is not sent by a browser on its own, which is
 what CSRF abuses; the session cookie is ignored by every endpoint.
@@ -7,21 +8,23 @@ what CSRF abuses; the session cookie is ignored by every endpoint.
 
 from __future__ import annotations
 
+import copy
 import functools
 import json
 from datetime import date, datetime
 
-from flask import Blueprint, current_app, g, jsonify, request, url_for
-from pydantic.json_schema import models_json_schema
+from flask import Blueprint, Flask, current_app, g, jsonify, request, url_for
+from spectree import Response, SecurityScheme, SpecTree
+from spectree.models import SecuritySchemeData, Server
 from sqlalchemy import select
 from sqlalchemy.orm import selectinload
 
 from .. import units as u
-from ..engine import spec
 from ..errors import Conflict, FieldProblem, InvalidInput, NotAllowed, NotFound
 from ..extensions import csrf, db
 from ..formats.common import parse_date, text_defaults
-from ..formats.fleet import ModelDoc, UnitDoc, model_to_document, unit_to_document
+from ..formats.fleet import ModelDoc, model_to_document, unit_to_document
+from ..plans import PlanDoc
 from ..store import models as m
 from ..store import queries
 from ..services.checks import check_registry, plan_from
@@ -34,7 +37,10 @@ from .downloads import XLSX, workbook_response
 from .forms import FieldErrors
 from .limits import check_texts, int_arg, parse_json_body
 from .params import audit_args, fleet_query
-from .schemas import EventRequest, HoldRelease, plan_schema, validated
+from .responses import (Document, Error, EventList, HoldList, LoggedEvent, ModelList, Released,
+                        Result, Unit, UnitPage)
+from .schemas import (AuditQuery, CheckQuery, EventRequest, EventsQuery, HoldRelease,
+                      HoldsQuery, UnitsQuery, validated)
 
 bp = Blueprint("api", __name__, url_prefix="/api/v1")
 csrf.exempt(bp)
@@ -153,9 +159,60 @@ def event_json(e: m.Event) -> dict:
             "within_rating": e.within_rating, "hash": e.hash}
 
 
+# -- the OpenAPI document ----------------------------------------------------------------------
+#
+# spectree (a maintained library that reads Flask routes and pydantic models) generates the
+# document. It only documents here: each view reads its own input (json_body, validated, the
+# query readers), so that refusals are this API's 400s naming the field, as they are
+# everywhere else; spectree's request and response validation is skipped.
+
+def _component(model) -> str:
+    # the plan is "Plan" in the document, as it was before it was generated
+    return "Plan" if model is PlanDoc else model.__name__
+
+
+api_doc = SpecTree(
+    "flask", mode="strict", annotations=False, page_templates={},
+    title="withstand API", version="1",
+    description="Fleet registry and job checks. Quantities are text with their units, as in "
+                "the file formats.",
+    servers=[Server(url=bp.url_prefix)],
+    security_schemes=[SecurityScheme(name="bearer",
+                                     data=SecuritySchemeData(type="http", scheme="bearer"))],
+    security={"bearer": []},
+    validation_error_status=400, validation_error_model=Error,
+    naming_strategy=_component, nested_naming_strategy=lambda _parent, child: child)
+
+# What every route may answer besides its own: no token or a bad one, a role too low, and a
+# query parameter holding a control character (token_required refuses it).
+_ALWAYS = {401: "no valid token", 403: "the token's role may not do this",
+           400: "a parameter or the body is not valid"}
+
+
+def documented(*, answer: tuple, status: int = 200, query=None, body=None,
+               errors: dict[int, str] | None = None, media: str | None = None):
+    """A route's entry in the OpenAPI document: ``answer`` is (model, text) for ``status``
+    (model ``None`` with ``media`` for a file), ``query`` and ``body`` the request's models,
+    ``errors`` the error answers of this route beyond :data:`_ALWAYS` (each an :class:`Error`);
+    a route with a body may also answer 413."""
+    codes = {**_ALWAYS, **({413: "the body is over 1 MiB"} if body else {}), **(errors or {})}
+    answers = Response(**{f"HTTP_{status}": answer},
+                       **{f"HTTP_{code}": (Error, text) for code, text in codes.items()})
+
+    def wrap(view):
+        out = api_doc.validate(query=query, json=body, resp=answers, skip_validation=True,
+                               operation_id=view.__name__)(view)
+        out.api_media = media
+        return out
+    return wrap
+
+
 @bp.route("/units")
+@documented(query=UnitsQuery, answer=(UnitPage, "units, each as in the fleet file"),
+            errors={400: "a filter is not valid"})
 @token_required("viewer")
 def units():
+    """List units (filters as on the fleet page)"""
     errors = FieldErrors()
     filters, _typed = fleet_query(request.args, errors)
     if errors:
@@ -167,8 +224,10 @@ def units():
 
 
 @bp.route("/units/<tag>")
+@documented(answer=(Unit, "the unit"), errors={404: "no such unit"})
 @token_required("viewer")
 def unit(tag: str):
+    """One unit"""
     row = db.session.scalar(select(m.Unit).where(m.Unit.tag == tag))
     if row is None:
         raise NotFound(f"no unit '{tag}'")
@@ -176,15 +235,19 @@ def unit(tag: str):
 
 
 @bp.route("/models")
+@documented(answer=(ModelList, "models, each as in the fleet file"))
 @token_required("viewer")
 def models():
+    """List models"""
     from ..store.specs import all_models
     return {"models": [model_to_document(model_spec(x)) for x in all_models(db.session)]}
 
 
 @bp.route("/models/<key>")
+@documented(answer=(ModelDoc, "the model"), errors={404: "no such model"})
 @token_required("viewer")
 def model(key: str):
+    """One model"""
     row = db.session.scalar(select(m.Model).where(m.Model.key == key))
     if row is None:
         raise NotFound(f"no model '{key}'")
@@ -192,16 +255,21 @@ def model(key: str):
 
 
 @bp.route("/checks", methods=["POST"])
+@documented(query=CheckQuery, body=PlanDoc, answer=(Result, "the result"),
+            errors={400: "the plan is not valid"})
 @token_required("viewer")
 def checks():
+    """Check a job plan against the fleet"""
     doc = json_body()
     result = check_registry(plan_from(doc, db.session, _date_arg("on")), db.session)
     return result.as_json()
 
 
 @bp.route("/events")
+@documented(query=EventsQuery, answer=(EventList, "events, oldest first"))
 @token_required("viewer")
 def events():
+    """List events"""
     stmt = select(m.Event).order_by(m.Event.id).options(selectinload(m.Event.unit),
                                                         selectinload(m.Event.logged_by))
     tag = request.args.get("unit", "").strip()
@@ -214,8 +282,13 @@ def events():
 
 
 @bp.route("/events", methods=["POST"])
+@documented(body=EventRequest, status=201,
+            answer=(LoggedEvent, "the event, whether it was within rating, and the hold it "
+                                 "opened"),
+            errors={400: "the event is not valid", 404: "no such unit"})
 @token_required("technician")
 def log():
+    """Log an event (technician and up)"""
     req = validated(EventRequest, json_body())
     logged = log_event(db.database, unit=req.unit, kind=req.kind, by=g.api_user.username,
                        mode=req.mode, voltage=req.voltage, energy=req.energy,
@@ -228,8 +301,10 @@ def log():
 
 
 @bp.route("/holds")
+@documented(query=HoldsQuery, answer=(HoldList, "holds"))
 @token_required("viewer")
 def holds():
+    """List holds (open ones unless open=0)"""
     stmt = select(m.Hold).order_by(m.Hold.id).options(selectinload(m.Hold.unit),
                                                       selectinload(m.Hold.released_by))
     if request.args.get("open", "1") != "0":
@@ -238,8 +313,12 @@ def holds():
 
 
 @bp.route("/holds/<int:hold_id>/release", methods=["POST"])
+@documented(body=HoldRelease, answer=(Released, "the unit's status afterwards"),
+            errors={400: "the release is not valid", 404: "no such hold",
+                    409: "released already"})
 @token_required("steward")
 def release(hold_id: int):
+    """Release a hold (steward)"""
     req = validated(HoldRelease, json_body())
     done = release_hold(db.database, hold_id=hold_id, result=req.result,
                         by=g.api_user.username, note=req.note)
@@ -248,8 +327,10 @@ def release(hold_id: int):
 
 
 @bp.route("/audit/workbook")
+@documented(query=AuditQuery, answer=(None, "the workbook (xlsx)"), media=XLSX)
 @token_required("viewer")
 def audit_workbook():
+    """The audit workbook (xlsx) for a period and site"""
     errors = FieldErrors()
     since, site, _typed = audit_args(request.args, errors)
     if errors:
@@ -258,147 +339,36 @@ def audit_workbook():
 
 
 @bp.route("/openapi.json")
+@documented(answer=(Document, "OpenAPI 3 document"))
 @token_required("viewer")
 def openapi():
+    """This document"""
     return openapi_document()
 
 
 def openapi_document() -> dict:
-    _, defs = models_json_schema([(ModelDoc, "validation"), (UnitDoc, "validation"),
-                                  (EventRequest, "validation"), (HoldRelease, "validation")],
-                                 ref_template="#/components/schemas/{model}")
-    schemas = {k: text_defaults(v) for k, v in defs.get("$defs", {}).items()}
-    schemas["Plan"], plan_defs = plan_schema()
-    schemas.update(plan_defs)
-    schemas["Error"] = {"type": "object", "required": ["error"], "properties": {"error": {
-        "type": "object", "required": ["status", "message", "problems"], "properties": {
-            "status": {"type": "integer"}, "message": {"type": "string"},
-            "problems": {"type": "array", "items": {
-                "type": "object", "required": ["field", "reason"],
-                "properties": {"field": {"type": "string",
-                                         "description": "path of the field, e.g. "
-                                                        "circuit.voltage; empty for the body"},
-                               "reason": {"type": "string"}}}}}}}}
-    schemas["Result"] = {"type": "object", "description": "withstand-result/1",
-                         "required": ["format", "summary", "plan", "setups", "accessories",
-                                      "excluded", "cautions"],
-                         "properties": {"format": {"const": "withstand-result/1"},
-                                        "summary": {"type": "object", "description":
-                                                    "one line on what the job gets (text), "
-                                                    "whether a setup fits, the best setup or "
-                                                    "the commonest reason none does"},
-                                        "plan": {"type": "object"},
-                                        "setups": {"type": "array", "items": {"type": "object"},
-                                                   "description": "ranked; margin_ratio is the "
-                                                   "deciding finding's available / required"},
-                                        "accessories": {"type": "array", "items": {
-                                            "type": "object"}, "description": "every accessory "
-                                            "unit that could join a setup, its best verdict and "
-                                            "the reason when none fits"},
-                                        "excluded": {"type": "array", "items": {"type": "object"}},
-                                        "cautions": {"type": "array", "items": {"type": "string"}}}}
-    ref = lambda name: {"$ref": f"#/components/schemas/{name}"}
-    nullable = lambda schema: {"anyOf": [schema, {"type": "null"}]}
-    schemas["Hold"] = {"type": "object", "description": "a unit's hold (hold_json)",
-                       "required": ["id", "unit", "event", "opened_at", "reason",
-                                    "released_at", "released_by", "result", "note"],
-                       "properties": {"id": {"type": "integer"}, "unit": {"type": "string"},
-                                      "event": nullable({"type": "integer"}),
-                                      "opened_at": {"type": "string"},
-                                      "reason": {"type": "string"},
-                                      "released_at": nullable({"type": "string"}),
-                                      "released_by": nullable({"type": "string"}),
-                                      "result": nullable({"type": "string"}),
-                                      "note": {"type": "string"}}}
-    # a unit as the API answers it: the fleet file's unit and its open hold, if any
-    unit_answer = json.loads(json.dumps(schemas["UnitDoc"]))
-    unit_answer["title"] = "Unit"
-    unit_answer["properties"]["open_hold"] = nullable(ref("Hold"))
-    schemas["Unit"] = unit_answer
-    err = lambda text: {"description": text, "content": {"application/json": {"schema": ref("Error")}}}
-    ok = lambda text, schema=None: {"description": text, "content": {
-        "application/json": {"schema": schema or {"type": "object"}}}}
-    common = {"401": err("no valid token"), "403": err("the token's role may not do this")}
-    body = lambda name: {"required": True, "content": {"application/json": {"schema": ref(name)}}}
-    q = lambda name, text, schema=None: {"name": name, "in": "query", "required": False,
-                                         "description": text,
-                                         "schema": schema or {"type": "string"}}
-    paths = {
-        "/units": {"get": {"summary": "List units (filters as on the fleet page)",
-                           "parameters": [q("q", "search tag, serial, model, maker"),
-                                          q("kind", "model kind", {"enum": list(spec.KINDS)}),
-                                          q("site", "site name"),
-                                          q("status", "unit status", {"enum": list(spec.UNIT_STATUSES)}),
-                                          q("category", "takes this category", {"enum": list(spec.MAINS_CATEGORIES)}),
-                                          q("voltage", "at this voltage, e.g. '600 V'"),
-                                          q("due", "verification", {"enum": list(queries.DUE_FILTERS)}),
-                                          q("sort", "sort by", {"enum": list(queries.SORTS)}),
-                                          q("dir", "asc or desc", {"enum": ["asc", "desc"]}),
-                                          q("page", "page number", {"type": "integer"}),
-                                          q("size", "units per page", {"type": "integer"})],
-                           "responses": {"200": ok("units, each as in the fleet file", {
-                               "type": "object", "properties": {"units": {"type": "array", "items": ref("Unit")},
-                                                                "total": {"type": "integer"}}}),
-                                         "400": err("a filter is not valid"), **common}}},
-        "/units/{tag}": {"get": {"summary": "One unit", "parameters": [
-            {"name": "tag", "in": "path", "required": True, "schema": {"type": "string"}}],
-            "responses": {"200": ok("the unit", ref("Unit")), "404": err("no such unit"),
-                          **common}}},
-        "/models": {"get": {"summary": "List models", "responses": {
-            "200": ok("models, each as in the fleet file", {
-                "type": "object", "properties": {"models": {"type": "array", "items": ref("ModelDoc")}}}),
-            **common}}},
-        "/models/{key}": {"get": {"summary": "One model", "parameters": [
-            {"name": "key", "in": "path", "required": True, "schema": {"type": "string"}}],
-            "responses": {"200": ok("the model", ref("ModelDoc")), "404": err("no such model"),
-                          **common}}},
-        "/checks": {"post": {"summary": "Check a job plan against the fleet",
-                             "parameters": [q("on", "date of the job (YYYY-MM-DD); default today",
-                                              {"type": "string", "format": "date"})],
-                             "requestBody": body("Plan"),
-                             "responses": {"200": ok("the result", ref("Result")),
-                                           "400": err("the plan is not valid"),
-                                           "413": err("the body is over 1 MiB"), **common}}},
-        "/events": {"get": {"summary": "List events", "parameters": [
-            q("unit", "unit tag"), q("since", "from this date", {"type": "string", "format": "date"})],
-            "responses": {"200": ok("events, oldest first"), **common}},
-            "post": {"summary": "Log an event (technician and up)", "requestBody": body("EventRequest"),
-                     "responses": {"201": ok("the event, whether it was within rating, and the hold it opened"),
-                                   "400": err("the event is not valid"),
-                                   "404": err("no such unit"), "413": err("the body is over 1 MiB"),
-                                   **common}}},
-        "/holds": {"get": {"summary": "List holds (open ones unless open=0)",
-                           "parameters": [q("open", "0 for every hold", {"enum": ["0", "1"]})],
-                           "responses": {"200": ok("holds", {"type": "object", "required": ["holds"], "properties": {
-                               "holds": {"type": "array", "items": ref("Hold")}}}),
-                               "400": err("a parameter is not valid"), **common}}},
-        "/holds/{id}/release": {"post": {"summary": "Release a hold (steward)", "parameters": [
-            {"name": "id", "in": "path", "required": True, "schema": {"type": "integer"}}],
-            "requestBody": body("HoldRelease"),
-            "responses": {"200": ok("the unit's status afterwards"),
-                          "400": err("the release is not valid"), "404": err("no such hold"),
-                          "409": err("released already"), **common}}},
-        "/openapi.json": {"get": {"summary": "This document", "responses": {
-            "200": ok("OpenAPI 3 document"), **common}}},
-    }
-    paths["/audit/workbook"] = {"get": {
-        "summary": "The audit workbook (xlsx) for a period and site",
-        "parameters": [q("since", "from this date", {"type": "string", "format": "date"}),
-                       q("site", "only this site")],
-        "responses": {"200": {"description": "the workbook", "content": {
-            XLSX: {"schema": {"type": "string", "format": "binary"}}}},
-            "400": err("a parameter is not valid"), **common}}}
-    for path_item in paths.values():
-        for method, op in path_item.items():
-            # every route refuses a query parameter holding a control character (limits.py)
-            op["responses"].setdefault("400", err("a parameter or the body is not valid"))
-            if method == "post":
-                op["responses"].setdefault("413", err("the body is over 1 MiB"))
-    return {"openapi": "3.1.0",
-            "info": {"title": "withstand API", "version": "1",
-                     "description": "Fleet registry and job checks. Quantities are text with "
-                                    "their units, as in the file formats."},
-            "servers": [{"url": "/api/v1"}],
-            "components": {"schemas": schemas,
-                           "securitySchemes": {"bearer": {"type": "http", "scheme": "bearer"}}},
-            "security": [{"bearer": []}], "paths": paths}
+    """The OpenAPI document, generated by spectree from this blueprint's routes (paths, path
+    parameters, methods, the summary in each view's docstring) and the models each route names
+    in :func:`documented`; then written relative to the blueprint's prefix (the server's URL)
+    and with the defaults of quantity fields as text. It needs no database: spectree reads the
+    routes from an app holding only this blueprint."""
+    return copy.deepcopy(_generated())
+
+
+@functools.cache
+def _generated() -> dict:
+    app = Flask(__name__)
+    app.register_blueprint(bp)
+    with app.app_context():
+        doc = copy.deepcopy(api_doc.spec)
+    doc["paths"] = {path.removeprefix(bp.url_prefix): item for path, item in doc["paths"].items()}
+    for rule in app.url_map.iter_rules():
+        media = getattr(app.view_functions[rule.endpoint], "api_media", None)
+        if media:  # spectree writes JSON answers only
+            path = api_doc.backend.parse_path(rule, None)[0].removeprefix(bp.url_prefix)
+            for method in rule.methods - {"HEAD", "OPTIONS"}:
+                answer = doc["paths"][path][method.lower()]["responses"]["200"]
+                answer["content"] = {media: {"schema": {"type": "string", "format": "binary"}}}
+    doc.pop("tags", None)  # no route has tags
+    doc["components"]["schemas"] = text_defaults(doc["components"]["schemas"])
+    return json.loads(json.dumps(doc))

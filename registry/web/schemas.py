@@ -1,22 +1,19 @@
 """Request documents of the web app and the API, as pydantic models: they validate what comes
-in and they are the source of the OpenAPI document, so the two cannot drift apart.
-
-The plan has its own validator (:mod:`registry.plans`) and its shipped JSON Schema
-(``registry/schemas/plan.schema.json``), which :func:`plan_schema` hands to the OpenAPI
-document with its internal references moved to the components.
+in and they are the source of the OpenAPI document's request schemas, so the two cannot drift
+apart. The plan's models are :mod:`registry.plans`'s own (``PlanDoc``).
 """
 
 from __future__ import annotations
 
-import json
-from datetime import datetime, timezone
-from importlib import resources
+from datetime import date, datetime, timezone
 from typing import Annotated, Literal
 
 from pydantic import AfterValidator, BaseModel, ConfigDict, Field, ValidationError, field_validator
+from pydantic.json_schema import SkipJsonSchema
 from pydantic_core import PydanticCustomError
 
 from ..engine import spec
+from ..store import queries
 from ..errors import InvalidInput
 from ..formats.common import Duration, Energy, Voltage, problems_from
 from .limits import control_problem
@@ -99,23 +96,57 @@ def validated(model: type[BaseModel], data) -> BaseModel:
         raise InvalidInput(problems_from(exc)) from None
 
 
-def plan_schema(prefix: str = "Plan_") -> tuple[dict, dict]:
-    """The shipped plan schema and its ``$defs``, with ``#/$defs/X`` references rewritten to
-    ``#/components/schemas/<prefix>X`` so they resolve inside an OpenAPI document."""
-    raw = json.loads((resources.files("registry") / "schemas" / "plan.schema.json").read_text())
+# -- query strings of the API, as the OpenAPI document gives them ------------------------------
+#
+# The views read their query strings with the readers the pages use too (params.fleet_query,
+# params.audit_args, api._date_arg), whose messages name the parameter; these models give the
+# same parameters to the document, and tests/web/test_api.py holds them to the readers. A
+# parameter left out is not given: the schema shows no null.
 
-    def move(node):
-        if isinstance(node, dict):
-            out = {}
-            for k, v in node.items():
-                if k == "$ref" and isinstance(v, str) and v.startswith("#/$defs/"):
-                    out[k] = "#/components/schemas/" + prefix + v.removeprefix("#/$defs/")
-                elif k not in ("$schema", "$id", "$defs"):
-                    out[k] = move(v)
-            return out
-        if isinstance(node, list):
-            return [move(x) for x in node]
-        return node
+def _given_or_left_out(schema: dict) -> None:
+    for prop in schema.get("properties", {}).values():
+        if prop.get("default", 0) is None:
+            del prop["default"]
 
-    defs = {prefix + k: move(v) for k, v in raw.get("$defs", {}).items()}
-    return move(raw), defs
+
+class _Query(BaseModel):
+    model_config = ConfigDict(frozen=True, json_schema_extra=_given_or_left_out)
+
+
+class UnitsQuery(_Query):
+    """The fleet page's filters."""
+
+    q: str | SkipJsonSchema[None] = Field(None, description="search tag, serial, model, maker")
+    kind: Literal[spec.KINDS] | SkipJsonSchema[None] = Field(  # type: ignore[valid-type]
+        None, description="model kind")
+    site: str | SkipJsonSchema[None] = Field(None, description="site name")
+    status: Literal[spec.UNIT_STATUSES] | SkipJsonSchema[None] = Field(  # type: ignore[valid-type]
+        None, description="unit status")
+    category: Literal[spec.MAINS_CATEGORIES] | SkipJsonSchema[None] = Field(  # type: ignore[valid-type]
+        None, description="takes this category")
+    voltage: str | SkipJsonSchema[None] = Field(None, description="at this voltage, e.g. '600 V'")
+    due: Literal[tuple(queries.DUE_FILTERS)] | SkipJsonSchema[None] = Field(  # type: ignore[valid-type]
+        None, description="verification")
+    sort: Literal[tuple(queries.SORTS)] | SkipJsonSchema[None] = Field(  # type: ignore[valid-type]
+        None, description="sort by")
+    dir: Literal["asc", "desc"] | SkipJsonSchema[None] = Field(None, description="asc or desc")
+    page: int | SkipJsonSchema[None] = Field(None, description="page number")
+    size: int | SkipJsonSchema[None] = Field(None, description="units per page (at most 500)")
+
+
+class CheckQuery(_Query):
+    on: date | SkipJsonSchema[None] = Field(None, description="date of the job; default today")
+
+
+class EventsQuery(_Query):
+    unit: str | SkipJsonSchema[None] = Field(None, description="unit tag")
+    since: date | SkipJsonSchema[None] = Field(None, description="from this date")
+
+
+class HoldsQuery(_Query):
+    open: Literal["0", "1"] | SkipJsonSchema[None] = Field(None, description="0 for every hold")
+
+
+class AuditQuery(_Query):
+    since: date | SkipJsonSchema[None] = Field(None, description="from this date")
+    site: str | SkipJsonSchema[None] = Field(None, description="only this site")

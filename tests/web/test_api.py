@@ -28,14 +28,65 @@ def test_openapi_document_is_valid_and_generated(client, tokens):
     doc = response.get_json()
     validate_openapi(doc)  # OpenAPI 3.1 meta-schema, by the reference validator
     schemas = doc["components"]["schemas"]
-    for name in ("ModelDoc", "UnitDoc", "EventRequest", "HoldRelease", "Plan", "Error"):
+    for name in ("ModelDoc", "Unit", "EventRequest", "HoldRelease", "Plan", "Error", "Result"):
         assert name in schemas
     for path in ("/units", "/units/{tag}", "/models", "/models/{key}", "/checks", "/events",
-                 "/holds", "/holds/{id}/release", "/audit/workbook"):
+                 "/holds", "/holds/{hold_id}/release", "/audit/workbook"):
         assert path in doc["paths"], path
-    # the request schema is the validating model's own
+    # the request schemas are the validating models' own (spectree generates the document)
+    from registry.plans import PlanDoc
     from registry.web.schemas import EventRequest
     assert set(schemas["EventRequest"]["properties"]) == set(EventRequest.model_fields)
+    assert set(schemas["Plan"]["properties"]) == set(PlanDoc.model_fields)
+    # every route is in the document, with its methods, and answers 401 and 403 as an Error
+    rules = {r.rule.removeprefix("/api/v1") for r in client.application.url_map.iter_rules()
+             if r.endpoint.startswith("api.")}
+    assert {p.replace("{", "<").replace("}", ">") for p in doc["paths"]} == {
+        r.replace("<int:", "<") for r in rules}
+    for item in doc["paths"].values():
+        for op in item.values():
+            assert {"401", "403", "400"} <= set(op["responses"]), op["summary"]
+
+
+def test_query_models_name_what_the_readers_read(client, tokens):
+    # the document's query parameters (schemas.py, for the document only) are the ones the
+    # views' readers read, and a typed one with a bad value is refused naming it
+    from werkzeug.datastructures import MultiDict
+
+    from registry.web import schemas
+    from registry.web.forms import FieldErrors
+    from registry.web.params import audit_args, fleet_query
+    with client.application.test_request_context():
+        _, typed = fleet_query(MultiDict(), FieldErrors())
+        assert set(schemas.UnitsQuery.model_fields) == set(typed) | {"page", "size"}
+        *_, typed = audit_args(MultiDict(), FieldErrors())
+        assert set(schemas.AuditQuery.model_fields) == set(typed)
+    h = bearer(tokens["viewer"])
+    for path, name, bad in (("/units", "category", "V"), ("/units", "voltage", "3 ohm"),
+                            ("/units", "page", "x"), ("/units", "size", "x"),
+                            ("/events", "since", "2026-13-99"),
+                            ("/audit/workbook", "since", "2026-13-99"),
+                            ("/audit/workbook", "site", "Nowhere")):
+        assert name in {"/units": schemas.UnitsQuery, "/events": schemas.EventsQuery,
+                        "/audit/workbook": schemas.AuditQuery}[path].model_fields
+        r = client.get(f"/api/v1{path}", query_string={name: bad}, headers=h)
+        assert r.status_code == 400, (path, name, r.get_json())
+        assert r.get_json()["error"]["problems"][0]["field"] == name
+    r = client.post("/api/v1/checks?on=2026-13-99", json=PLAN, headers=h)
+    assert r.status_code == 400 and r.get_json()["error"]["problems"][0]["field"] == "on"
+    assert set(schemas.CheckQuery.model_fields) == {"on"}
+
+
+def test_answers_fit_the_response_models(client, tokens):
+    from registry.web import responses
+    h = bearer(tokens["viewer"])
+    responses.UnitPage.model_validate(client.get("/api/v1/units", headers=h).get_json())
+    responses.ModelList.model_validate(client.get("/api/v1/models", headers=h).get_json())
+    responses.EventList.model_validate(client.get("/api/v1/events", headers=h).get_json())
+    responses.HoldList.model_validate(client.get("/api/v1/holds?open=0", headers=h).get_json())
+    result = client.post("/api/v1/checks", json=PLAN, headers=h).get_json()
+    responses.Result.model_validate(result)
+    responses.Error.model_validate(client.get("/api/v1/units/NOPE", headers=h).get_json())
 
 
 def _resolver_schema(doc, name):
