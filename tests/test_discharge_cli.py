@@ -17,13 +17,13 @@ def test_the_cli_reports_the_front_end_discharge(runner, demo):
     assert kx7["verdict"] == "unsuitable"
     (hold,) = [f for f in kx7["findings"]
                if f["check"] == "discharge" and "Held on for" in f["message"]]
-    # solve_ivp reference (tests/engine/test_discharge.py): PT1 trips at 0.295 s, 704.7 V and
-    # C V**2/2 = 0.5 * 2e-3 * 704.7**2 = 496.6 J left after 60 s, 2095 s to 50 V; the RC
-    # formula through 3 kohm would have said 16.64 s
+    # solve_ivp reference (tests/engine/test_discharge.py): PT1 trips at 0.220 s, 710.3 V and
+    # C V**2/2 = 0.5 * 2e-3 * 710.3**2 = 504.5 J left after 60 s, 2132 s to 50 V; the RC
+    # formula through 2.6 kohm would have said 2.6 kohm * 2 mF * ln 16 = 14.42 s
     assert hold["status"] == "fail"
-    assert "it needs 2095 s" in hold["message"]
-    assert "704.7 V and 496.6 J are left" in hold["message"]
-    assert "16.64 s" not in json.dumps(kx7)
+    assert "it needs 2132 s" in hold["message"]
+    assert "710.3 V and 504.5 J are left" in hold["message"]
+    assert "14.42 s" not in json.dumps(kx7)
     dr1 = next(s for s in doc["setups"] if s["instrument"] == "BL-0002")
     # the tool: R C ln(V0/Vs) = 1 kohm * 2 mF * ln 16 = 5.545 s (circuit theory)
     assert any("reaches 50 V after 5.545 s" in f["message"] for f in dr1["findings"])

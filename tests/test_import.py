@@ -31,7 +31,7 @@ def test_import_writes_everything(database, doc):
         kx7 = s.scalar(select(m.Model).where(m.Model.key == "kx-7"))
         assert [r.category for r in kx7.ratings] == ["III", "IV"]
         lowz = next(x for x in kx7.modes if x.key == "lowz")
-        assert lowz.input_resistance == 3000.0 and lowz.closes == ["S1"]
+        assert lowz.input_resistance == 2600.0 and lowz.closes == ["S1"]
         assert {e.element_id for e in kx7.elements} >= {"R1", "PT1", "RV1", "S1", "IN"}
 
 
@@ -49,7 +49,7 @@ def test_reimport_updates_and_records_changes(database, doc):
     import_fleet(database, doc)
     kx7 = next(x for x in doc["models"] if x["key"] == "kx-7")
     kx7["modes"][0]["max_input"] = "1100 V"
-    kx7["ratings"][1]["voltage"] = "690 V"
+    kx7["ratings"][1]["voltage"] = "550 V"
     doc["units"][0]["custodian"] = "Maeve Lintott"
     report = import_fleet(database, doc, actor="ines")
     assert sorted(report.updated) == ["model kx-7", "unit NB-0001"]
@@ -58,7 +58,7 @@ def test_reimport_updates_and_records_changes(database, doc):
                    for c in s.scalars(select(m.Change))}
         assert count(database, m.Model) == len(doc["models"])  # updated, not duplicated
     assert changes[("model", "kx-7", "modes[vdc].max_input")] == ("1 kV", "1.1 kV", "ines")
-    assert changes[("model", "kx-7", "ratings[1].voltage")] == ("600 V", "690 V", "ines")
+    assert changes[("model", "kx-7", "ratings[1].voltage")] == ("500 V", "550 V", "ines")
     assert changes[("unit", "NB-0001", "custodian")] == ("Ines Marrow", "Maeve Lintott", "ines")
     assert len(changes) == 3
 

@@ -38,8 +38,8 @@ def test_fleet_list_and_search(client, demo):
 def test_unit_page_shows_ratings_and_modes(client, demo):
     login_as(client, "viewer")
     page = client.get("/units/NB-0001").get_data(as_text=True)
-    assert "CAT III 1 kV" in page and "CAT IV 600 V" in page
-    assert "Low-Z volts" in page and "3 kohm" in page
+    assert "CAT III 900 V" in page and "CAT IV 500 V" in page
+    assert "Low-Z volts" in page and "2.6 kohm" in page
     assert client.get("/units/NOPE").status_code == 404
 
 

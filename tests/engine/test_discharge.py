@@ -49,12 +49,12 @@ def kx7_lowz(fleet, plan=None):
 
 
 # -- the reference: the KX-7 low-Z path written out from seeddata/fleet.yaml ----------------
-# V -R1 1 kohm- n1 -PT1 1 kohm cold- n2; n2 -S1 closed- RL 1 kohm - COM; n2 -IN 10 Mohm- COM;
+# V -R1 1 kohm- n1 -PT1 1 kohm cold- n2; n2 -S1 closed- RL 600 ohm - COM; n2 -IN 10 Mohm- COM;
 # n2 -RV1 varistor- COM. PT1 trips when its I**2 R reaches I_t**2 R t_t at its datasheet trip
 # point (100 mA for 2 s: 20 J, the adiabatic approximation of PTC makers' notes), then holds
 # the resistance at which it takes its tripped power, 1.5 W: the largest root of
 # (Vc R / (Ra + R))**2 / R = P.
-R1, RPTC, RL, RIN = 1e3, 1e3, 1e3, 10e6
+R1, RPTC, RL, RIN = 1e3, 1e3, 600.0, 10e6
 RP = RL * RIN / (RL + RIN)
 E_TRIP = 0.1 ** 2 * RPTC * 2.0
 P_TRIPPED = 1.5
@@ -97,8 +97,8 @@ def reference(hold):
 
 
 def test_reference_may_leave_out_the_varistor():
-    # n2 is at most V0 * RP / (R1 + RPTC + RP) = 266.6 V: the varistor's current there is
-    # below 1e-15 of the path's 267 mA, so the written-out circuit can leave it out
+    # n2 is at most V0 * RP / (R1 + RPTC + RP) = 184.6 V: the varistor's current there is
+    # below 1e-15 of the path's 308 mA, so the written-out circuit can leave it out
     v_n2 = V0 * RP / (R1 + RPTC + RP)
     assert varistor_current(v_n2) < 1e-15 * V0 / (R1 + RPTC + RP)
 
@@ -107,15 +107,16 @@ def test_kx7_low_z_discharge_follows_the_front_end_not_the_formula(fleet):
     t_trip, v_hold, t_safe, v_trip, r_t = reference(HOLD)
     p = discharge_profile(kx7_lowz(fleet))
     assert p.method == "front-end"
-    # solve_ivp reference: the trip at 0.295 s, 704.7 V left after 60 s, 2095 s to 50 V
-    assert t_trip == pytest.approx(0.295, abs=1e-3)
+    # solve_ivp reference: the trip at 0.220 s, 710.3 V left after 60 s, 2132 s to 50 V
+    assert t_trip == pytest.approx(0.220, abs=1e-3)
     assert p.end_voltage == pytest.approx(v_hold, rel=1e-4)
     assert p.time_needed == pytest.approx(t_safe, rel=1e-4)
     assert p.time_to_safe is None and not p.reached
-    assert "PT1 trips after 0.295 s" in p.events[0]
-    # the formula through the stated 3 kohm would say R C ln(V0/Vs) = 6 s * ln 16 = 16.64 s
-    assert rc_profile(3e3, C, V0, VS, HOLD).time_to_safe == pytest.approx(16.636, abs=1e-3)
-    assert p.time_needed > 100 * 16.64
+    # the engine's three significant figures of the reference's trip: 0.22 s at 766.8 V
+    assert f"PT1 trips after {t_trip:.3g} s of the discharge at {v_trip:.4g} V" in p.events[0]
+    # the formula through the stated 2.6 kohm would say R C ln(V0/Vs) = 5.2 s * ln 16 = 14.42 s
+    assert rc_profile(2.6e3, C, V0, VS, HOLD).time_to_safe == pytest.approx(14.417, abs=1e-3)
+    assert p.time_needed > 100 * 14.42
     # E = C V**2 / 2 left at the end of the hold (circuit theory)
     assert p.energy_left == pytest.approx(0.5 * C * v_hold ** 2, rel=2e-4)
 
@@ -126,9 +127,9 @@ def test_kx7_check_9_fails_the_hold_with_the_numbers(fleet):
     (hold,) = [f for f in found if "Held on for" in f.message]
     assert hold.status == "fail"
     # the numbers from the reference, in the engine's four significant figures
-    assert f"it needs {t_safe:.0f} s" in hold.message  # 2095 s
-    assert f"{v_hold:.1f} V" in hold.message  # 704.7 V
-    assert f"{0.5 * C * v_hold ** 2:.1f} J are left" in hold.message  # 496.6 J
+    assert f"it needs {t_safe:.0f} s" in hold.message  # 2132 s
+    assert f"{v_hold:.1f} V" in hold.message  # 710.3 V
+    assert f"{0.5 * C * v_hold ** 2:.1f} J are left" in hold.message  # 504.5 J
     assert hold.margin == pytest.approx(HOLD / t_safe - 1, rel=1e-3)
     # the time needed against the time held, as numbers (s)
     assert hold.required_value == pytest.approx(t_safe, rel=1e-3) and hold.unit == "s"

@@ -22,18 +22,18 @@ ON = date(2026, 12, 2)
 
 # Hand count, in-service units of the demo fleet (NB-0003 and LD-0011 are on hold, NB-0005
 # and BL-0003 retired, SY-0002 and CR-0002 away):
-#   instruments: kx-7 x7 (CAT III 1000 V, CAT IV 600 V: NB-0001, NB-0002, NB-0007, SY-0005,
+#   instruments: kx-7 x7 (CAT III 900 V, CAT IV 500 V: NB-0001, NB-0002, NB-0007, SY-0005,
 #   BL-0001, BL-0006, CR-0001), kx-3 x2 (CAT II 600 V, CAT III 300 V: NB-0004, SY-0007),
-#   hd-c40 x1 (CAT IV 600 V, CAT III 1000 V), hd-vt2 x2 (CAT IV 690 V, CAT III 1000 V),
+#   hd-c40 x1 (CAT IV 600 V, CAT III 1000 V), hd-vt2 x2 (CAT IV 650 V, CAT III 950 V),
 #   tm-ir10 x1 (CAT IV 600 V); tm-sc2, ks-dr1, ks-dr25 have 'none' ratings only.
 #   accessories: bw-ld4 x5, bw-guard2 x3, bw-jaw5 x1, bw-fx30 x1 (all CAT IV 600 V, CAT III
 #   1000 V), bw-ld2 x1 (CAT II 600 V), bw-bare19 x1 (CAT II 1000 V); ks-hv30 is 'none'.
 # A higher category stands in for a lower one at the same voltage, not the other way round
 # (SPEC §5.2).
 HAND_COUNT = {
-    ("instruments", "CAT II"): [13, 13, 13, 10],
-    ("instruments", "CAT III"): [13, 13, 11, 10],
-    ("instruments", "CAT IV"): [11, 11, 11, 0],
+    ("instruments", "CAT II"): [13, 13, 13, 1],
+    ("instruments", "CAT III"): [13, 13, 11, 1],
+    ("instruments", "CAT IV"): [11, 11, 4, 0],
     ("accessories", "CAT II"): [12, 12, 12, 11],
     ("accessories", "CAT III"): [10, 10, 10, 10],
     ("accessories", "CAT IV"): [10, 10, 10, 0],
@@ -125,9 +125,9 @@ def test_csv_form(with_events, demo_doc, tmp_path):
     assert units.loc[units["tag"] == "NB-0007", "days_overdue"].item() == 62
     coverage = pd.read_csv(folder / "coverage.csv")
     assert {(r["units"], r["category"]): [r["150 V"], r["300 V"], r["600 V"], r["1000 V"]]
-            for _, r in coverage.iterrows()}[("instruments", "CAT III")] == [11, 11, 9, 8]
-    # NB-0001 (kx-7) and SY-0001 (hd-c40) are held now, both CAT III 1000 V: two fewer than
-    # the hand count in every column
+            for _, r in coverage.iterrows()}[("instruments", "CAT III")] == [11, 11, 9, 0]
+    # NB-0001 (kx-7, CAT III 900 V) and SY-0001 (hd-c40, CAT III 1000 V) are held now: two
+    # fewer than the hand count up to 600 V, and the 1000 V column loses the C40, its only one
     assert len(pd.read_csv(folder / "events.csv")) == 3
 
 

@@ -137,7 +137,7 @@ def test_units_and_models(client, tokens):
     models = client.get("/api/v1/models", headers=h).get_json()["models"]
     assert "kx-7" in {x["key"] for x in models}
     model = client.get("/api/v1/models/kx-7", headers=h).get_json()
-    assert {"category": "IV", "voltage": "600 V"} in model["ratings"]
+    assert {"category": "IV", "voltage": "500 V"} in model["ratings"]
     assert client.get("/api/v1/models/nope", headers=h).status_code == 404
 
 

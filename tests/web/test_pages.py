@@ -96,7 +96,7 @@ def test_fleet_filter_error_keeps_what_was_typed(client, demo):
 def test_unit_page_label_and_qr(client, demo):
     login_as(client, "viewer")
     page = client.get("/units/NB-0001").get_data(as_text=True)
-    assert "CAT III 1 kV" in page and "Low-Z volts" in page and "3 kohm" in page
+    assert "CAT III 900 V" in page and "Low-Z volts" in page and "2.6 kohm" in page
     assert "/units/NB-0001/qr.svg" in page and "History" in page
     assert "Log an event" not in page  # a viewer may not log events
     qr = client.get("/units/NB-0001/qr.svg")
