@@ -1,6 +1,7 @@
 """The shape of the code, read from the source with ``ast``: the ``registry`` package's import
 graph (every import, module-level or inside a function) has no cycle, no blueprint module
-imports another blueprint module.
+imports another blueprint module, and no web view or CLI command ends a transaction itself
+(the services own their transactions: DEVELOPERS.md, "The packages").
 
 Each rule is also run on a small planted package, so a rule that could not fail would fail
 here first.
@@ -124,6 +125,18 @@ def blueprint_imports(root: Path) -> list[tuple[str, str]]:
     return sorted((a, b) for a in blueprints for b in graph[a] if b in blueprints)
 
 
+def transaction_ends(paths, base: Path = PACKAGE.parent) -> list[str]:
+    """Every call of ``.commit()`` or ``.rollback()`` in ``paths``, as 'file:line' (the path
+    relative to ``base``)."""
+    found = []
+    for path in paths:
+        for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"), str(path))):
+            if (isinstance(node, ast.Call) and isinstance(node.func, ast.Attribute)
+                    and node.func.attr in ("commit", "rollback")):
+                found.append(f"{path.relative_to(base)}:{node.lineno}")
+    return found
+
+
 # -- the rules on the real package -----------------------------------------------------------
 
 def test_the_graph_is_read_from_the_whole_package():
@@ -145,6 +158,14 @@ def test_no_blueprint_imports_another():
     blueprints = blueprint_modules(PACKAGE)
     assert {"registry.web.api", "registry.web.events", "registry.web.auth"} <= blueprints
     assert blueprint_imports(PACKAGE) == []
+
+
+def test_no_view_or_cli_command_commits_or_rolls_back():
+    views = sorted((PACKAGE / "web").rglob("*.py"))
+    assert len(views) > 10
+    assert transaction_ends([*views, PACKAGE / "cli.py"]) == []
+    # the services do end their transactions (through Database.transaction), the one place
+    assert transaction_ends([PACKAGE / "store" / "db.py"])
 
 
 # -- the same rules on a planted package, so that each can fail -------------------------------
@@ -181,3 +202,10 @@ def test_a_planted_blueprint_import_is_found(tmp_path):
     })
     assert blueprint_modules(root) == {"planted.web.one", "planted.web.two"}
     assert blueprint_imports(root) == [("planted.web.one", "planted.web.two")]
+
+
+def test_a_planted_commit_is_found(tmp_path):
+    root = _plant(tmp_path, {"view.py": "def v(db):\n    db.session.add(1)\n"
+                                        "    db.session.commit()\n"})
+    assert transaction_ends([root / "view.py"], base=root) == ["view.py:3"]
+

@@ -117,8 +117,9 @@ def _posted(key: str | None):
     if action != "save":
         errors.add("_form", f"'{shown(action)}' is not a button of this form")
         return _form_page(doc, errors, key, 400)
+    # the use case writes in its own transaction; the request's reading session is renewed
+    # after it commits (extensions.py), so this view ends no transaction itself
     who, user_id = current_user.username, current_user.id
-    db.session.rollback()  # the use case writes in its own transaction; end this read first
     try:
         if key is None:
             saved = create_model(db.database, doc, actor=who, user_id=user_id)
