@@ -140,10 +140,12 @@ class Finding(_OpenAnswer):
     source: str
     margin: float | None
     margin_ratio: float | None = Field(description="available / required")
-    required_value: float | None = None
-    available_value: float | None = None
-    unit: str = ""
-    compare: CompareText | None = None
+    required_value: float | None
+    available_value: float | None
+    unit: str = Field(description="the SI unit of the two values; empty when there are none")
+    compare: CompareText = Field(description="how available_value must stand to "
+                                             "required_value for the finding to hold")
+    basis: str = Field(description="peak, rms or empty")
 
 
 class Setup(_OpenAnswer):

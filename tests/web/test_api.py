@@ -220,6 +220,7 @@ def test_audit_workbook_download(client, tokens):
                 json={"unit": "NB-0002", "kind": "mechanical", "note": "dropped"})
     r = client.get("/api/v1/audit/workbook?since=2000-01-01", headers=bearer(tokens["viewer"]))
     assert r.status_code == 200 and r.mimetype.endswith("spreadsheetml.sheet")
+    assert r.headers["Content-Disposition"].startswith("attachment")
     book = openpyxl.load_workbook(io.BytesIO(r.data))
     assert any("NB-0002" in str(c.value) for ws in book.worksheets for row in ws.iter_rows()
                for c in row if c.value)
