@@ -17,9 +17,9 @@ from helpers import faultwork as fw
 BALLAST_MB = 48  # large enough that the copy takes a while, so a kill lands inside it
 
 
-def _database(tmp_path):
+def _database(tmp_path, templates):
     env = fw.instance_env(tmp_path)
-    fw.cli(env, "init", "--with-demo")
+    templates.demo_instance(tmp_path / "instance")  # as `init --with-demo` leaves it
     fw.cli(env, "event", "add", "--unit", "NB-0001", "--kind", "overvoltage", "--mode", "vdc",
            "--voltage", "200 V", "--symptom", "none", "--by", "tech")
     path = fw.sqlite_file(tmp_path)
@@ -75,8 +75,8 @@ def _target_absent_or_complete(target, expected):
     return "complete"
 
 
-def test_backup_killed_midway_leaves_no_half_file(tmp_path):
-    env, path = _database(tmp_path)
+def test_backup_killed_midway_leaves_no_half_file(tmp_path, templates):
+    env, path = _database(tmp_path, templates)
     expected = fw.dump(path)
     out = tmp_path / "copies"
     out.mkdir()

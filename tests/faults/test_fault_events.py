@@ -89,8 +89,8 @@ def _stored_events(env, token, tmp_path):
 
 
 def _check_after_kill(env, tmp_path, seed):
+    """``env`` names a database holding the demo, as `init --with-demo` leaves it."""
     rng = random.Random(seed)
-    fw.cli(env, "init", "--with-demo")
     token = fw.api_token(env, "tech")
     server = fw.Server(env, tmp_path)
     try:
@@ -120,8 +120,9 @@ def _check_after_kill(env, tmp_path, seed):
     return len(acked)
 
 
-def test_server_killed_while_clients_log_events_on_sqlite(tmp_path):
+def test_server_killed_while_clients_log_events_on_sqlite(tmp_path, templates):
     env = fw.instance_env(tmp_path)
+    templates.demo_instance(tmp_path / "instance")
     seed = random.randrange(10**6)
     _check_after_kill(env, tmp_path, seed)
     # SQLite's own check of the file the killed server left (its WAL recovered on opening)
@@ -129,7 +130,8 @@ def test_server_killed_while_clients_log_events_on_sqlite(tmp_path):
 
 
 @pytest.mark.postgres
-def test_server_killed_while_clients_log_events_on_postgresql(tmp_path, pg_url):
-    env = fw.instance_env(tmp_path, pg_url)
+def test_server_killed_while_clients_log_events_on_postgresql(tmp_path, instance, pg_demo):
+    assert instance == tmp_path / "instance"  # where pg_demo put the key that signed it
+    env = fw.instance_env(tmp_path, pg_demo.url)
     seed = random.randrange(10**6)
     _check_after_kill(env, tmp_path, seed)

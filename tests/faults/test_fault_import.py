@@ -139,18 +139,18 @@ def _fresh(tmp_path, pristine: Path) -> None:
     fw.copy_sqlite(pristine, db_path)
 
 
-def _setup(tmp_path):
+def _setup(tmp_path, templates):
     env = fw.instance_env(tmp_path)
-    fw.cli(env, "init", "--with-demo")
+    templates.demo_instance(tmp_path / "instance")  # as `init --with-demo` leaves it
     db_path = fw.sqlite_file(tmp_path)
     pristine = tmp_path / "pristine.sqlite3"
     fw.copy_sqlite(db_path, pristine)
     return env, db_path, pristine, fw.dump(pristine, CLOCK_COLUMNS)
 
 
-def test_import_killed_at_random_moments_is_all_or_nothing(tmp_path):
+def test_import_killed_at_random_moments_is_all_or_nothing(tmp_path, templates):
     """2 000 units: killed at three random moments, then left to finish."""
-    env, db_path, pristine, before = _setup(tmp_path)
+    env, db_path, pristine, before = _setup(tmp_path, templates)
     fleet, rows = fleet_file(tmp_path, 2000)
     rng = random.Random()
     delays = sorted(rng.uniform(0.2, 4.0) for _ in range(3))
@@ -165,10 +165,10 @@ def test_import_killed_at_random_moments_is_all_or_nothing(tmp_path):
 
 
 @pytest.mark.faults_long
-def test_import_of_20k_units_killed_while_writing_is_all_or_nothing(tmp_path):
+def test_import_of_20k_units_killed_while_writing_is_all_or_nothing(tmp_path, templates):
     """20 000 units: killed as soon as its writes reach the file, and once more a random
     moment later, while SQLite writes the rows."""
-    env, db_path, pristine, before = _setup(tmp_path)
+    env, db_path, pristine, before = _setup(tmp_path, templates)
     fleet, rows = fleet_file(tmp_path, 20_000)
     seen = []
     for after in (0.0, random.uniform(0.02, 0.2)):

@@ -32,6 +32,7 @@ from datetime import date
 from pathlib import Path
 
 import pytest
+from sqlalchemy.engine import make_url
 
 from registry.demo import load_demo
 from registry.store import db as store_db
@@ -103,6 +104,13 @@ class Templates:
         if demo:
             self.copy_key(target.parent)
         return target
+
+    def demo_instance(self, instance: Path) -> Path:
+        """An instance folder as ``withstand init --with-demo`` leaves it (the demo database
+        at its default place, ``withstand.sqlite3``, and the key that signed it), for tests of
+        something else that start the real server or commands on it."""
+        default = make_url(store_db.default_url(instance)).database  # where init puts it
+        return self.copy_sqlite(Path(default), demo=True)
 
     # -- PostgreSQL ----------------------------------------------------------------------------
 

@@ -1,5 +1,7 @@
 """The real server, as `make run` starts it: `withstand init --with-demo` on a scratch
-instance, then `withstand serve` on a free port (tests/test_serve.py, the browser tests)."""
+instance, then `withstand serve` on a free port (tests/test_serve.py, the browser tests).
+Tests of something other than `init` pass the session's templates, and the instance gets a
+copy of the demo template instead (what `init --with-demo` would have made)."""
 
 import os
 import socket
@@ -18,14 +20,18 @@ def free_port() -> int:
         return s.getsockname()[1]
 
 
-def start(tmp_path: Path):
-    """(base URL, process); the caller stops the process."""
+def start(tmp_path: Path, templates=None):
+    """(base URL, process); the caller stops the process. With ``templates``
+    (helpers.databases.Templates) the demo comes from the template, not from `init`."""
     env = dict(os.environ, WITHSTAND_INSTANCE=str(tmp_path / "instance"))
     env.pop("WITHSTAND_DATABASE_URL", None)
-    init = subprocess.run([str(WITHSTAND), "init", "--with-demo"], env=env, cwd=tmp_path,
-                          capture_output=True, text=True, timeout=120)
-    if init.returncode != 0:
-        raise RuntimeError(init.stderr)
+    if templates is not None:
+        templates.demo_instance(tmp_path / "instance")
+    else:
+        init = subprocess.run([str(WITHSTAND), "init", "--with-demo"], env=env, cwd=tmp_path,
+                              capture_output=True, text=True, timeout=120)
+        if init.returncode != 0:
+            raise RuntimeError(init.stderr)
     port = free_port()
     proc = subprocess.Popen([str(WITHSTAND), "serve", "--port", str(port)], env=env,
                             cwd=tmp_path, stdout=subprocess.PIPE, stderr=subprocess.STDOUT,

@@ -33,9 +33,9 @@ EXCLUDED = [positive_data_acceptance, negative_data_rejection]
 
 
 @pytest.fixture(scope="module")
-def server(tmp_path_factory):
+def server(tmp_path_factory, templates):
     tmp = tmp_path_factory.mktemp("fuzz")
-    base, proc = live_server.start(tmp)
+    base, proc = live_server.start(tmp, templates)
     try:
         database = Database(default_url(tmp / "instance"))
         with database.transaction() as session:

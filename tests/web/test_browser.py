@@ -13,9 +13,9 @@ pytestmark = pytest.mark.browser
 
 
 @pytest.fixture(scope="module")
-def server(tmp_path_factory):
+def server(tmp_path_factory, templates):
     require_chromium()
-    base, proc = live_server.start(tmp_path_factory.mktemp("live"))
+    base, proc = live_server.start(tmp_path_factory.mktemp("live"), templates)
     yield base
     live_server.stop(proc)
 

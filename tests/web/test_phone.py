@@ -24,10 +24,10 @@ PAGES = [
 
 
 @pytest.fixture(scope="module")
-def phone(tmp_path_factory):
+def phone(tmp_path_factory, templates):
     require_chromium()
     from playwright.sync_api import sync_playwright
-    base, proc = live_server.start(tmp_path_factory.mktemp("phone"))
+    base, proc = live_server.start(tmp_path_factory.mktemp("phone"), templates)
     with sync_playwright() as p:
         browser = p.chromium.launch(executable_path=CHROMIUM, args=ARGS)
         context = browser.new_context(viewport=PHONE, device_scale_factor=1)
