@@ -102,9 +102,9 @@ def _posted(key: str | None):
     removes a row shows the form again with the change; Save hands the document to the use
     case, which validates it as a fleet file's model and writes it, or the form comes back
     with each problem beside its field (400, nothing written)."""
-    doc = model_form.document_from_form(request.form, key)
-    errors = FieldErrors()
     action = request.form.get("action", "save")
+    doc = model_form.document_from_form(request.form, key, saving=action == "save")
+    errors = FieldErrors()
     # The values go to the fleet file's validator, which refuses control characters with the
     # import's own messages; only the names, which it never sees, are checked here.
     problems = check_texts((name, "") for name in request.form) + model_form.too_many_rows(doc)

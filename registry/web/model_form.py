@@ -150,10 +150,11 @@ def blank_row(section: str, row: dict) -> bool:
         any(x) for x in rest.values() if isinstance(x, list))
 
 
-def document_from_form(form, key: str | None = None) -> dict:
+def document_from_form(form, key: str | None = None, *, saving: bool = True) -> dict:
     """The model document the posted ``form`` describes, as a fleet file would hold it: a
     blank optional field is left out (its default applies), a new row left blank is dropped,
-    and the rest is the text as typed, for the validator to judge. ``key`` is the edited model's."""
+    and the rest is the text as typed, for the validator to judge. ``key`` is the edited
+    model's. Not ``saving`` (a button that adds, removes or shows rows), every row stays."""
     doc: dict = {"key": key if key is not None else _text(form, "key"),
                  "maker": _text(form, "maker"), "name": _text(form, "name"),
                  "kind": _text(form, "kind")}
@@ -171,7 +172,8 @@ def document_from_form(form, key: str | None = None) -> dict:
     for section in SECTIONS:
         rows = [(_ROW_READERS[section](form, f"{section}-{i}-"), form.get(f"{section}-{i}-new"))
                 for i in _indices(form, section)[:ROWS_MAX + 1]]
-        doc[section] = [r for r, new in rows if not (new and blank_row(section, r))]
+        doc[section] = [r for r, new in rows
+                        if not (saving and new and blank_row(section, r))]
     for name, _label, _dim in ACCESSORY_FIELDS + DISCHARGE_FIELDS:
         _put(doc, name, _text(form, name))
     fuse = _fuse(form, "")

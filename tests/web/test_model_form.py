@@ -252,6 +252,15 @@ def test_changing_an_elements_type_shows_that_types_fields(client, demo):
         assert f"front_end-{i}-{name}" in shown
     # the resistor's power, typed before, is still shown (and would be refused on saving)
     assert f"front_end-{i}-power" in shown
+    # a row just added keeps its place while its type changes, though nothing is typed yet
+    response = post(client, "/models/kx-7/edit", form, action="add-front_end")
+    grown = form_of(response.get_data(as_text=True))
+    n = sum(1 for k in grown if re.fullmatch(r"front_end-\d+-type", k)) - 1
+    assert grown[f"front_end-{n}-type"] == "resistor" and grown[f"front_end-{n}-new"] == "1"
+    response = post(client, "/models/kx-7/edit",
+                    dict(grown, **{f"front_end-{n}-type": "switch"}), action="refresh")
+    shown = form_of(response.get_data(as_text=True))
+    assert shown[f"front_end-{n}-type"] == "switch" and f"front_end-{n}-gap" in shown
 
 
 # -- every error path: 4xx, the import's message beside its field, nothing written -----------

@@ -20,6 +20,8 @@ PAGES = [
     "&capacitance=2+mF&discharge_to=50+V&site=Battery+lab",
     "/checks/card?task=verify-absence&supply=mains&category=III&waveform=ac&voltage=480+V"
     "&voltage_to_earth=277+V&source_impedance=0.02+ohm&site=Substation+yard&duration=30+s",
+    # the steward's model forms: rows of fields in one column
+    "/models/_new", "/models/kx-7/edit", "/models/ks-hv30/edit",
 ]
 
 
