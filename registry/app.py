@@ -46,10 +46,10 @@ def register_extensions(app: Flask) -> None:
 
 
 def register_blueprints(app: Flask) -> None:
-    from .web import api, audit, auth, checks, dashboard, events, fleet, library, users
+    from .web import api, audit, auth, checks, dashboard, events, fleet, library, rulebook, users
     from .web.limits import IdConverter
     app.url_map.converters["int"] = IdConverter  # every <int:...> id fits a 64-bit integer
-    for module in (auth, fleet, dashboard, library, checks, events, audit, users, api):
+    for module in (auth, fleet, dashboard, library, checks, events, audit, rulebook, users, api):
         app.register_blueprint(module.bp)
 
     @app.context_processor

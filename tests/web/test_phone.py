@@ -13,7 +13,7 @@ pytestmark = pytest.mark.browser
 PHONE = {"width": 390, "height": 844}
 PAGES = [
     "/", "/dashboard", "/units/NB-0002", "/units/NB-0002/label", "/models/",
-    "/models/kx-7", "/checks/", "/events", "/holds", "/audit/", "/users/",
+    "/models/kx-7", "/checks/", "/events", "/holds", "/audit/", "/rules/", "/users/",
     "/checks/result?task=verify-absence&supply=mains&category=III&waveform=ac&voltage=480+V"
     "&voltage_to_earth=277+V&source_impedance=0.02+ohm&site=Substation+yard&duration=30+s",
     "/checks/result?task=discharge&supply=isolated&waveform=dc&voltage=800+V"

@@ -1,0 +1,17 @@
+"""Rules and sources: the check registry as a read-only page, the same text as docs/rules.md."""
+
+from __future__ import annotations
+
+from flask import Blueprint, render_template
+
+from ..engine.rulebook import RULES, VERDICTS
+from ..rules_doc import INTRO
+from .access import role_required
+
+bp = Blueprint("rulebook", __name__, url_prefix="/rules")
+
+
+@bp.route("/")
+@role_required("viewer")
+def index():
+    return render_template("rulebook/index.html", rules=RULES, verdicts=VERDICTS, intro=INTRO)
