@@ -114,7 +114,7 @@ class Templates:
 
     # -- PostgreSQL ----------------------------------------------------------------------------
 
-    def _pg_template(self, admin, demo: bool) -> str:
+    def postgres_template(self, admin, demo: bool) -> str:
         import sqlalchemy as sa
         kind = f"{'demo' if demo else 'migrated'}-{date.today().isoformat()}"
         if kind in self._pg:
@@ -141,7 +141,7 @@ class Templates:
         """Database ``name``, a copy of the migrated (or demo) template; with the demo, its
         key goes into ``instance``."""
         import sqlalchemy as sa
-        template = self._pg_template(admin, demo)
+        template = self.postgres_template(admin, demo)
         with admin.connect() as conn:
             conn.execute(sa.text(f'CREATE DATABASE "{name}" TEMPLATE "{template}"'))
         if demo:
