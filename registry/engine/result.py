@@ -9,7 +9,7 @@ from datetime import date
 
 from .dead_work import tester_rank
 from .derived import Derived
-from .findings import _SEVERITY, Finding
+from .findings import _SEVERITY, Finding, margin_ratio
 from .spec import Plan
 
 FORMAT = "withstand-result/1"
@@ -28,17 +28,6 @@ def setup_margin(findings) -> float | None:
     setup that a failing check decides."""
     f = deciding_finding(findings)
     return None if f is None else f.margin
-
-
-def margin_ratio(margin: float | None) -> float | None:
-    """What an item may take over what it must take, available / required = 1 + headroom
-    (headroom as :func:`~registry.engine.findings.headroom` gives it); ``None`` when not
-    numeric; ``inf`` when nothing is required; never below 0."""
-    if margin is None:
-        return None
-    if math.isinf(margin):
-        return math.inf if margin > 0 else 0.0
-    return max(0.0, 1.0 + margin)
 
 
 def format_ratio(ratio: float | None) -> str:
