@@ -24,8 +24,7 @@ install: $(VENV)/.installed
 
 run: install
 	$(BIN)/withstand init --with-demo
-	@echo "Open http://127.0.0.1:$(PORT)/ and log in; the demo logins are steward / larkspur-steward,"
-	@echo "tech / larkspur-tech and viewer / larkspur-viewer (unless you have changed them)."
+	@echo "Open http://127.0.0.1:$(PORT)/ and log in with a login listed above."
 	@echo "The command line is $(BIN)/withstand (or activate the venv: . $(BIN)/activate)."
 	$(BIN)/withstand serve --host 127.0.0.1 --port $(PORT)
 

@@ -162,11 +162,17 @@ def init(with_demo: bool):
     if sealed:
         click.echo(sealed[0].upper() + sealed[1:] + ".")
     if with_demo:
-        from .demo import demo_logins_text, load_demo
+        from .demo import demo_logins_text, load_demo, working_demo_logins
         if load_demo(database):
             click.echo("Loaded the demo fleet. Demo logins:\n" + demo_logins_text())
+            return
+        click.echo("The database already holds a fleet; the demo was not loaded.")
+        working = working_demo_logins(database)
+        if working:
+            click.echo("Demo logins that still work:\n" + demo_logins_text(working))
         else:
-            click.echo("The database already holds a fleet; the demo was not loaded.")
+            click.echo("No demo login works with its demo password here; add a login with "
+                       "`withstand user add NAME --role steward`.")
 
 
 def _shown_url(url: str) -> str:

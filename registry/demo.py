@@ -10,7 +10,7 @@ from .formats.common import read_document
 from .store import models as m
 from .store.db import Database
 from .store.fleet import fleet_is_empty, import_fleet
-from .store.users import add_user
+from .store.users import add_user, authenticate
 
 # Demo logins of the invented lab. They exist only in demo databases; a real installation
 # creates its own with `withstand user add`.
@@ -43,6 +43,18 @@ def ensure_demo_logins(db: Database) -> None:
                 add_user(session, username, role, password, display_name=name)
 
 
-def demo_logins_text() -> str:
+def working_demo_logins(db: Database) -> list[tuple[str, str, str, str]]:
+    """The demo logins that still log in with their demo password (active, password not
+    changed), each with the role it has now: what a second `make run` can truthfully list."""
+    working = []
+    with db.transaction() as session:
+        for username, name, _role, password in DEMO_LOGINS:
+            user = authenticate(session, username, password)
+            if user is not None:
+                working.append((username, name, user.role, password))
+    return working
+
+
+def demo_logins_text(logins=DEMO_LOGINS) -> str:
     return "\n".join(f"  {role:<10} username {u!r:<10} password {p!r}"
-                     for u, _n, role, p in DEMO_LOGINS)
+                     for u, _n, role, p in logins)

@@ -27,6 +27,29 @@ def test_init_with_demo_loads_once(runner, database):
     assert "larkspur-steward" in first.output
     second = run(runner, "init", "--with-demo")
     assert "already holds a fleet" in second.output
+    # a second run lists the demo logins that still work, each one checked by logging in
+    assert "Demo logins that still work:" in second.output
+    for password in ("larkspur-steward", "larkspur-tech", "larkspur-viewer"):
+        assert password in second.output
+
+
+def test_second_init_lists_only_demo_logins_that_still_work(runner, database):
+    from registry.store.users import set_password
+    run(runner, "init", "--with-demo")
+    with database.transaction() as s:
+        users = {u.username: u for u in s.scalars(select(m.User))}
+        set_password(users["steward"], "a-password-of-our-own")
+        users["viewer"].active = False
+    second = run(runner, "init", "--with-demo")
+    assert "larkspur-tech" in second.output
+    assert "larkspur-steward" not in second.output and "larkspur-viewer" not in second.output
+    with database.transaction() as s:
+        for u in s.scalars(select(m.User)):
+            u.active = False
+    third = run(runner, "init", "--with-demo")
+    assert "larkspur" not in third.output
+    assert "No demo login works with its demo password here" in third.output
+    assert "withstand user add NAME --role steward" in third.output
 
 
 def test_import_export_round_trip(runner, tmp_path):
