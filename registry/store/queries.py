@@ -112,13 +112,21 @@ def status_counts(session: Session) -> dict[str, int]:
     return {s: rows.get(s, 0) for s in spec.UNIT_STATUSES}
 
 
-def due_soon(session: Session, days: int = 30, today: date | None = None) -> list[m.Unit]:
-    """Units not retired whose verification falls due within ``days`` (or is overdue)."""
+def due_soon(session: Session, days: int = 30, today: date | None = None,
+             limit: int | None = None) -> list[m.Unit]:
+    """Units not retired whose verification falls due within ``days`` (or is overdue), the
+    soonest first; the first ``limit`` of them when given."""
     today = today or date.today()
-    return list(session.scalars(
-        select(m.Unit).where(_due_within(today, days))
-        .order_by(m.Unit.verification_due, m.Unit.tag)
-        .options(selectinload(m.Unit.model), selectinload(m.Unit.site))))
+    q = (select(m.Unit).where(_due_within(today, days))
+         .order_by(m.Unit.verification_due, m.Unit.tag)
+         .options(selectinload(m.Unit.model), selectinload(m.Unit.site)))
+    return list(session.scalars(q if limit is None else q.limit(limit)))
+
+
+def due_soon_count(session: Session, days: int = 30, today: date | None = None) -> int:
+    """How many units :func:`due_soon` would list."""
+    return session.scalar(select(func.count()).select_from(m.Unit)
+                          .where(_due_within(today or date.today(), days)))
 
 
 def month_starts(today: date, months: int, back: bool = False) -> list[date]:
@@ -141,12 +149,15 @@ def due_by_month(session: Session, today: date | None = None, months: int = 12):
     starts = month_starts(today, months)
     counts = dict.fromkeys(starts, 0)
     overdue = 0
-    for status, due in session.execute(select(m.Unit.status, m.Unit.verification_due)):
+    # one row per (status, due date) with its count: the rules run per distinct pair
+    for status, due, n in session.execute(select(m.Unit.status, m.Unit.verification_due,
+                                                 func.count())
+                                          .group_by(m.Unit.status, m.Unit.verification_due)):
         if rules.unit_overdue(status, due, today):
-            overdue += 1
+            overdue += n
         elif status in rules.VERIFIED_STATUSES and due is not None \
                 and _month_of(due) in counts:
-            counts[_month_of(due)] += 1
+            counts[_month_of(due)] += n
     return overdue, list(counts.items())
 
 
@@ -195,19 +206,23 @@ def coverage(session: Session) -> Coverage:
     in-service accessories, have a rating that takes it, by the engine's own rule (a rating at
     least that category and that voltage at once, SPEC §5.2). The dashboard and the audit
     workbook both show this."""
-    from ..engine.checks import fitting_ratings
-    from .specs import all_models, model_spec
-    specs = {row.key: model_spec(row) for row in all_models(session)}
     out = Coverage(COVERAGE_VOLTAGES, MAINS_CATEGORIES)
     for table in (out.instruments, out.accessories):
         table.update({(cat, v): 0 for cat in MAINS_CATEGORIES for v in COVERAGE_VOLTAGES})
-    for key in session.scalars(select(m.Model.key).join(m.Unit.model)
-                               .where(m.Unit.status == "in-service")):
-        ms = specs[key]
-        table = out.instruments if ms.is_instrument else out.accessories
+    # each model judged once, on its rating rows alone (what fitting_ratings reads), and
+    # counted with its number of in-service units
+    ratings: dict[int, list[tuple[str, float]]] = {}
+    for model_id, cat, volts in session.execute(select(m.Rating.model_id, m.Rating.category,
+                                                       m.Rating.voltage)):
+        ratings.setdefault(model_id, []).append((cat, volts))
+    in_service = session.execute(select(m.Model.id, m.Model.kind, func.count())
+                                 .join(m.Unit.model).where(m.Unit.status == "in-service")
+                                 .group_by(m.Model.id, m.Model.kind))
+    for model_id, kind, units in in_service:
+        table = out.instruments if kind in spec.INSTRUMENT_KINDS else out.accessories
         for cat, v in table:
-            if fitting_ratings(ms, cat, v):
-                table[(cat, v)] += 1
+            if any(rules.rating_covers(rc, rv, cat, v) for rc, rv in ratings.get(model_id, ())):
+                table[(cat, v)] += units
     return out
 
 

@@ -15,6 +15,7 @@ from .plots import KIND_MARKS, month_chart_svg
 bp = Blueprint("dashboard", __name__)
 
 DUE_DAYS = 30
+DUE_SHOWN = 50  # the soonest units listed; the fleet list's due filter has the rest
 
 
 @bp.route("/dashboard")
@@ -33,7 +34,8 @@ def index():
     return render_template("dashboard/index.html", counts=queries.status_counts(session),
                            due_chart=due_chart, events_chart=events_chart,
                            overdue_now=overdue_now, due_months=due, event_months=events,
-                           due=queries.due_soon(session, DUE_DAYS), days=DUE_DAYS,
+                           due=queries.due_soon(session, DUE_DAYS, limit=DUE_SHOWN), days=DUE_DAYS,
+                           due_total=queries.due_soon_count(session, DUE_DAYS),
                            holds=queries.open_holds(session),
                            events=queries.recent_events(session),
                            coverage=queries.coverage(session), today=date.today(),
