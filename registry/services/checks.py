@@ -35,5 +35,9 @@ def run_check(plan: Plan, fleet: Fleet) -> Result:
 
 
 def check_registry(plan: Plan, session: Session) -> Result:
-    """The whole check of ``plan`` against the fleet in the database."""
-    return run_check(plan, engine_fleet(session))
+    """The whole check of ``plan`` against the fleet in the database, its front-end solves
+    read from and kept in the database's solve cache (:mod:`registry.store.solves`)."""
+    from ..store.solves import kept_solves
+    fleet = engine_fleet(session)
+    with kept_solves(session.get_bind().engine):
+        return run_check(plan, fleet)

@@ -339,3 +339,16 @@ class ChainSeal(Base):
     legacy_last_change_id: Mapped[int] = mapped_column(Integer, default=0)
     sealed_at: Mapped[datetime | None] = mapped_column(DateTime)
     mac: Mapped[str | None] = mapped_column(String(64))
+
+
+class SolveCache(Base):
+    """A front-end solve kept across processes (``store.solves``): the engine's result as
+    JSON text under the content hash of what was solved (``engine.network.cache``). Only a
+    cache: deleting every row loses no record, the next check solves again."""
+
+    __tablename__ = "solve_cache"
+
+    key: Mapped[str] = mapped_column(String(64), primary_key=True)
+    kind: Mapped[str] = mapped_column(String(16))
+    result: Mapped[str] = mapped_column(Text)
+    created_at: Mapped[datetime] = mapped_column(DateTime)

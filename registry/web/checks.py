@@ -22,6 +22,7 @@ from ..plans import CIRCUIT_QUANTITIES, FORMAT
 from ..store import queries
 from ..services.checks import plan_from, run_check
 from ..store.fleet import engine_fleet
+from ..store.solves import kept_solves
 from ..store.versions import fleet_version
 from .access import role_required
 from .forms import FieldErrors
@@ -121,7 +122,8 @@ def check_with_fleet(session, doc, on):
 
     def check():
         fleet = engine_fleet(session)
-        return run_check(plan, fleet), fleet
+        with kept_solves(session.get_bind().engine):  # the solves other processes made
+            return run_check(plan, fleet), fleet
 
     # kept per (plan, fleet version): the page, its plots and its job card run one check
     return results().get((plan, plan.on or date.today(), fleet_version(session)), check)
@@ -162,7 +164,8 @@ def setup_profile(res, fleet, s):
     if ctx.mode.clamp or ctx.current_clamp is not None:
         return None
     try:
-        return discharge_profile(ctx)
+        with kept_solves(db.database.engine):
+            return discharge_profile(ctx)
     except DischargeUnsolved:
         return None
 

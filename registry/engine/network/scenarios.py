@@ -7,6 +7,8 @@ times). The limits are held against these in :mod:`registry.engine.network.limit
 
 from __future__ import annotations
 
+import dataclasses
+import json
 import math
 from dataclasses import dataclass, field
 from functools import lru_cache
@@ -329,9 +331,31 @@ class DischargeResult:
     notes: list[tuple[str, str]]
 
 
+def _dump_discharge(res: DischargeResult) -> str:
+    return json.dumps(dataclasses.asdict(res))
+
+
+def _load_discharge(text: str) -> DischargeResult:
+    d = json.loads(text)
+    d["times"], d["voltages"] = tuple(d["times"]), tuple(d["voltages"])
+    d["events"] = [Event(**e) for e in d["events"]]
+    d["notes"] = [tuple(n) for n in d["notes"]]
+    return DischargeResult(**d)
+
+
 @lru_cache(maxsize=1024)  # check 9, check 10, the plot and the job card ask for the same solve
 def discharge(net: Netlist, capacitance: float, v0: float, rs: float | None, v_safe: float,
               duration: float) -> DischargeResult:
+    """:func:`integrate_discharge`, or the same solve kept by a plugged-in store
+    (:mod:`.cache`): the integration is what costs, so it is what is kept across processes."""
+    from .cache import stored
+    return stored("discharge", net, (capacitance, v0, rs, v_safe, duration),
+                  lambda: integrate_discharge(net, capacitance, v0, rs, v_safe, duration),
+                  _dump_discharge, _load_discharge)
+
+
+def integrate_discharge(net: Netlist, capacitance: float, v0: float, rs: float | None,
+                        v_safe: float, duration: float) -> DischargeResult:
     """Integrate C dV/dt = -I(V) in time with scipy's LSODA, the network solved at each step,
     with each PTC heating adiabatically (its I**2 R integrated) until it reaches its trip energy
     (I**2 R t at its datasheet trip point), then held at the resistance that takes its tripped
