@@ -4,8 +4,9 @@ the event record and open a hold when the assessment calls for one, in one trans
 The transaction is the service's own, on a connection of its own, and it takes the write
 lock at its start (SQLite ``BEGIN IMMEDIATE``; a PostgreSQL advisory lock), so two loggers
 cannot chain onto the same last event. A web request's session only reads (SQLite's WAL and
-PostgreSQL's MVCC let a reader and this writer go on together), and the caller reads nothing
-back through it afterwards: the service returns the rows it wrote, loaded whole.
+PostgreSQL's MVCC let a reader and this writer go on together) and is renewed after the commit
+(``extensions.py``); the service also returns the rows it wrote, loaded whole, so the API
+answers with them without reading again.
 """
 
 from __future__ import annotations
