@@ -193,16 +193,20 @@ def test_a_model_with_every_field_is_created_and_round_trips(client, demo):
 def test_steward_edits_a_rating_and_the_change_is_recorded(client, demo):
     login_as(client, "steward")
     form = get_form(client, "/models/kx-7/edit")
-    assert form["ratings-0-voltage"] == "1 kV"  # the stored quantity, with its unit
+    stored = model_docs(demo)["kx-7"]["ratings"][0]
+    # the stored quantity, with its unit, and the stored category chosen
+    assert form["ratings-0-voltage"] == stored["voltage"]
+    assert form["ratings-0-category"] == stored["category"]
     response = post(client, "/models/kx-7/edit", dict(form, **{"ratings-0-voltage": "1100 V"}))
     assert response.status_code == 302
     page = client.get(response.headers["Location"]).get_data(as_text=True)
-    assert "Saved kx-7: 1 field changed." in page and "CAT III 1.1 kV" in page
+    assert "Saved kx-7: 1 field changed." in page
+    assert f"CAT {stored['category']} 1.1 kV" in page
     with demo.transaction() as s:
         change = s.scalar(select(m.Change).where(m.Change.entity == "model",
                                                  m.Change.entity_key == "kx-7"))
         assert (change.actor, change.field, change.old, change.new) == (
-            "steward", "ratings[0].voltage", "1 kV", "1.1 kV")
+            "steward", "ratings[0].voltage", stored["voltage"], "1.1 kV")
 
 
 def test_rows_are_added_and_removed_without_saving(client, demo):
