@@ -3,12 +3,14 @@
 from __future__ import annotations
 
 import io
-from datetime import date
+import re
+from datetime import date, datetime
 
 import segno
 from flask import (Blueprint, Response, flash, redirect, render_template, request,
                    url_for)
 from flask_login import current_user
+from markupsafe import Markup, escape
 
 from ..engine import rules, spec
 from ..engine.quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, POWER, RESISTANCE, TIME,
@@ -34,6 +36,30 @@ _DIMS = {"V": VOLTAGE, "A": CURRENT, "ohm": RESISTANCE, "F": CAPACITANCE, "s": T
 def person_filter(user):
     """A person as every history names them (``queries.person``); "—" for nobody."""
     return queries.person(user) or "—"
+
+
+@bp.app_template_filter("when")
+def when_filter(value, fmt: str | None = None):
+    """A date or a time as a ``<time>`` element (ISO date, or date and minute), which the style
+    sheet keeps on one line so a date never breaks at its hyphens; "—" for none."""
+    if value is None:
+        return "—"
+    if fmt is None:
+        fmt = "%Y-%m-%d %H:%M" if isinstance(value, datetime) else "%Y-%m-%d"
+    return Markup(f'<time datetime="{value.isoformat()}">{value.strftime(fmt)}</time>')
+
+
+_KEPT_WHOLE = re.compile(r"\b(?:[A-Z][A-Z0-9]*-[A-Z0-9]+|\d{4}-\d{2}-\d{2})\b")
+
+
+@bp.app_template_filter("ids_whole")
+def ids_whole_filter(text):
+    """Prose (a summary, a finding's message) escaped, with each tag (``SY-0006``) and date in
+    it wrapped in a ``tag`` span, so the sentence wraps but never inside one of them."""
+    if text is None:
+        return ""
+    escaped = str(escape(text))
+    return Markup(_KEPT_WHOLE.sub(lambda m: f'<span class="tag">{m.group(0)}</span>', escaped))
 
 
 @bp.app_template_filter("q")

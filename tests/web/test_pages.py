@@ -59,12 +59,14 @@ def test_fleet_search_filters_sort_and_pages(app, client, demo):
     assert tags_of(page) and all(t.startswith("LD-") for t in tags_of(page))
     page = client.get("/?site=Battery+lab").get_data(as_text=True)
     assert tags_of(page) and all(t.startswith(("BL-", "LD-0020", "PR-0020")) for t in tags_of(page))
-    # takes CAT IV at 600 V: the KX-7 (CAT IV 600 V) does, "600 V" and "0.6 kV" agree
-    a = set(tags_of(client.get("/?category=IV&voltage=600+V").get_data(as_text=True)))
-    b = set(tags_of(client.get("/?category=IV&voltage=0.6+kV").get_data(as_text=True)))
+    # takes CAT IV at 500 V: the KX-7 (CAT IV 500 V) does, "500 V" and "0.5 kV" agree
+    a = set(tags_of(client.get("/?category=IV&voltage=500+V").get_data(as_text=True)))
+    b = set(tags_of(client.get("/?category=IV&voltage=0.5+kV").get_data(as_text=True)))
     assert "NB-0001" in a and a == b
-    # CAT IV at 1000 V: KX-7 is CAT III 1000 V and CAT IV 600 V, so it does not
-    assert "NB-0001" not in tags_of(client.get("/?category=IV&voltage=1000+V").get_data(as_text=True))
+    # CAT IV at 600 V: the KX-7 is CAT III 900 V and CAT IV 500 V, so it does not (a higher
+    # voltage at a lower category does not count), while the C40 (CAT IV 600 V) does
+    six = tags_of(client.get("/?category=IV&voltage=600+V").get_data(as_text=True))
+    assert "NB-0001" not in six and "SY-0001" in six
     page = client.get("/?sort=tag&dir=desc").get_data(as_text=True)
     assert tags_of(page) == sorted(tags_of(page), reverse=True)
     app.config["FLEET_PAGE_SIZE"] = 10
