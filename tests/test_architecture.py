@@ -160,6 +160,24 @@ def test_no_blueprint_imports_another():
     assert blueprint_imports(PACKAGE) == []
 
 
+def test_services_sit_below_the_web_and_the_cli():
+    """A service is called by the pages, the API and the CLI alike, so it imports none of
+    them, nor Flask: it takes a Database and plain values."""
+    services = [n for n in source_modules(PACKAGE) if n.startswith("registry.services.")]
+    assert {"registry.services.events", "registry.services.users"} <= set(services)
+    graph = import_graph(PACKAGE)
+    upward = sorted((s, t) for s in services for t in graph[s]
+                    if t.startswith("registry.web") or t in ("registry.cli", "registry.app",
+                                                            "registry.extensions"))
+    assert upward == []
+    flask = sorted(s for s in services for node in ast.walk(ast.parse(
+        source_modules(PACKAGE)[s].read_text(encoding="utf-8")))
+        if isinstance(node, (ast.Import, ast.ImportFrom))
+        and any((getattr(node, "module", None) or a.name).split(".")[0].startswith("flask")
+                for a in node.names))
+    assert flask == []
+
+
 def test_no_view_or_cli_command_commits_or_rolls_back():
     views = sorted((PACKAGE / "web").rglob("*.py"))
     assert len(views) > 10
