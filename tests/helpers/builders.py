@@ -24,10 +24,10 @@ def meter(key="mx-3", ratings=(Rating("III", 600.0),), *, amp_fuse=None, lowz=Tr
                   input_resistance=1e6, max_input=max_input)]
     if lowz:
         modes.append(Mode("lowz", "Low-Z volts", "voltage", "both", ("V", "COM"),
-                          input_resistance=3e3, max_input=600.0, max_duration=60.0))
+                          input_resistance=2.6e3, max_input=600.0, max_duration=60.0))
     modes.append(Mode("amp", "Amps", "current", "both", ("A", "COM"), max_current=10.0,
                       input_resistance=0.01,
-                      fuse=amp_fuse or Fuse(current=11.0, voltage=1000.0, voltage_dc=1000.0,
+                      fuse=amp_fuse or Fuse(current=12.5, voltage=1000.0, voltage_dc=1000.0,
                                             breaking_capacity=50e3)))
     return ModelSpec(key=key, kind="multimeter", maker="Quillby Instruments",
                      name=f"{key.upper()} multimeter", ratings=tuple(ratings),

@@ -38,13 +38,13 @@ VDC = Mode("vdc", "DC volts", "voltage", "dc", ("V", "COM"), input_resistance=10
            max_input=1000.0)
 VAC = Mode("vac", "AC volts", "voltage", "ac", ("V", "COM"), input_resistance=10e6,
            max_input=1000.0)
-LOWZ = Mode("lowz", "Low-Z volts", "voltage", "both", ("V", "COM"), input_resistance=3000.0,
+LOWZ = Mode("lowz", "Low-Z volts", "voltage", "both", ("V", "COM"), input_resistance=2600.0,
             max_input=600.0, max_duration=60.0, closes=("S1",))
 
 
 def kx7(front_end=None, key="kx-7", modes=(VDC, VAC, LOWZ)) -> ModelSpec:
     return ModelSpec(key, "multimeter", maker="Orrin & Vale", name="KX-7 handheld multimeter",
-                     ratings=(Rating("III", 1000.0), Rating("IV", 600.0)), modes=modes,
+                     ratings=(Rating("III", 900.0), Rating("IV", 500.0)), modes=modes,
                      front_end=kx7_front_end() if front_end is None else front_end)
 
 

@@ -60,14 +60,14 @@ def test_closed_switch_shorts_and_open_switch_sees_the_node():
 
 def test_spec_example_input_resistances():
     # SPEC §4's front end: vdc is 1k + 1k + 10M = 10.002 Mohm (10 Mohm stated: agrees);
-    # lowz closes S1 across n2, leaving 1k + 1k = 2 kohm against the 3 kohm stated.
+    # lowz closes S1 across n2, leaving 1k + 1k = 2 kohm against the 2.6 kohm stated.
     m = kx7()
     assert netlist_resistance(build_netlist(m, VDC)) == pytest.approx(10.002e6, rel=1e-4)
     assert netlist_resistance(build_netlist(m, LOWZ)) == pytest.approx(2e3, rel=1e-7)
     ok = consistency_finding(m, VDC)
     assert ok.status == "pass" and ok.check == "input-consistency"
     bad = consistency_finding(m, LOWZ)
-    assert bad.status == "caution" and "2 kohm" in bad.message and "3 kohm" in bad.message
+    assert bad.status == "caution" and "2 kohm" in bad.message and "2.6 kohm" in bad.message
 
 
 def test_consistency_open_path_is_a_caution():
