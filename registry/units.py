@@ -109,9 +109,10 @@ def parse_quantity(value, dim: Dimension, field: str = "", *, default_unit: str 
                            f"'{example_text(dim)}'", field)
     if isinstance(value, bool):
         raise InvalidInput(f"'{value}' is not {dim.article} {dim.name}", field)
-    not_understood = InvalidInput(
-        f"'{shown(value)}' is not a quantity this field understands; write {dim.article} "
-        f"{dim.name} such as '{example_text(dim)}'", field)
+    def not_understood() -> InvalidInput:  # built only when raised: most values are fine
+        return InvalidInput(
+            f"'{shown(value)}' is not a quantity this field understands; write {dim.article} "
+            f"{dim.name} such as '{example_text(dim)}'", field)
     if isinstance(value, (int, float)):
         if default_unit is None:
             raise InvalidInput(f"'{shown(value)}' has no unit; write it with one, such as "
@@ -124,7 +125,7 @@ def parse_quantity(value, dim: Dimension, field: str = "", *, default_unit: str 
     elif isinstance(value, str):
         parts = _split(_normalise(value))
         if parts is None:
-            raise not_understood
+            raise not_understood()
         magnitude, unit = parts
         text = shown(value.strip())
     else:
@@ -135,7 +136,7 @@ def parse_quantity(value, dim: Dimension, field: str = "", *, default_unit: str 
     try:
         dimensionality = _unit_dimensionality(unit)
     except Exception:
-        raise not_understood from None
+        raise not_understood() from None
     if not dimensionality and not isinstance(value, (int, float)):
         if default_unit is None:
             raise InvalidInput(f"'{text}' has no unit; write it with one, such as "

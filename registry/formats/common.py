@@ -121,6 +121,14 @@ def _date_validator(value: Any) -> Any:
         return value
     if not isinstance(value, str):
         return value  # the date type's own validation refuses it
+    if type(value) is str and value.isprintable():  # the common case, as parse_date reads it
+        try:
+            day = date.fromisoformat(value.strip())
+        except ValueError:
+            pass  # parse_date below says what is wrong
+        else:
+            if FIRST_YEAR <= day.year <= LAST_YEAR:
+                return day
     try:
         return parse_date(value, "")
     except InvalidInput as exc:
@@ -543,6 +551,9 @@ def check_text(value: str, field: str, *, multiline: bool = False) -> str:
 
 
 def _text_validator(value: Any, multiline: bool = False) -> Any:
+    if type(value) is str and value.isprintable() and \
+            len(value) <= (MAX_NOTE_CHARS if multiline else MAX_LINE_CHARS):
+        return value  # the common case, settled as text_problem settles it, in one call
     try:
         value = as_text(value)
     except ValueError as exc:

@@ -190,7 +190,9 @@ def _apply_units(session, content, model_ids, site_ids, report, changes) -> list
     stored = _stored_units(session)
     inserts, updates, held = [], [], []
     for rec in content.units:
-        values = (rec.model, rec.site) + tuple(getattr(rec, f) for f in _UNIT_FIELDS)
+        # the order of _UNIT_FIELDS, spelt out: this loop runs once per unit
+        values = (rec.model, rec.site, rec.serial, rec.custodian, rec.status, rec.verified_on,
+                  rec.verification_due, rec.notes)
         old = stored.get(rec.tag)
         if old is not None:
             if old[1:] == values:
@@ -207,8 +209,9 @@ def _apply_units(session, content, model_ids, site_ids, report, changes) -> list
         else:
             report.added.append(f"unit {rec.tag}")
         row = {"model_id": model_ids[rec.model],
-               "site_id": site_ids[rec.site] if rec.site else None,
-               **{f: getattr(rec, f) for f in _UNIT_FIELDS}}
+               "site_id": site_ids[rec.site] if rec.site else None, "serial": rec.serial,
+               "custodian": rec.custodian, "status": rec.status, "verified_on": rec.verified_on,
+               "verification_due": rec.verification_due, "notes": rec.notes}
         if old is None:
             inserts.append(dict(row, tag=rec.tag))
         else:

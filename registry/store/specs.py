@@ -103,8 +103,14 @@ def insert_models(session: Session, new: list[spec.ModelSpec]) -> dict[str, int]
     from sqlalchemy import insert
     if not new:
         return {}
-    ids = session.scalars(insert(m.Model).returning(m.Model.id, sort_by_parameter_order=True),
-                          [model_columns(s) for s in new]).all()
+    session.execute(insert(m.Model.__table__), [model_columns(s) for s in new])
+    # their ids by key (a plain executemany: RETURNING in order would go row by row)
+    keys = [s.key for s in new]
+    id_of: dict[str, int] = {}
+    for i in range(0, len(keys), 500):  # within every database's limit on bound values
+        id_of.update(session.execute(select(m.Model.key, m.Model.id)
+                                     .where(m.Model.key.in_(keys[i:i + 500]))).all())
+    ids = [id_of[k] for k in keys]
     children: dict = {m.Rating: [], m.Mode: [], m.FrontEndElement: []}
     for s, model_id in zip(new, ids):
         for table, rows in ((m.Rating, rating_rows(s)), (m.Mode, mode_rows(s)),
