@@ -12,7 +12,8 @@ logged event, so check 11 reads some history.
     fleet_database(20_000)   # -> path of a migrated, loaded SQLite file, cached per size
 
 The file is built once per size and kept in ``$WITHSTAND_BENCH_DIR`` (default
-``/tmp/withstand-bench``); a change of this module's text builds it again.
+``/tmp/withstand-bench``); a change of this module's text or of the migrations builds it
+again.
 """
 
 from __future__ import annotations
@@ -70,7 +71,12 @@ def fleet_document(units: int) -> dict:
 
 
 def _stamp() -> str:
-    return hashlib.sha256(Path(__file__).read_bytes()).hexdigest()[:12]
+    """This module's text and the migrations' names: either changed builds the file again."""
+    from importlib import resources
+    versions = resources.files("registry.migrations") / "versions"
+    names = sorted(p.name for p in versions.iterdir() if p.name.endswith(".py"))
+    return hashlib.sha256(Path(__file__).read_bytes() + "\n".join(names).encode()
+                          ).hexdigest()[:12]
 
 
 def fleet_database(units: int) -> Path:
