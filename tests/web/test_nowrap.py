@@ -73,7 +73,8 @@ def test_every_tag_and_date_on_the_pages_keeps_to_one_line(client, demo):
     pages = ["/", "/dashboard", "/units/NB-0002", "/units/NB-0002/label", "/events", "/holds",
              "/models/kx-7"]
     broken = {}
-    for path, query in [(p, None) for p in pages] + [("/checks/result", plan)]:
+    for path, query in [(p, None) for p in pages] + [("/checks/result", plan),
+                                                      ("/checks/card", plan)]:
         page = client.get(path, query_string=query)
         assert page.status_code == 200, path
         broken[path] = _breakable(page.get_data(as_text=True))

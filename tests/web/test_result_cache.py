@@ -17,7 +17,8 @@ def _page(client) -> str:
 
 
 def _best(page: str) -> str:
-    return re.search(r'id="summary">[^<]*?Best setup: ([^ ,<]+)', page).group(1)
+    summary = re.search(r'id="summary">(.*?)</p>', page, re.S).group(1)
+    return re.search(r"Best setup: ([^ ,]+)", re.sub(r"<[^>]+>", "", summary)).group(1)
 
 
 def _shown(page: str) -> str:
