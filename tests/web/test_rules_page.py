@@ -2,7 +2,7 @@
 
 from html import unescape
 
-from registry.engine.rulebook import RULES, VERDICTS
+from registry.engine.rulebook import RULES, VERDICTS, rule_for
 from registry.rules_doc import render
 
 from helpers.web import login_as
@@ -43,3 +43,13 @@ def test_the_page_is_in_the_navigation_and_read_only(client, demo):
 def test_logged_out_it_asks_for_a_login(client, demo):
     response = client.get("/rules/")
     assert response.status_code == 302 and "/login" in response.headers["Location"]
+
+
+def test_a_result_links_each_finding_to_its_rule(client, demo):
+    login_as(client, "viewer")
+    page = client.get("/checks/result?task=measure-voltage&supply=mains&category=III"
+                      "&waveform=ac&voltage=480+V&voltage_to_earth=277+V"
+                      "&site=Substation+yard").get_data(as_text=True)
+    category = rule_for("category")
+    assert f'href="/rules/#{category.anchor}"' in page
+    assert client.get("/rules/").get_data(as_text=True).count(f'id="{category.anchor}"') == 1
