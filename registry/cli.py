@@ -283,9 +283,12 @@ def export(file: Path):
 @click.option("--on", "on", default=None, metavar="DATE",
               help="The day of the job (YYYY-MM-DD), for verification dates; default today.")
 @click.option("--explain", default=None, metavar="TAG",
-              help="Print every finding of this unit's setups.")
+              help="Print every finding of this unit's setups (with --json: put them in).")
+@click.option("--findings", "all_findings", is_flag=True,
+              help="With --json: every setup's findings, not only the deciding one.")
 @reports_errors
-def check(plan: Path, as_json: bool, show_all: bool, on: str | None, explain: str | None):
+def check(plan: Path, as_json: bool, show_all: bool, on: str | None, explain: str | None,
+          all_findings: bool):
     """Run a job plan against the fleet. Exit 0 if some setup fits, 1 if none does."""
     import json as json_module
 
@@ -305,7 +308,9 @@ def check(plan: Path, as_json: bool, show_all: bool, on: str | None, explain: st
             not any(x.unit == explain for x in result.excluded):
         raise InvalidInput(f"no unit '{explain}' in this result", "--explain")
     if as_json:
-        click.echo(json_module.dumps(result.as_json(), indent=2, ensure_ascii=False))
+        asked: bool | str = True if all_findings else (explain or False)
+        click.echo(json_module.dumps(result.as_json(findings=asked), indent=2,
+                                     ensure_ascii=False))
     else:
         click.echo(render_text(result, show_all=show_all, explain=explain), nl=False)
     sys.exit(exit_code(result))

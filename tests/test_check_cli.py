@@ -28,10 +28,11 @@ def test_mains_panel_text_output(runner, demo):
 
 
 def test_json_is_the_result_format(runner, demo):
-    result = check(runner, plan_path("mains-panel"), "--on", "2026-12-02", "--json")
+    result = check(runner, plan_path("mains-panel"), "--on", "2026-12-02", "--json",
+                   "--findings")
     doc = json.loads(result.output)
     assert doc["format"] == "withstand-result/1"
-    assert {"plan", "setups", "excluded", "cautions"} <= set(doc)
+    assert {"plan", "setups", "excluded", "cautions", "counts"} <= set(doc)
     first = doc["setups"][0]
     assert {"instrument", "mode", "accessories", "verdict", "margin", "findings"} <= set(first)
     assert {"check", "status", "subject", "required", "available", "message", "source"} \
@@ -44,8 +45,33 @@ def test_json_is_the_result_format(runner, demo):
     assert excluded["NB-0007"] == "verification-overdue"
 
 
+def test_json_holds_findings_only_when_asked(runner, demo):
+    def doc(*extra):
+        return json.loads(check(runner, plan_path("mains-panel"), "--on", "2026-12-02",
+                                "--json", *extra).output)
+    plain, explained = doc(), doc("--explain", "SY-0005")
+    # without asking, every setup has its deciding finding and no list of findings
+    assert plain["setups"] and all("findings" not in s and "message" in s["deciding"]
+                                   for s in plain["setups"])
+    counts = plain["counts"]
+    assert counts["setups"] == len(plain["setups"])
+    assert sum(counts["setups_by_verdict"].values()) == len(plain["setups"])
+    assert counts["accessories"] == len(plain["accessories"])
+    # --explain TAG puts in the findings of that unit's setups only, the same setups otherwise
+    with_findings = [s for s in explained["setups"] if "findings" in s]
+    assert with_findings and all(s["instrument"] == "SY-0005" or "SY-0005" in s["accessories"]
+                                 for s in with_findings)
+    assert [dict(s, findings=None) for s in with_findings] == \
+        [dict(s, findings=None) for s in plain["setups"] if s["instrument"] == "SY-0005"]
+    # the deciding finding is one of the setup's findings
+    for s in with_findings:
+        assert {k: s["deciding"][k] for k in ("check", "subject", "message")} in \
+            [{k: f[k] for k in ("check", "subject", "message")} for f in s["findings"]]
+
+
 def test_front_end_findings_reach_the_result(runner, demo):
-    result = check(runner, plan_path("mains-panel"), "--on", "2026-12-02", "--json", "--all")
+    result = check(runner, plan_path("mains-panel"), "--on", "2026-12-02", "--json",
+                   "--findings")
     doc = json.loads(result.output)
     kx3 = [s for s in doc["setups"] if s["instrument"] == "SY-0007" and s["mode"] == "vac"]
     assert kx3 and kx3[0]["verdict"] == "unsuitable"

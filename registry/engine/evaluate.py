@@ -9,6 +9,8 @@ accessory unit that could join a setup is listed with the best verdict it takes 
 
 from __future__ import annotations
 
+import dataclasses
+import math
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from datetime import date
@@ -16,13 +18,13 @@ from datetime import date
 from .checks import CHECKS
 from .derived import derive
 from .dead_work import check_proving_dead
-from .findings import _SEVERITY, Finding, verdict_of
+from .findings import _SEVERITY, Finding
 from .history import check_history, exclusion_reason, plan_cautions
 from .protection import protection_path_check
-from .result import (VERDICT_ORDER, AccessoryResult, Excluded, Result, SetupResult,
-                     deciding_finding, setup_margin, sort_key)
+from .result import (VERDICT_ORDER, AccessoryResult, Excluded, Findings, Result, SetupResult,
+                     SharedFindings, _key_of, deciding_finding, sort_key)
 from .setups import SetupContext, check_setup, enumerate_setups
-from .spec import Fleet, Plan, SpecError, UnitState
+from .spec import LEAD_KINDS, Fleet, ModelSpec, Plan, SpecError, UnitState
 
 ExtraCheck = Callable[[SetupContext], list[Finding]]
 # Rules of the task beside checks 2 to 9 (engine/dead_work.py).
@@ -113,10 +115,110 @@ def accessory_rank(p: _Part, instrument: str, mode: str):
         margin, reason
 
 
+# The stand-in keys of a model shared by content: control characters, which no key, tag or
+# text in a fleet may hold, so putting the real keys back into a finding's text is exact.
+SLOT_KEYS = {"instrument": "\x00instrument\x00", "lead": "\x00lead\x00", "tip": "\x00tip\x00"}
+
+
+def _slot(model: ModelSpec) -> str:
+    if model.is_instrument:
+        return "instrument"
+    return "lead" if model.kind in LEAD_KINDS else "tip"
+
+
+def _renamed(f: Finding, names: dict[str, str]) -> Finding:
+    """``f`` with the stand-in keys of a shared model replaced by the real ones."""
+    texts = (f.subject, f.message, f.required, f.available, f.source)
+    if not any("\x00" in t for t in texts):
+        return f
+    out = []
+    for t in texts:
+        for stand_in, real in names.items():
+            t = t.replace(stand_in, real)
+        out.append(t)
+    return Finding(f.check, f.status, out[0], out[1], out[4], out[2], out[3], f.margin)
+
+
+class _Combo:
+    """One combination of models (each standing for every model of the same content), judged
+    once: checks 1 to 9 and the task's rules at once, check 10 only when they leave it
+    standing or when a user reads it (:meth:`complete`)."""
+
+    __slots__ = ("ctx", "slots", "core", "front", "extra", "done", "worst", "counts",
+                 "deciding", "dec_key", "_parts", "index")
+
+    def __init__(self, ctx: SetupContext, slots: tuple[int, ...], extra_checks, index: int):
+        self.ctx, self.slots, self.index = ctx, slots, index
+        self.core = tuple(check_setup(ctx)) + tuple(
+            f for check in tuple(CHECKS) + TASK_CHECKS for f in check(ctx))
+        self.extra = tuple(f for check in extra_checks for f in check(ctx))
+        self.front: tuple[Finding, ...] = ()
+        self.done = False
+        self._parts: dict[int, _Part] = {}
+        self._sum()
+        if self.worst < _SEVERITY["fail"]:
+            self.complete()
+
+    def _sum(self) -> None:
+        found = self.findings
+        self.worst = max((_SEVERITY[f.status] for f in found), default=0)
+        self.counts = tuple(sum(1 for f in found if f.status == k)
+                            for k in ("fail", "unknown", "caution"))
+        self.deciding = deciding_finding(found)
+        self.dec_key = None if self.deciding is None else _key_of(self.deciding)
+        self._parts.clear()
+
+    @property
+    def findings(self) -> tuple[Finding, ...]:
+        return self.core + self.front + self.extra
+
+    def complete(self) -> bool:
+        """Run check 10 if it has not run; whether it ran now."""
+        if self.done:
+            return False
+        self.done = True
+        self.front = tuple(f for check in FRONT_END_CHECKS for f in check(self.ctx))
+        self._sum()
+        return True
+
+    def part(self, slot: int, key: str) -> _Part:
+        if slot not in self._parts:
+            self._parts[slot] = _part(self.findings, key, None)
+        return self._parts[slot]
+
+
+def _stats(combo: _Combo, extra: list[Finding]):
+    """(severity, counts, deciding finding) of the combination's findings then ``extra``."""
+    if not extra:
+        return combo.worst, combo.counts, combo.deciding
+    worst = max(combo.worst, max(_SEVERITY[f.status] for f in extra))
+    counts = tuple(c + sum(1 for f in extra if f.status == k)
+                   for c, k in zip(combo.counts, ("fail", "unknown", "caution"), strict=True))
+    own = deciding_finding(extra)
+    d = combo.deciding
+    if d is None or (own is not None and _key_of(own) < _key_of(d)):
+        d = own
+    return worst, counts, d
+
+
+_VERDICTS = {0: "suitable", 1: "conditional", 2: "unverified", 3: "unsuitable"}
+
+
 def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = ()) -> Result:
-    """The result of ``plan`` against ``fleet``: one setup per available instrument unit and
-    mode (with the best accessory units for it), ranked; the units left out and why; the
-    cautions. ``plan.on`` is the day of the job (today when not given)."""
+    """The whole check of ``plan`` against ``fleet`` (checks 1 to 12): one setup per available
+    instrument unit and mode (with the best accessory units for it), ranked; every accessory
+    unit with the best setup it takes part in; the units left out and why; the cautions.
+    ``plan.on`` is the day of the job (today when not given).
+
+    The work is shared: models of the same content (copies under other keys) are judged once
+    under stand-in keys and the real keys put back into the findings someone reads; each
+    combination is judged once and check 10 runs only for those that checks 1 to 9 leave
+    standing, or that a unit's best setup ends up being; units of one model, site and (empty)
+    history share one choice. The verdict of every unit and mode is the one
+    :func:`~registry.engine.exhaustive.evaluate_exhaustive` gives (the property tests hold it
+    to that). With ``extra_checks`` every model is judged under its own key, so a check sees
+    the real keys.
+    """
     on = plan.on or date.today()
     derived = derive(plan)
     excluded: list[Excluded] = []
@@ -130,81 +232,185 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
         else:
             available.setdefault(unit.model, []).append(unit)
 
-    models = [m for key, m in fleet.models.items() if key in available]
-    combos: dict[tuple[str, str], list[tuple[SetupContext, tuple[Finding, ...]]]] = {}
-    for ctx in enumerate_setups(plan, derived, models):
-        combos.setdefault((ctx.instrument.key, ctx.mode.key), []).append(
-            (ctx, findings_for(ctx, extra_checks)))
+    # -- the models by content -----------------------------------------------------------------
+    share = not extra_checks
+    class_of: dict[str, int] = {}
+    reps: list[ModelSpec] = []
+    by_content: dict[ModelSpec, int] = {}
+    for key, model in fleet.models.items():
+        if key not in available:
+            continue
+        content = dataclasses.replace(model, key=SLOT_KEYS[_slot(model)]) if share else model
+        cid = by_content.setdefault(content, len(reps))
+        if cid == len(reps):
+            reps.append(content)
+        class_of[key] = cid
+    rep_id = {id(r): i for i, r in enumerate(reps)}
 
-    setups: list[SetupResult] = []
+    options: dict[tuple[int, str], list[_Combo]] = {}
+    n = 0
+    for ctx in enumerate_setups(plan, derived, reps):
+        combo = _Combo(ctx, tuple(rep_id[id(a)] for a in ctx.accessories), extra_checks, n)
+        n += 1
+        options.setdefault((rep_id[id(ctx.instrument)], ctx.mode.key), []).append(combo)
+
+    # -- accessory units: their history and the one to hand out per instrument site ------------
     history: dict[str, list[Finding]] = {}
 
-    def accessory_history(u: UnitState) -> list[Finding]:
+    def unit_history(u: UnitState, mode: str | None) -> list[Finding]:
+        if not u.history and u.verification_due is not None:
+            return []  # nothing in check_history can apply
+        if mode is not None:
+            return check_history(u, mode)
         if u.tag not in history:
             history[u.tag] = check_history(u, None)
         return history[u.tag]
 
-    offers: dict[str, tuple] = {}  # accessory tag -> (rank, AccessoryResult), the best
-    parts: dict[tuple[int, int], tuple] = {}  # (combination, slot) -> (findings, _Part)
+    pools: dict[int, list[UnitState]] = {}
+    for key, units in available.items():
+        if not fleet.models[key].is_instrument:
+            pools.setdefault(class_of[key], []).extend(units)
+    chosen_for: dict[tuple[int, str | None], UnitState] = {}
+
+    def chosen(cid: int, near: str | None) -> UnitState:
+        k = (cid, near)
+        if k not in chosen_for:
+            chosen_for[k] = min(pools[cid], key=lambda u: (
+                len(unit_history(u, None)), 0 if (near is not None and u.site == near) else 1,
+                0 if (plan.site is not None and u.site == plan.site) else 1,
+                -(u.verification_due.toordinal() if u.verification_due else 0), u.tag))
+        return chosen_for[k]
+
+    # -- the real keys back into the findings that someone reads -------------------------------
+    texts: dict[tuple, SharedFindings] = {}
+
+    def shared_text(combo: _Combo, inst_model: str, acc_models: tuple[str, ...]) -> SharedFindings:
+        k = (combo.index, inst_model, acc_models)
+        if k not in texts:
+            if not share:
+                texts[k] = SharedFindings.of(combo.findings)
+            else:
+                names = _names(inst_model, acc_models, fleet)
+                found, dec = combo.findings, combo.deciding
+                texts[k] = SharedFindings(
+                    lambda found=found, names=names: tuple(_renamed(f, names) for f in found),
+                    lambda dec=dec, names=names: None if dec is None else _renamed(dec, names),
+                    key=combo.dec_key)
+        return texts[k]
+
+    # -- instrument units, grouped by what decides their choice --------------------------------
+    groups: dict[tuple, list[UnitState]] = {}
+    own_of: dict[tuple, list[Finding]] = {}
     for unit in fleet.units:
-        if unit.model not in available or unit not in available[unit.model]:
+        if unit.model not in available or not fleet.models[unit.model].is_instrument:
             continue
-        model = fleet.models[unit.model]
-        if not model.is_instrument:
+        if unit not in available[unit.model]:
             continue
-        for (inst_key, mode_key), options in combos.items():
-            if inst_key != model.key:
+        cid = class_of[unit.model]
+        for (icid, mode_key) in options:
+            if icid != cid:
                 continue
-            best = None
-            own_history = check_history(unit, mode_key)
-            for ctx, found in options:
-                acc_units = []
-                for acc in ctx.accessories:
-                    pool = [u for u in available.get(acc.key, []) if u.tag != unit.tag]
-                    acc_units.append(min(pool, key=lambda u: _unit_rank(u, plan, unit.site)))
-                findings = list(found) + own_history
-                for u in acc_units:
-                    findings += accessory_history(u)
-                # every accessory unit of these models, in this setup in place of the one
-                # chosen for it; the combination's own findings are summed up once per model
-                for i, acc in enumerate(ctx.accessories):
-                    key = (id(found), i)
-                    if key not in parts:
-                        parts[key] = (found, _part(found, acc.key, None))
-                    base = parts[key][1]
-                    for u in available.get(acc.key, []):
-                        if u.tag == unit.tag:
-                            continue
-                        units_here = acc_units[:i] + [u] + acc_units[i + 1:]
-                        extra = list(own_history)
-                        for x in units_here:
-                            extra += accessory_history(x)
-                        p = _joined(base, _part(extra, acc.key, u.tag)) if extra else base
-                        rank, verdict, margin, reason = accessory_rank(p, unit.tag, mode_key)
-                        if u.tag in offers and not rank < offers[u.tag][0]:
-                            continue
-                        offers[u.tag] = (rank, AccessoryResult(
-                            unit=u.tag, model=acc.key, kind=acc.kind, verdict=verdict,
-                            instrument=unit.tag, mode=mode_key,
-                            accessories=tuple(x.tag for x in units_here), margin=margin,
-                            reason=reason, findings=tuple(found) + tuple(extra)))
-                candidate = SetupResult(
-                    instrument=unit.tag, mode=mode_key,
-                    accessories=tuple(u.tag for u in acc_units),
-                    verdict=verdict_of(findings), margin=setup_margin(findings),
-                    findings=tuple(findings), instrument_model=model.key,
-                    accessory_models=tuple(a.key for a in ctx.accessories),
-                    accessory_sites=tuple(u.site for u in acc_units),
-                    mode_label=ctx.mode.label, site=unit.site,
-                    verification_due=unit.verification_due, instrument_kind=model.kind)
-                if best is None or (_choice_key(candidate, plan.site)
-                                    < _choice_key(best, plan.site)):
-                    best = candidate
-            if best is not None:
-                setups.append(best)
+            own = unit_history(unit, mode_key)
+            g = (icid, mode_key, unit.site, unit.tag if own else None)
+            groups.setdefault(g, []).append(unit)
+            own_of[g] = own
+
+    def weigh(combo: _Combo, site: str | None, own: list[Finding]):
+        accs = [chosen(c, site) for c in combo.slots]
+        extra = list(own)
+        for u in accs:
+            extra += unit_history(u, None)
+        worst, counts, dec = _stats(combo, extra)
+        margin = None if dec is None else dec.margin
+        m = margin if margin is not None else -math.inf
+        key = (worst, counts[0], counts[1], counts[2], -m,
+               sum(1 for u in accs if u.site != site), tuple(u.tag for u in accs))
+        return key, accs, extra, worst, margin
+
+    setups: list[SetupResult] = []
+    best_of: dict[tuple, tuple] = {}
+    for g, members in groups.items():
+        icid, mode_key, site, _ = g
+        while True:
+            best = min((weigh(c, site, own_of[g]) + (c,) for c in options[(icid, mode_key)]),
+                       key=lambda w: w[0])
+            if not best[-1].complete():
+                break  # its findings are whole: check 10 had run
+        best_of[g] = best
+        _key, accs, extra, worst, margin = best[:5]
+        combo = best[-1]
+        verdict = _VERDICTS[worst]
+        acc_models = tuple(u.model for u in accs)
+        acc_tags = tuple(u.tag for u in accs)
+        acc_sites = tuple(u.site for u in accs)
+        extra_t = tuple(extra)
+        label = combo.ctx.mode.label
+        for unit in members:
+            model = fleet.models[unit.model]
+            setups.append(SetupResult(
+                instrument=unit.tag, mode=mode_key, accessories=acc_tags, verdict=verdict,
+                margin=margin, found=Findings(shared_text(combo, unit.model, acc_models),
+                                              extra_t),
+                instrument_model=unit.model, accessory_models=acc_models,
+                accessory_sites=acc_sites, mode_label=label, site=unit.site,
+                verification_due=unit.verification_due, instrument_kind=model.kind))
     setups.sort(key=lambda s: sort_key(s, plan.site, plan.task))
-    accessories = [offer for _rank, offer in offers.values()]
-    accessories.sort(key=lambda a: (VERDICT_ORDER.index(a.verdict), a.kind, a.unit))
+
+    # -- accessory units: the best setup each takes part in ------------------------------------
+    acc_groups: dict[tuple[int, str | None], list[UnitState]] = {}
+    for cid, units in pools.items():
+        for u in units:
+            acc_groups.setdefault((cid, u.tag if unit_history(u, None) else None), []).append(u)
+    offers: list[AccessoryResult] = []
+    for (cid, _tag), members in acc_groups.items():
+        sample = members[0]
+        while True:
+            found_best = None
+            for g, units in groups.items():
+                icid, mode_key, site, _ = g
+                first = min(units, key=lambda u: u.tag)
+                for combo in options[(icid, mode_key)]:
+                    for i, slot in enumerate(combo.slots):
+                        if slot != cid:
+                            continue
+                        others = [chosen(c, site) for c in combo.slots]
+                        here = others[:i] + [sample] + others[i + 1:]
+                        extra = list(own_of[g])
+                        for x in here:
+                            extra += unit_history(x, None)
+                        acc_key = combo.ctx.accessories[i].key
+                        base = combo.part(i, acc_key)
+                        p = _joined(base, _part(extra, acc_key, sample.tag)) if extra else base
+                        rank, verdict, margin, reason = accessory_rank(p, first.tag, mode_key)
+                        if found_best is None or rank < found_best[0]:
+                            found_best = (rank, verdict, margin, reason, first, combo, here,
+                                          i, tuple(extra))
+            if found_best is None or not found_best[5].complete():
+                break
+        if found_best is None:
+            continue
+        _rank, verdict, margin, reason, first, combo, here, i, extra_t = found_best
+        kind = fleet.models[sample.model].kind
+        for u in members:
+            units_here = here[:i] + [u] + here[i + 1:]
+            acc_models = tuple(x.model for x in units_here)
+            text = shared_text(combo, first.model, acc_models)
+            names_reason = None
+            if reason is not None:
+                names_reason = reason if not share else _renamed(reason, _names(
+                    first.model, acc_models, fleet))
+            offers.append(AccessoryResult(
+                unit=u.tag, model=u.model, kind=kind, verdict=verdict, instrument=first.tag,
+                mode=combo.ctx.mode.key, accessories=tuple(x.tag for x in units_here),
+                margin=margin, reason=names_reason, found=Findings(text, extra_t)))
+    offers.sort(key=lambda a: (VERDICT_ORDER.index(a.verdict), a.kind, a.unit))
     return Result(plan=plan, derived=derived, setups=tuple(setups), excluded=tuple(excluded),
                   cautions=tuple(plan_cautions(plan, derived)), on=on,
-                  accessories=tuple(accessories))
+                  accessories=tuple(offers), combinations=n)
+
+
+def _names(inst_model: str, acc_models: tuple[str, ...], fleet: Fleet) -> dict[str, str]:
+    names = {SLOT_KEYS["instrument"]: inst_model}
+    for key in acc_models:
+        names[SLOT_KEYS[_slot(fleet.models[key])]] = key
+    return names

@@ -54,6 +54,78 @@ def deciding_finding(findings) -> Finding | None:
     return min(findings, key=key)
 
 
+def _key_of(f: Finding):
+    """How a finding decides (smaller decides): the worst status, then the least headroom."""
+    return (-_SEVERITY[f.status], f.margin if f.margin is not None else math.inf)
+
+
+class SharedFindings:
+    """The findings of one model combination, shared by every setup built on it.
+
+    ``make`` gives them when first asked for; ``decider`` gives the deciding one alone (the
+    JSON result and the ranking read only that), so a check of many units writes out the
+    findings of the setups someone reads and no others.
+    """
+
+    __slots__ = ("_make", "_decider", "_all", "_deciding", "key")
+
+    def __init__(self, make, decider=None, key=None):
+        self._make = make
+        self._decider = decider
+        self._all: tuple[Finding, ...] | None = None
+        self._deciding: Finding | None = None
+        self.key = key  # _key_of the deciding finding, when known without making it
+
+    @classmethod
+    def of(cls, findings) -> SharedFindings:
+        found = tuple(findings)
+        d = deciding_finding(found)
+        shared = cls(lambda: found, key=None if d is None else _key_of(d))
+        shared._all, shared._deciding = found, d
+        return shared
+
+    def all(self) -> tuple[Finding, ...]:
+        if self._all is None:
+            self._all = tuple(self._make())
+        return self._all
+
+    def deciding(self) -> Finding | None:
+        if self._deciding is None:
+            self._deciding = (self._decider() if self._decider is not None
+                              else deciding_finding(self.all()))
+        return self._deciding
+
+
+class Findings:
+    """A setup's findings: its combination's (shared) and then its units' own (history)."""
+
+    __slots__ = ("shared", "extra")
+
+    def __init__(self, shared: SharedFindings, extra: tuple[Finding, ...] = ()):
+        self.shared = shared
+        self.extra = extra
+
+    @classmethod
+    def of(cls, findings) -> Findings:
+        return cls(SharedFindings.of(findings))
+
+    def all(self) -> tuple[Finding, ...]:
+        return self.shared.all() + self.extra if self.extra else self.shared.all()
+
+    def deciding(self) -> Finding | None:
+        """As :func:`deciding_finding` over :meth:`all` (the first of equals: the shared)."""
+        own = deciding_finding(self.extra)
+        if own is None:
+            return self.shared.deciding()
+        key = self.shared.key
+        if key is None:
+            d = self.shared.deciding()
+            if d is None:
+                return own
+            key = _key_of(d)
+        return self.shared.deciding() if key <= _key_of(own) else own
+
+
 @dataclass(frozen=True)
 class SetupResult:
     instrument: str  # unit tag
@@ -61,7 +133,7 @@ class SetupResult:
     accessories: tuple[str, ...]  # unit tags, lead first
     verdict: str
     margin: float | None
-    findings: tuple[Finding, ...]
+    found: Findings
     instrument_model: str = ""
     accessory_models: tuple[str, ...] = ()
     accessory_sites: tuple[str | None, ...] = ()
@@ -69,6 +141,10 @@ class SetupResult:
     site: str | None = None
     verification_due: date | None = None
     instrument_kind: str = ""
+
+    @property
+    def findings(self) -> tuple[Finding, ...]:
+        return self.found.all()
 
     @property
     def cross_site(self) -> tuple[str, ...]:
@@ -79,23 +155,27 @@ class SetupResult:
 
     @property
     def deciding(self) -> Finding | None:
-        return deciding_finding(self.findings)
+        return self.found.deciding()
 
     @property
     def margin_ratio(self) -> float | None:
         """The deciding finding's available / required."""
         return margin_ratio(self.margin)
 
-    def as_dict(self) -> dict:
+    def as_dict(self, findings: bool = True) -> dict:
+        """The setup in withstand-result/1; its findings only when ``findings`` is set (the
+        deciding one is always there)."""
         d = self.deciding
-        return {"instrument": self.instrument, "mode": self.mode,
-                "accessories": list(self.accessories), "verdict": self.verdict,
-                "margin": _clean(self.margin), "margin_ratio": _clean(self.margin_ratio),
-                "deciding": None if d is None else {"check": d.check, "subject": d.subject,
-                                                    "message": d.message},
-                "findings": [dict(f.as_dict(), margin=_clean(f.margin),
-                                  margin_ratio=_clean(margin_ratio(f.margin)))
-                             for f in self.findings]}
+        out = {"instrument": self.instrument, "mode": self.mode,
+               "accessories": list(self.accessories), "verdict": self.verdict,
+               "margin": _clean(self.margin), "margin_ratio": _clean(self.margin_ratio),
+               "deciding": None if d is None else {"check": d.check, "subject": d.subject,
+                                                   "message": d.message}}
+        if findings:
+            out["findings"] = [dict(f.as_dict(), margin=_clean(f.margin),
+                                    margin_ratio=_clean(margin_ratio(f.margin)))
+                               for f in self.findings]
+        return out
 
 
 @dataclass(frozen=True)
@@ -113,7 +193,11 @@ class AccessoryResult:
     accessories: tuple[str, ...]
     margin: float | None = None
     reason: Finding | None = None
-    findings: tuple[Finding, ...] = ()  # of that setup, for --explain; not in the JSON
+    found: Findings | None = None  # of that setup, for --explain; not in the JSON
+
+    @property
+    def findings(self) -> tuple[Finding, ...]:
+        return () if self.found is None else self.found.all()
 
     @property
     def fits(self) -> bool:
@@ -190,6 +274,7 @@ class Result:
     cautions: tuple[str, ...] = ()
     on: date | None = None
     accessories: tuple[AccessoryResult, ...] = ()
+    combinations: int = 0  # model combinations judged (after sharing copies of a model)
 
     def setups_for(self, tag: str) -> tuple[SetupResult, ...]:
         """The setups whose instrument or accessory is the unit ``tag``."""
@@ -254,10 +339,30 @@ class Result:
                     "check": why[0], "setups": why[1], "of": len(self.setups),
                     "message": why[2].message}}
 
-    def as_json(self) -> dict:
+    def counts(self) -> dict:
+        """How many of each: the setups by verdict, the accessory units by verdict, the units
+        left out, and the model combinations the engine judged to reach these."""
+        def by_verdict(items):
+            out = {v: 0 for v in VERDICT_ORDER}
+            for x in items:
+                out[x.verdict] += 1
+            return out
+        return {"setups": len(self.setups), "setups_by_verdict": by_verdict(self.setups),
+                "accessories": len(self.accessories),
+                "accessories_by_verdict": by_verdict(self.accessories),
+                "excluded": len(self.excluded), "combinations": self.combinations}
+
+    def as_json(self, findings: bool | str = False) -> dict:
+        """withstand-result/1. Each setup carries its deciding finding; all its findings only
+        when ``findings`` is set: ``True`` for every setup, a unit tag for that unit's."""
+        def wanted(s: SetupResult) -> bool:
+            if isinstance(findings, str):
+                return s.instrument == findings or findings in s.accessories
+            return bool(findings)
         return {"format": FORMAT, "summary": self.summary_dict(),
                 "plan": plan_as_dict(self.plan, self.derived),
-                "setups": [s.as_dict() for s in self.setups],
+                "counts": self.counts(),
+                "setups": [s.as_dict(wanted(s)) for s in self.setups],
                 "accessories": [a.as_dict() for a in self.accessories],
                 "excluded": [e.as_dict() for e in self.excluded],
                 "cautions": list(self.cautions)}

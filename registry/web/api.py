@@ -20,7 +20,7 @@ from sqlalchemy import select
 from sqlalchemy.orm import selectinload
 
 from .. import units as u
-from ..errors import Conflict, FieldProblem, InvalidInput, NotAllowed, NotFound
+from ..errors import Conflict, FieldProblem, InvalidInput, NotAllowed, NotFound, shown
 from ..extensions import csrf, db
 from ..formats.common import parse_date, text_defaults
 from ..formats.fleet import ModelDoc, model_to_document, unit_to_document
@@ -261,8 +261,11 @@ def model(key: str):
 def checks():
     """Check a job plan against the fleet"""
     doc = json_body()
+    findings = request.args.get("findings", "0")
+    if findings not in ("0", "1"):
+        raise InvalidInput(f"'{shown(findings)}' is not 0 or 1", "findings")
     result = check_registry(plan_from(doc, db.session, _date_arg("on")), db.session)
-    return result.as_json()
+    return result.as_json(findings=findings == "1")
 
 
 @bp.route("/events")

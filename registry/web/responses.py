@@ -156,7 +156,8 @@ class Setup(_OpenAnswer):
     accessories: list[str]
     verdict: VerdictText
     margin_ratio: float | None
-    findings: list[Finding] = []
+    findings: list[Finding] = Field([], description="every finding of the setup, only when "
+                                                    "asked (?findings=1)")
 
 
 class Result(_OpenAnswer):
@@ -166,6 +167,8 @@ class Result(_OpenAnswer):
     summary: dict = Field(description="one line on what the job gets (text), whether a setup "
                                       "fits, the best setup or the commonest reason none does")
     plan: dict
+    counts: dict = Field({}, description="how many setups and accessory units of each "
+                                         "verdict, units left out, model combinations judged")
     setups: list[Setup]
     accessories: list[dict] = Field(description="every accessory unit that could join a "
                                                 "setup, its best verdict and the reason when "

@@ -136,6 +136,8 @@ class UnitsQuery(_Query):
 
 class CheckQuery(_Query):
     on: date | SkipJsonSchema[None] = Field(None, description="date of the job; default today")
+    findings: Literal["0", "1"] | SkipJsonSchema[None] = Field(
+        None, description="1: every setup's findings, not only the deciding one; default 0")
 
 
 class EventsQuery(_Query):

@@ -461,10 +461,11 @@ def test_extra_checks_receive_the_context_and_add_findings():
 def test_json_has_the_result_format():
     fleet = fleet_of([meter(), leads()], [unit("M1", "mx-3"), unit("L1", "tl-4"),
                                           unit("M9", "mx-3", status="away")])
-    out = evaluate(panel_plan(), fleet).as_json()
+    result = evaluate(panel_plan(), fleet)
+    out = result.as_json(findings=True)
     assert out["format"] == "withstand-result/1"
-    assert set(out) == {"format", "summary", "plan", "setups", "accessories", "excluded",
-                        "cautions"}
+    assert set(out) == {"format", "summary", "plan", "counts", "setups", "accessories",
+                        "excluded", "cautions"}
     for key in ("transient", "energy", "prospective_current", "hazardous_live"):
         assert key in out["plan"]
     assert out["plan"]["transient"] == 4000.0
@@ -475,6 +476,12 @@ def test_json_has_the_result_format():
                                      "message", "source"}
     assert out["excluded"] == [{"unit": "M9", "reason": "away"}]
     assert any("qualified person" in c for c in out["cautions"])
+    # without asking: the same setups with their deciding finding, no list of findings
+    brief = result.as_json()
+    assert [dict(x, findings=None) for x in out["setups"]] == \
+        [dict(x, findings=None) for x in brief["setups"]]
+    assert "findings" not in brief["setups"][0]
+    assert brief["counts"]["excluded"] == 1 and brief["counts"]["setups"] == len(result.setups)
 
 
 def test_cautions_state_hazards_plainly():

@@ -153,6 +153,12 @@ def test_post_checks_returns_the_result_format(client, tokens):
     # E = C V^2 / 2 = 2e-3 F * 800^2 V^2 / 2 = 640 J (SPEC §5.9)
     assert body["plan"]["energy"] == pytest.approx(640.0)
     assert body["cautions"]
+    # findings only when asked; the deciding one always
+    assert "findings" not in body["setups"][0] and body["setups"][0]["deciding"]["message"]
+    full = client.post("/api/v1/checks?on=2026-12-01&findings=1", headers=h, json=PLAN)
+    first = full.get_json()["setups"][0]
+    assert first["instrument"] == "BL-0002" and first["findings"]
+    assert first["deciding"]["message"] in [f["message"] for f in first["findings"]]
 
 
 def test_post_checks_errors(client, tokens):
@@ -167,6 +173,8 @@ def test_post_checks_errors(client, tokens):
     assert r.status_code == 400 and r.get_json()["error"]["problems"][0]["field"] == ""
     r = client.post("/api/v1/checks?on=tomorrow", headers=h, json=PLAN)
     assert r.status_code == 400 and r.get_json()["error"]["problems"][0]["field"] == "on"
+    r = client.post("/api/v1/checks?findings=yes", headers=h, json=PLAN)
+    assert r.status_code == 400 and r.get_json()["error"]["problems"][0]["field"] == "findings"
     big = json.dumps(dict(PLAN, title="x" * (1024 * 1024 + 10)))
     r = client.post("/api/v1/checks", headers=h, data=big, content_type="application/json")
     assert r.status_code == 413 and r.get_json()["error"]["status"] == 413
