@@ -10,7 +10,7 @@ from registry.cli import main
 
 def test_the_cli_reports_the_front_end_discharge(runner, demo):
     plan = str(resources.files("registry.seeddata") / "plans" / "dc-link-discharge.yaml")
-    result = runner.invoke(main, ["check", plan, "--on", "2026-12-02", "--json", "--all"],
+    result = runner.invoke(main, ["check", plan, "--on", "2026-12-02", "--json", "--findings"],
                            catch_exceptions=False)
     doc = json.loads(result.output)
     kx7 = next(s for s in doc["setups"] if s["instrument"] == "NB-0001" and s["mode"] == "lowz")

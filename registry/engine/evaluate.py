@@ -9,7 +9,7 @@ accessory unit that could join a setup is listed with the best verdict it takes 
 
 from __future__ import annotations
 
-import dataclasses
+import copy
 import math
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
@@ -136,7 +136,12 @@ def _renamed(f: Finding, names: dict[str, str]) -> Finding:
         for stand_in, real in names.items():
             t = t.replace(stand_in, real)
         out.append(t)
-    return Finding(f.check, f.status, out[0], out[1], out[4], out[2], out[3], f.margin)
+    # only the texts change, and they were checked and rendered when ``f`` was made
+    new = copy.copy(f)
+    for name, text in zip(("subject", "message", "required", "available", "source"), out,
+                          strict=True):
+        object.__setattr__(new, name, text)
+    return new
 
 
 class _Combo:
@@ -240,7 +245,7 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
     for key, model in fleet.models.items():
         if key not in available:
             continue
-        content = dataclasses.replace(model, key=SLOT_KEYS[_slot(model)]) if share else model
+        content = model.with_key(SLOT_KEYS[_slot(model)]) if share else model
         cid = by_content.setdefault(content, len(reps))
         if cid == len(reps):
             reps.append(content)
@@ -301,19 +306,23 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
     # -- instrument units, grouped by what decides their choice --------------------------------
     groups: dict[tuple, list[UnitState]] = {}
     own_of: dict[tuple, list[Finding]] = {}
+    modes_of: dict[int, list[str]] = {}
+    for icid, mode_key in options:
+        modes_of.setdefault(icid, []).append(mode_key)
+    usable = {id(u) for key, units in available.items() if fleet.models[key].is_instrument
+              for u in units}
     for unit in fleet.units:
-        if unit.model not in available or not fleet.models[unit.model].is_instrument:
-            continue
-        if unit not in available[unit.model]:
+        if id(unit) not in usable:
             continue
         cid = class_of[unit.model]
-        for (icid, mode_key) in options:
-            if icid != cid:
-                continue
+        for mode_key in modes_of.get(cid, ()):
             own = unit_history(unit, mode_key)
-            g = (icid, mode_key, unit.site, unit.tag if own else None)
-            groups.setdefault(g, []).append(unit)
-            own_of[g] = own
+            g = (cid, mode_key, unit.site, unit.tag if own else None)
+            members = groups.get(g)
+            if members is None:
+                members = groups[g] = []
+                own_of[g] = own
+            members.append(unit)
 
     def weigh(combo: _Combo, site: str | None, own: list[Finding]):
         accs = [chosen(c, site) for c in combo.slots]
@@ -361,14 +370,15 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
     for cid, units in pools.items():
         for u in units:
             acc_groups.setdefault((cid, u.tag if unit_history(u, None) else None), []).append(u)
+    # the unit that stands for its group in an accessory's best setup: the first by tag
+    leaders = {g: min(units, key=lambda u: u.tag) for g, units in groups.items()}
     offers: list[AccessoryResult] = []
     for (cid, _tag), members in acc_groups.items():
         sample = members[0]
         while True:
             found_best = None
-            for g, units in groups.items():
+            for g, first in leaders.items():
                 icid, mode_key, site, _ = g
-                first = min(units, key=lambda u: u.tag)
                 for combo in options[(icid, mode_key)]:
                     for i, slot in enumerate(combo.slots):
                         if slot != cid:

@@ -10,6 +10,8 @@ takes them as they are and touches neither.
 
 from __future__ import annotations
 
+import copy
+
 import math
 from dataclasses import dataclass, field
 from datetime import date, datetime
@@ -266,6 +268,15 @@ class ModelSpec:
 
     def mode(self, key: str) -> Mode | None:
         return next((m for m in self.modes if m.key == key), None)
+
+    def with_key(self, key: str) -> ModelSpec:
+        """The same validated model under another key (a copy registered twice): only the key
+        is new, so only the key is checked."""
+        if not key:
+            raise SpecError("model.key must not be empty")
+        out = copy.copy(self)
+        object.__setattr__(out, "key", key)
+        return out
 
 
 # -- units and their history -------------------------------------------------------------------

@@ -17,7 +17,7 @@ from ..engine.result import Result
 from ..engine.spec import Fleet, Plan
 from ..plans import parse_plan
 from ..store import models as m
-from ..store.fleet import engine_fleet
+from ..store.loading import engine_fleet
 
 
 def site_altitudes(session: Session) -> dict[str, float]:

@@ -10,7 +10,6 @@ from datetime import datetime, timezone
 from sqlalchemy import func, insert, select, update
 from sqlalchemy.orm import Session
 
-from ..engine import spec
 from ..formats.fleet import (FleetContent, UnitRecord, model_to_document, parse_fleet,
                               unit_to_document)
 from . import models as m
@@ -260,18 +259,6 @@ def fleet_is_empty(session: Session) -> bool:
     return not session.scalar(select(func.count()).select_from(m.Model))
 
 
-def engine_fleet(session: Session) -> spec.Fleet:
-    """The fleet as the engine sees it: model specs by key and unit states with history."""
-    models = {x.key: model_spec(x) for x in all_models(session)}
-    open_holds = set(session.scalars(select(m.Hold.unit_id).where(m.Hold.released_at.is_(None))))
-    history: dict[int, list[spec.PastEvent]] = {}
-    for ev in session.scalars(select(m.Event).order_by(m.Event.id)):
-        history.setdefault(ev.unit_id, []).append(spec.PastEvent(
-            mode=ev.mode_key, kind=ev.kind, within_rating=ev.within_rating,
-            occurred_at=ev.occurred_at, clamp_conducted=ev.clamp_conducted,
-            waveform=ev.waveform))
-    units = tuple(spec.UnitState(
-        tag=u.tag, model=u.model.key, status=u.status, site=u.site.name if u.site else None,
-        verification_due=u.verification_due, open_hold=u.id in open_holds,
-        history=tuple(history.get(u.id, ()))) for u in all_units(session))
-    return spec.Fleet(models=models, units=units)
+# The fleet as the engine sees it is loaded by store/loading.py (plain rows, fast); the name
+# stays importable from here for callers written before it moved.
+from .loading import engine_fleet  # noqa: E402,F401

@@ -21,7 +21,7 @@ from ..formats.common import not_utf8, parse_date, parse_text
 from ..plans import CIRCUIT_QUANTITIES, FORMAT
 from ..store import queries
 from ..services.checks import plan_from, run_check
-from ..store.fleet import engine_fleet
+from ..store.loading import engine_fleet
 from ..store.solves import kept_solves
 from ..store.versions import fleet_version
 from .access import role_required

@@ -21,7 +21,7 @@ from registry.errors import InvalidInput, NotAllowed, NotFound
 from registry.formats.fleet import load_fleet_file
 from registry.store import models as m
 from registry.services.events import log_event
-from registry.store.fleet import engine_fleet
+from registry.store.loading import engine_fleet
 from registry.services.holds import release_hold
 
 ON = date(2026, 12, 2)

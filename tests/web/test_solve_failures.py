@@ -52,7 +52,8 @@ def test_check_page_and_api_answer_for_the_reproduction(client, fleet):
     assert r.status_code == 200
     assert {tag for _v, _i, tag in _rows(r.get_data(as_text=True))} == {"TB-0001", "TB-0003"}
     token = api_token(fleet, "viewer")
-    r = client.post("/api/v1/checks?on=2026-12-02", headers=bearer(token), json=PLAN_DOC)
+    r = client.post("/api/v1/checks?on=2026-12-02&findings=1", headers=bearer(token),
+                    json=PLAN_DOC)
     assert r.status_code == 200
     setups = {(s["instrument"], s["mode"]): s for s in r.get_json()["setups"]}
     # with the tripped-state search fixed, the low-Z mode solves: no solve failure is reported
@@ -75,7 +76,8 @@ def test_a_failed_solve_is_unverified_on_the_page_drawing_and_api(client, fleet,
     assert svg.status_code == 200 and "<svg" in svg.get_data(as_text=True)
 
     token = api_token(fleet, "viewer")
-    r = client.post("/api/v1/checks?on=2026-12-02", headers=bearer(token), json=PLAN_DOC)
+    r = client.post("/api/v1/checks?on=2026-12-02&findings=1", headers=bearer(token),
+                    json=PLAN_DOC)
     assert r.status_code == 200
     setups = {(s["instrument"], s["mode"]): s for s in r.get_json()["setups"]}
     lowz = setups[("TB-0001", "lowz")]

@@ -1,0 +1,179 @@
+"""The shared, pruned evaluation against the exhaustive one (hypothesis).
+
+`evaluate` judges copies of a model once by content, runs check 10 only for combinations that
+checks 1 to 9 leave standing or that a unit ends up with, and makes one choice for units of a
+model that share a site and have no history. `evaluate_exhaustive` judges every combination
+of every model under its own key with every check and weighs every option of every unit (the
+engine as it was). On random fleets (copies of models, some changed, units at random sites
+and states, with and without history, a front end on some instruments) both must give the
+same verdict for every unit and mode, and the same best verdict for every accessory unit.
+The reference is the project's own earlier engine, run beside it: the rules themselves are
+checked against their sources in test_checks.py and tests/network/.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from datetime import date, datetime
+
+from hypothesis import HealthCheck, given, settings, strategies as st
+
+from registry.demo import demo_fleet_path
+from registry.engine.evaluate import evaluate
+from registry.engine.exhaustive import evaluate_exhaustive
+from registry.engine.spec import Fleet, PastEvent, UnitState
+from registry.formats.fleet import fleet_from_file
+
+from builders import JOB_DAY
+from test_properties import models, plans
+
+SITES = ("North bench", "Substation yard", None)
+DEMO_FRONT_END = fleet_from_file(demo_fleet_path()).models["kx-7"].front_end
+
+
+@st.composite
+def fleets(draw):
+    """Copies of a random instrument and lead (some exact, some with one rating changed, one
+    instrument with the demo KX-7's front end), and units of them in random states."""
+    inst, lead = draw(models())
+    chosen = []
+    for i in range(draw(st.integers(1, 3))):
+        m = dataclasses.replace(inst, key=f"m{i}")
+        if draw(st.booleans()) and m.ratings:
+            r = m.ratings[0]
+            m = dataclasses.replace(m, ratings=(dataclasses.replace(
+                r, voltage=r.voltage * draw(st.sampled_from([0.5, 1.0, 2.0]))),) + m.ratings[1:])
+        if draw(st.booleans()):
+            m = dataclasses.replace(m, front_end=DEMO_FRONT_END, modes=tuple(
+                dataclasses.replace(md, terminals=("V", "COM") if md.key != "a" else ("A", "COM"))
+                for md in m.modes))
+        chosen.append(m)
+    for i in range(draw(st.integers(1, 3))):
+        ll = dataclasses.replace(lead, key=f"l{i}")
+        if draw(st.booleans()):
+            ll = dataclasses.replace(ll, tip_exposure=draw(st.sampled_from([None, 1e-3, 19e-3])))
+        chosen.append(ll)
+    units = []
+    for n in range(draw(st.integers(2, 10))):
+        model = draw(st.sampled_from(chosen))
+        history = ()
+        if draw(st.integers(0, 4)) == 0:
+            history = (PastEvent(mode=draw(st.sampled_from([None, "v", "a"])),
+                                 kind=draw(st.sampled_from(["overvoltage", "transient"])),
+                                 within_rating=draw(st.sampled_from([None, False, True])),
+                                 occurred_at=datetime(2026, 3, 1, 9, 0)),)
+        units.append(UnitState(
+            tag=f"U{n}", model=model.key,
+            status=draw(st.sampled_from(["in-service"] * 4 + ["away"])),
+            site=draw(st.sampled_from(SITES)),
+            verification_due=draw(st.sampled_from([date(2027, 1, 1), date(2026, 9, 1), None])),
+            history=history))
+    return Fleet(models={m.key: m for m in chosen}, units=tuple(units))
+
+
+DEMO = fleet_from_file(demo_fleet_path())
+DEMO_PLANS = ("mains-panel", "service-entrance", "dc-link", "dc-link-discharge",
+              "hv-supply-divider", "motor-feeder-current", "field-station-socket")
+
+
+@st.composite
+def demo_fleets(draw):
+    """Copies of the demo lab's models (some exact, some with a rating scaled), with random
+    units: the setups that fit the demo plans, and those that do not, mixed."""
+    keys = draw(st.lists(st.sampled_from(sorted(DEMO.models)), min_size=2, max_size=9,
+                         unique=True))
+    chosen = []
+    for key in keys:
+        for c in range(draw(st.integers(1, 3))):
+            m = dataclasses.replace(DEMO.models[key], key=f"{key}-c{c}")
+            if m.ratings and draw(st.integers(0, 3)) == 0:
+                r = m.ratings[0]
+                m = dataclasses.replace(m, ratings=(dataclasses.replace(
+                    r, voltage=r.voltage * draw(st.sampled_from([0.5, 2.0]))),) + m.ratings[1:])
+            chosen.append(m)
+    units = []
+    for n in range(draw(st.integers(2, 14))):
+        model = draw(st.sampled_from(chosen))
+        history = ()
+        if draw(st.integers(0, 5)) == 0:
+            history = (PastEvent(mode=None, kind="transient",
+                                 within_rating=draw(st.sampled_from([None, False])),
+                                 occurred_at=datetime(2026, 3, 1, 9, 0)),)
+        units.append(UnitState(
+            tag=f"U{n}", model=model.key,
+            status=draw(st.sampled_from(["in-service"] * 5 + ["retired"])),
+            site=draw(st.sampled_from(SITES)),
+            verification_due=draw(st.sampled_from([date(2027, 1, 1), date(2026, 12, 30),
+                                                   None])), history=history))
+    return Fleet(models={m.key: m for m in chosen}, units=tuple(units))
+
+
+def demo_plan(name):
+    from importlib import resources
+
+    from registry.plans import load_plan
+    return load_plan(resources.files("registry.seeddata") / "plans" / f"{name}.yaml",
+                     on=date(2026, 12, 2))
+
+
+def _verdicts(result):
+    return ({(s.instrument, s.mode): s.verdict for s in result.setups},
+            {a.unit: a.verdict for a in result.accessories},
+            sorted((x.unit, x.reason) for x in result.excluded))
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(fleets(), plans())
+def test_pruned_evaluation_gives_the_exhaustive_verdicts(fleet, plan):
+    fast, full = evaluate(plan, fleet), evaluate_exhaustive(plan, fleet)
+    setups, accessories, excluded = _verdicts(fast)
+    assert (setups, accessories, excluded) == _verdicts(full)
+    # one setup per unit and mode, as the exhaustive evaluation offers
+    assert len(fast.setups) == len(full.setups)
+    # every setup's verdict and margin are those of its own findings (its deciding finding's
+    # margin), written with the real model keys, never a stand-in
+    for s in fast.setups:
+        found = s.findings
+        assert s.deciding in found
+        assert s.margin == s.deciding.margin if s.deciding is not None else s.margin is None
+        assert all("\x00" not in f.message and "\x00" not in f.subject for f in found)
+        assert s.instrument_model in fleet.models
+    assert fast.summary.split(":")[0] == full.summary.split(":")[0]
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(demo_fleets(), st.sampled_from(DEMO_PLANS))
+def test_pruned_evaluation_gives_the_exhaustive_verdicts_on_the_demo_plans(fleet, name):
+    plan = demo_plan(name)
+    fast, full = evaluate(plan, fleet), evaluate_exhaustive(plan, fleet)
+    assert _verdicts(fast) == _verdicts(full)
+    assert fast.summary.split(":")[0] == full.summary.split(":")[0]
+    # the best setup a user reads first is as good as the exhaustive one's
+    if full.setups:
+        assert fast.setups[0].verdict == full.setups[0].verdict
+
+
+def test_copies_of_a_model_share_one_evaluation_and_keep_their_names():
+    base = fleet_from_file(demo_fleet_path())
+    kx7 = base.models["kx-7"]
+    ld4 = base.models["bw-ld4"]
+    models = {f"kx-7-c{i}": dataclasses.replace(kx7, key=f"kx-7-c{i}") for i in range(5)}
+    models["bw-ld4"] = ld4
+    units = [UnitState(tag=f"M{i}", model=f"kx-7-c{i}", site="North bench",
+                       verification_due=date(2027, 1, 1)) for i in range(5)]
+    units.append(UnitState(tag="L1", model="bw-ld4", site="North bench",
+                           verification_due=date(2027, 1, 1)))
+    fleet = Fleet(models=models, units=tuple(units))
+    from registry.plans import load_plan
+    from importlib import resources
+    plan = load_plan(resources.files("registry.seeddata") / "plans" / "mains-panel.yaml",
+                     on=JOB_DAY)
+    fast, full = evaluate(plan, fleet), evaluate_exhaustive(plan, fleet)
+    # five copies, one content: the shared evaluation judges a fifth of the combinations
+    assert fast.combinations * 5 == full.combinations
+    # each copy's findings name that copy, as the exhaustive evaluation writes them
+    by_unit = {(s.instrument, s.mode): [f.message for f in s.findings] for s in full.setups}
+    for s in fast.setups:
+        assert [f.message for f in s.findings] == by_unit[(s.instrument, s.mode)]
+        assert any(s.instrument_model in f.message or s.instrument_model == f.subject
+                   for f in s.findings)
