@@ -3,12 +3,15 @@
 import sys
 
 from . import (bench_audit, bench_check, bench_import, bench_network, bench_pages,
-               bench_reimport)
+               bench_reimport, bench_scale_check, bench_scale_json, bench_scale_memory)
 
 args = ["--smoke"] if "--smoke" in sys.argv[1:] else []
 bench_network.main(args)
 bench_check.main(args)
 # the scale targets: each prints its ratio against its limit, measured in the same run
+bench_scale_check.main(args)
+bench_scale_memory.main(args)
+bench_scale_json.main(args)
 bench_import.main(args)
 bench_reimport.main(args)
 bench_audit.main(args)

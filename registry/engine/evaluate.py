@@ -9,7 +9,6 @@ accessory unit that could join a setup is listed with the best verdict it takes 
 
 from __future__ import annotations
 
-import copy
 import math
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
@@ -18,11 +17,11 @@ from datetime import date
 from .checks import CHECKS
 from .derived import derive
 from .dead_work import check_proving_dead
-from .findings import _SEVERITY, Finding
+from .findings import Finding
 from .history import check_history, exclusion_reason, plan_cautions
 from .protection import protection_path_check
-from .result import (VERDICT_ORDER, AccessoryResult, Excluded, Findings, Result, SetupResult,
-                     SharedFindings, _key_of, deciding_finding, sort_key)
+from .result import (SEVERITY, VERDICT_ORDER, AccessoryResult, Excluded, Findings, Result,
+                     SetupResult, SharedFindings, _key_of, deciding_finding, sort_key)
 from .setups import SetupContext, check_setup, enumerate_setups
 from .spec import LEAD_KINDS, Fleet, ModelSpec, Plan, SpecError, UnitState
 
@@ -84,8 +83,8 @@ class _Part:
 
 def _part(findings, model_key: str, tag: str | None) -> _Part:
     own = [f for f in findings if _own(f, model_key, tag)]
-    return _Part(max((_SEVERITY[f.status] for f in findings), default=0),
-                 deciding_finding(findings), max((_SEVERITY[f.status] for f in own), default=0),
+    return _Part(max((SEVERITY[f.status] for f in findings), default=0),
+                 deciding_finding(findings), max((SEVERITY[f.status] for f in own), default=0),
                  deciding_finding(own), bool(own))
 
 
@@ -137,10 +136,9 @@ def _renamed(f: Finding, names: dict[str, str]) -> Finding:
             t = t.replace(stand_in, real)
         out.append(t)
     # only the texts change, and they were checked and rendered when ``f`` was made
-    new = copy.copy(f)
-    for name, text in zip(("subject", "message", "required", "available", "source"), out,
-                          strict=True):
-        object.__setattr__(new, name, text)
+    new = object.__new__(Finding)
+    new.__dict__.update(f.__dict__, subject=out[0], message=out[1], required=out[2],
+                        available=out[3], source=out[4])
     return new
 
 
@@ -161,12 +159,12 @@ class _Combo:
         self.done = False
         self._parts: dict[int, _Part] = {}
         self._sum()
-        if self.worst < _SEVERITY["fail"]:
+        if self.worst < SEVERITY["fail"]:
             self.complete()
 
     def _sum(self) -> None:
         found = self.findings
-        self.worst = max((_SEVERITY[f.status] for f in found), default=0)
+        self.worst = max((SEVERITY[f.status] for f in found), default=0)
         self.counts = tuple(sum(1 for f in found if f.status == k)
                             for k in ("fail", "unknown", "caution"))
         self.deciding = deciding_finding(found)
@@ -196,7 +194,7 @@ def _stats(combo: _Combo, extra: list[Finding]):
     """(severity, counts, deciding finding) of the combination's findings then ``extra``."""
     if not extra:
         return combo.worst, combo.counts, combo.deciding
-    worst = max(combo.worst, max(_SEVERITY[f.status] for f in extra))
+    worst = max(combo.worst, max(SEVERITY[f.status] for f in extra))
     counts = tuple(c + sum(1 for f in extra if f.status == k)
                    for c, k in zip(combo.counts, ("fail", "unknown", "caution"), strict=True))
     own = deciding_finding(extra)
@@ -316,7 +314,8 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
             continue
         cid = class_of[unit.model]
         for mode_key in modes_of.get(cid, ()):
-            own = unit_history(unit, mode_key)
+            own = unit_history(unit, mode_key) if (
+                unit.history or unit.verification_due is None) else []
             g = (cid, mode_key, unit.site, unit.tag if own else None)
             members = groups.get(g)
             if members is None:
@@ -354,15 +353,15 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
         acc_sites = tuple(u.site for u in accs)
         extra_t = tuple(extra)
         label = combo.ctx.mode.label
+        kind = reps[icid].kind
+        common = dict(mode=mode_key, accessories=acc_tags, verdict=verdict, margin=margin,
+                      accessory_models=acc_models, accessory_sites=acc_sites, mode_label=label,
+                      instrument_kind=kind)
         for unit in members:
-            model = fleet.models[unit.model]
-            setups.append(SetupResult(
-                instrument=unit.tag, mode=mode_key, accessories=acc_tags, verdict=verdict,
-                margin=margin, found=Findings(shared_text(combo, unit.model, acc_models),
-                                              extra_t),
-                instrument_model=unit.model, accessory_models=acc_models,
-                accessory_sites=acc_sites, mode_label=label, site=unit.site,
-                verification_due=unit.verification_due, instrument_kind=model.kind))
+            setups.append(_setup(common, instrument=unit.tag, instrument_model=unit.model,
+                                 found=Findings(shared_text(combo, unit.model, acc_models),
+                                                extra_t),
+                                 site=unit.site, verification_due=unit.verification_due))
     setups.sort(key=lambda s: sort_key(s, plan.site, plan.task))
 
     # -- accessory units: the best setup each takes part in ------------------------------------
@@ -370,6 +369,14 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
     for cid, units in pools.items():
         for u in units:
             acc_groups.setdefault((cid, u.tag if unit_history(u, None) else None), []).append(u)
+    reasons: dict[tuple, Finding] = {}
+
+    def reason_text(reason: Finding, inst_model: str, acc_models: tuple[str, ...]) -> Finding:
+        k = (id(reason), inst_model, acc_models)
+        if k not in reasons:
+            reasons[k] = _renamed(reason, _names(inst_model, acc_models, fleet))
+        return reasons[k]
+
     # the unit that stands for its group in an accessory's best setup: the first by tag
     leaders = {g: min(units, key=lambda u: u.tag) for g, units in groups.items()}
     offers: list[AccessoryResult] = []
@@ -407,8 +414,8 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
             text = shared_text(combo, first.model, acc_models)
             names_reason = None
             if reason is not None:
-                names_reason = reason if not share else _renamed(reason, _names(
-                    first.model, acc_models, fleet))
+                names_reason = reason if not share else reason_text(
+                    reason, first.model, acc_models)
             offers.append(AccessoryResult(
                 unit=u.tag, model=u.model, kind=kind, verdict=verdict, instrument=first.tag,
                 mode=combo.ctx.mode.key, accessories=tuple(x.tag for x in units_here),
@@ -417,6 +424,15 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
     return Result(plan=plan, derived=derived, setups=tuple(setups), excluded=tuple(excluded),
                   cautions=tuple(plan_cautions(plan, derived)), on=on,
                   accessories=tuple(offers), combinations=n)
+
+
+def _setup(common: dict, **own) -> SetupResult:
+    """A SetupResult from the fields its group shares and its unit's own. Made as the frozen
+    dataclass's __init__ would (it checks nothing), without its per-field frozen setattr: a
+    check of 50 000 units makes one per unit and mode."""
+    out = object.__new__(SetupResult)
+    out.__dict__.update(common, **own)
+    return out
 
 
 def _names(inst_model: str, acc_models: tuple[str, ...], fleet: Fleet) -> dict[str, str]:

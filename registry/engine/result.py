@@ -15,6 +15,8 @@ from .spec import Plan
 FORMAT = "withstand-result/1"
 VERDICT_ORDER = ("suitable", "conditional", "unverified", "unsuitable")
 FITTING = ("suitable", "conditional")
+# The severity of a status, looked up by its text (a Status is a str and hashes as one).
+SEVERITY: dict[str, int] = {str(k): v for k, v in _SEVERITY.items()}
 
 
 def _clean(x):
@@ -50,13 +52,13 @@ def deciding_finding(findings) -> Finding | None:
         return None
     def key(f):
         m = f.margin if f.margin is not None else math.inf
-        return (-_SEVERITY[f.status], m)
+        return (-SEVERITY[f.status], m)
     return min(findings, key=key)
 
 
 def _key_of(f: Finding):
     """How a finding decides (smaller decides): the worst status, then the least headroom."""
-    return (-_SEVERITY[f.status], f.margin if f.margin is not None else math.inf)
+    return (-SEVERITY[f.status], f.margin if f.margin is not None else math.inf)
 
 
 class SharedFindings:

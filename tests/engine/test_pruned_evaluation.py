@@ -24,8 +24,8 @@ from registry.engine.exhaustive import evaluate_exhaustive
 from registry.engine.spec import Fleet, PastEvent, UnitState
 from registry.formats.fleet import fleet_from_file
 
-from builders import JOB_DAY
-from test_properties import models, plans
+from helpers.builders import JOB_DAY
+from engine.test_properties import models, plans
 
 SITES = ("North bench", "Substation yard", None)
 DEMO_FRONT_END = fleet_from_file(demo_fleet_path()).models["kx-7"].front_end

@@ -74,7 +74,9 @@ def test_query_models_name_what_the_readers_read(client, tokens):
         assert r.get_json()["error"]["problems"][0]["field"] == name
     r = client.post("/api/v1/checks?on=2026-13-99", json=PLAN, headers=h)
     assert r.status_code == 400 and r.get_json()["error"]["problems"][0]["field"] == "on"
-    assert set(schemas.CheckQuery.model_fields) == {"on"}
+    r = client.post("/api/v1/checks?findings=2", json=PLAN, headers=h)
+    assert r.status_code == 400 and r.get_json()["error"]["problems"][0]["field"] == "findings"
+    assert set(schemas.CheckQuery.model_fields) == {"on", "findings"}
 
 
 def test_answers_fit_the_response_models(client, tokens):
