@@ -28,7 +28,7 @@ def _fuse(row) -> spec.Fuse | None:
 def _by_model(session: Session, table) -> dict[int, list]:
     out: dict[int, list] = defaultdict(list)
     for row in session.execute(select(table).order_by(table.c.model_id, table.c.position,
-                                                      table.c.id)):
+                                                      table.c.id)).all():
         out[row.model_id].append(row)
     return out
 
@@ -132,11 +132,20 @@ def engine_fleet(session: Session) -> spec.Fleet:
     u = m.Unit.__table__
     keys = {i: s.key for i, s in models.items()}
     units = tuple(
-        spec.UnitState(tag=tag, model=keys[model_id], status=status,
-                       site=sites.get(site_id) if site_id is not None else None,
-                       verification_due=due, open_hold=uid in open_holds,
-                       history=tuple(history[uid]) if uid in history else ())
+        _unit(tag=tag, model=keys[model_id], status=status,
+              site=sites.get(site_id) if site_id is not None else None,
+              verification_due=due, open_hold=uid in open_holds,
+              history=tuple(history[uid]) if uid in history else ())
         for uid, tag, model_id, status, site_id, due in session.execute(
             select(u.c.id, u.c.tag, u.c.model_id, u.c.status, u.c.site_id,
-                   u.c.verification_due).order_by(u.c.tag)).tuples())
+                   u.c.verification_due).order_by(u.c.tag)).tuples().all())
     return spec.Fleet(models={s.key: s for s in models.values()}, units=units)
+
+
+def _unit(**fields) -> spec.UnitState:
+    """A UnitState made as its __init__ would make it, and checked by its own __post_init__,
+    without the frozen dataclass's per-field setattr (one unit of 50 000 at a time)."""
+    out = object.__new__(spec.UnitState)
+    out.__dict__.update(fields)
+    out.__post_init__()
+    return out
