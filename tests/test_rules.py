@@ -174,7 +174,7 @@ def test_the_audit_fits_connectors_as_the_setups_do():
     from registry.engine.setups import enumerate_setups
     from registry.engine.spec import Mode, ModelSpec, Rating
     from registry.store.audit import accessories_below
-    from tests.engine.builders import panel_plan
+    from helpers.builders import panel_plan
     tester = ModelSpec(key="vt-2", kind="voltage-tester", integrated_leads=True,
                        connectors=("tip-2mm",), ratings=(Rating("III", 1000.0),),
                        modes=(Mode("v", "Volts", "voltage", "both", ("L1", "L2"),

@@ -18,3 +18,14 @@ def require_chromium():
     if os.environ.get("WITHSTAND_REQUIRE_TOOLS") == "1":
         pytest.fail(f"{CHROMIUM} is required (WITHSTAND_REQUIRE_TOOLS=1) but missing")
     pytest.skip(f"no {CHROMIUM}: install the Debian package 'chromium' (.ci/run does)")
+
+
+def log_in(browser, server, user, password):
+    """A new browser context logged in through the real form: (context, page)."""
+    context = browser.new_context(accept_downloads=True, viewport={"width": 1100, "height": 900})
+    page = context.new_page()
+    page.goto(server + "/login")
+    page.fill("input[name=username]", user)
+    page.fill("input[name=password]", password)
+    page.click("button[type=submit]")
+    return context, page

@@ -2,57 +2,12 @@
 server. Screenshots of each step go to tests/artifacts/browser/ (ignored by git)."""
 
 import re
-import shutil
 
 import pytest
 
-from helpers import live_server
-from helpers.browser import ARGS, ARTIFACTS, CHROMIUM, require_chromium
+from helpers.browser import ARTIFACTS, log_in
 
 pytestmark = pytest.mark.browser
-
-
-@pytest.fixture(scope="module")
-def server(tmp_path_factory, templates):
-    require_chromium()
-    base, proc = live_server.start(tmp_path_factory.mktemp("live"), templates)
-    yield base
-    live_server.stop(proc)
-
-
-@pytest.fixture(scope="module")
-def browser():
-    require_chromium()
-    from playwright.sync_api import sync_playwright
-    with sync_playwright() as p:
-        b = p.chromium.launch(executable_path=CHROMIUM, args=ARGS)
-        yield b
-        b.close()
-
-
-@pytest.fixture
-def shots(request):
-    folder = ARTIFACTS / request.node.name
-    shutil.rmtree(folder, ignore_errors=True)
-    folder.mkdir(parents=True)
-    count = [0]
-
-    def shot(page, name):
-        # a whole long page (the ranked setups) is slow to capture headless: its top is kept
-        count[0] += 1
-        tall = page.evaluate("document.documentElement.scrollHeight") > 4000
-        page.screenshot(path=str(folder / f"{count[0]:02d}-{name}.png"), full_page=not tall)
-    return shot
-
-
-def log_in(browser, server, user, password):
-    context = browser.new_context(accept_downloads=True, viewport={"width": 1100, "height": 900})
-    page = context.new_page()
-    page.goto(server + "/login")
-    page.fill("input[name=username]", user)
-    page.fill("input[name=password]", password)
-    page.click("button[type=submit]")
-    return context, page
 
 
 def test_log_in_and_find_a_unit(browser, server, shots):

@@ -4,7 +4,7 @@ a front-end element brings its fields; a refused value is shown beside its field
 
 import pytest
 
-from test_browser import browser, log_in, server, shots  # noqa: F401  (fixtures)
+from helpers.browser import log_in
 
 pytestmark = pytest.mark.browser
 
