@@ -88,6 +88,9 @@ def test_answers_fit_the_response_models(client, tokens):
     responses.HoldList.model_validate(client.get("/api/v1/holds?open=0", headers=h).get_json())
     result = client.post("/api/v1/checks", json=PLAN, headers=h).get_json()
     responses.Result.model_validate(result)
+    result = responses.Result.model_validate(
+        client.post("/api/v1/checks?findings=1", json=PLAN, headers=h).get_json())
+    assert result.setups and all(s.findings for s in result.setups)
     responses.Error.model_validate(client.get("/api/v1/units/NOPE", headers=h).get_json())
 
 
