@@ -309,8 +309,12 @@ def check(plan: Path, as_json: bool, show_all: bool, on: str | None, explain: st
         raise InvalidInput(f"no unit '{explain}' in this result", "--explain")
     if as_json:
         asked: bool | str = True if all_findings else (explain or False)
-        click.echo(json_module.dumps(result.as_json(findings=asked), indent=2,
-                                     ensure_ascii=False))
+        # written as it is encoded: the text of a large fleet's result is never held whole
+        out = click.get_text_stream("stdout")
+        for chunk in json_module.JSONEncoder(indent=2, ensure_ascii=False).iterencode(
+                result.as_json(findings=asked)):
+            out.write(chunk)
+        out.write("\n")
     else:
         click.echo(render_text(result, show_all=show_all, explain=explain), nl=False)
     sys.exit(exit_code(result))
