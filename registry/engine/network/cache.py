@@ -17,10 +17,11 @@ from __future__ import annotations
 
 import hashlib
 import json
+from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 from contextvars import ContextVar
 from pathlib import Path
-from typing import Callable, Iterator, Protocol, TypeVar
+from typing import Protocol, TypeVar
 
 from .netlist import Netlist
 
