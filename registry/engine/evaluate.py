@@ -358,10 +358,11 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
                       accessory_models=acc_models, accessory_sites=acc_sites, mode_label=label,
                       instrument_kind=kind)
         for unit in members:
-            setups.append(_setup(common, instrument=unit.tag, instrument_model=unit.model,
-                                 found=Findings(shared_text(combo, unit.model, acc_models),
-                                                extra_t),
-                                 site=unit.site, verification_due=unit.verification_due))
+            setups.append(_made(SetupResult, common, instrument=unit.tag,
+                                instrument_model=unit.model,
+                                found=Findings(shared_text(combo, unit.model, acc_models),
+                                               extra_t),
+                                site=unit.site, verification_due=unit.verification_due))
     setups.sort(key=lambda s: sort_key(s, plan.site, plan.task))
 
     # -- accessory units: the best setup each takes part in ------------------------------------
@@ -416,21 +417,23 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
             if reason is not None:
                 names_reason = reason if not share else reason_text(
                     reason, first.model, acc_models)
-            offers.append(AccessoryResult(
-                unit=u.tag, model=u.model, kind=kind, verdict=verdict, instrument=first.tag,
-                mode=combo.ctx.mode.key, accessories=tuple(x.tag for x in units_here),
-                margin=margin, reason=names_reason, found=Findings(text, extra_t)))
+            offers.append(_made(
+                AccessoryResult, {}, unit=u.tag, model=u.model, kind=kind, verdict=verdict,
+                instrument=first.tag, mode=combo.ctx.mode.key,
+                accessories=tuple(x.tag for x in units_here), margin=margin,
+                reason=names_reason, found=Findings(text, extra_t)))
     offers.sort(key=lambda a: (VERDICT_ORDER.index(a.verdict), a.kind, a.unit))
     return Result(plan=plan, derived=derived, setups=tuple(setups), excluded=tuple(excluded),
                   cautions=tuple(plan_cautions(plan, derived)), on=on,
                   accessories=tuple(offers), combinations=n)
 
 
-def _setup(common: dict, **own) -> SetupResult:
-    """A SetupResult from the fields its group shares and its unit's own. Made as the frozen
-    dataclass's __init__ would (it checks nothing), without its per-field frozen setattr: a
-    check of 50 000 units makes one per unit and mode."""
-    out = object.__new__(SetupResult)
+def _made(cls, common: dict, **own):
+    """A result dataclass (SetupResult, AccessoryResult: frozen, nothing checked in their
+    __init__) from the fields its group shares and its unit's own, every field given, made
+    without the frozen dataclass's per-field setattr: a check of 50 000 units makes one per
+    unit and mode."""
+    out = object.__new__(cls)
     out.__dict__.update(common, **own)
     return out
 
