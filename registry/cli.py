@@ -309,12 +309,18 @@ def check(plan: Path, as_json: bool, show_all: bool, on: str | None, explain: st
         raise InvalidInput(f"no unit '{explain}' in this result", "--explain")
     if as_json:
         asked: bool | str = True if all_findings else (explain or False)
-        # written as it is encoded: the text of a large fleet's result is never held whole
-        out = click.get_text_stream("stdout")
+        # written as it is encoded, in pieces of about 64 kB: the text of a large fleet's
+        # result is never held whole
+        pieces: list[str] = []
+        size = 0
         for chunk in json_module.JSONEncoder(indent=2, ensure_ascii=False).iterencode(
                 result.as_json(findings=asked)):
-            out.write(chunk)
-        out.write("\n")
+            pieces.append(chunk)
+            size += len(chunk)
+            if size > 65536:
+                sys.stdout.write("".join(pieces))
+                pieces, size = [], 0
+        sys.stdout.write("".join(pieces) + "\n")
     else:
         click.echo(render_text(result, show_all=show_all, explain=explain), nl=False)
     sys.exit(exit_code(result))

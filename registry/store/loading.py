@@ -118,7 +118,8 @@ def engine_fleet(session: Session) -> spec.Fleet:
     """The fleet as the engine sees it: model specs by key and unit states with history (the
     events in the order logged), in tag order."""
     models = model_specs(session)
-    sites = dict(session.execute(select(m.Site.id, m.Site.name)).tuples().all())
+    sites: dict[int, str] = {i: name for i, name in
+                             session.execute(select(m.Site.id, m.Site.name))}
     open_holds = set(session.scalars(select(m.Hold.unit_id).where(m.Hold.released_at.is_(None))))
     e = m.Event.__table__
     history: dict[int, list[spec.PastEvent]] = defaultdict(list)
@@ -138,7 +139,7 @@ def engine_fleet(session: Session) -> spec.Fleet:
               history=tuple(history[uid]) if uid in history else ())
         for uid, tag, model_id, status, site_id, due in session.execute(
             select(u.c.id, u.c.tag, u.c.model_id, u.c.status, u.c.site_id,
-                   u.c.verification_due).order_by(u.c.tag)).tuples().all())
+                   u.c.verification_due).order_by(u.c.tag)).all())
     return spec.Fleet(models={s.key: s for s in models.values()}, units=units)
 
 
