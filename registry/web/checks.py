@@ -227,15 +227,14 @@ def result():
 def verdict_grid(setups) -> dict:
     """Units down, modes across, each cell the verdict of that unit in that mode (its best
     setup), in the ranked order: the whole result at a glance."""
-    units: list[str] = []
+    units: dict[str, None] = {}  # in first-seen order; a dict, as a list's `in` is O(n)
     modes: dict[str, str] = {}  # mode key -> the label first seen
     cells: dict[tuple[str, str], str] = {}
     for s in setups:
-        if s.instrument not in units:
-            units.append(s.instrument)
+        units.setdefault(s.instrument, None)
         modes.setdefault(s.mode, s.mode_label or s.mode)
         cells.setdefault((s.instrument, s.mode), s.verdict)
-    return {"units": units, "modes": modes, "cells": cells}
+    return {"units": list(units), "modes": modes, "cells": cells}
 
 
 def _query(fields) -> dict:
