@@ -57,7 +57,7 @@ def absorbed_in(capacitance: float, v0: float, resistance: float, duration: floa
 
 def time_text(t: float) -> str:
     """A time (s) as the discharge texts show it: four significant figures, with minutes or
-    hours beside a long one ("2095 s (about 35 min)")."""
+    hours beside a long one ("2132 s (about 36 min)")."""
     text = qtext(float(f"{t:.4g}"), TIME)
     if t >= 7200:
         return f"{text} (about {t / 3600:.1f} h)"
@@ -95,7 +95,7 @@ class DischargeProfile:
     end_voltage: float
     times: tuple[float, ...] = ()
     voltages: tuple[float, ...] = ()
-    events: tuple[str, ...] = ()  # what happened on the way ("PT1 trips after 0.295 s ...")
+    events: tuple[str, ...] = ()  # what happened on the way ("PT1 trips after 0.220 s ...")
 
     @property
     def reached(self) -> bool:
@@ -171,7 +171,7 @@ class DischargeProfile:
 
     def outcome(self) -> str:
         """What the hold achieves, in words: "reaches 50 V after 5.545 s", or "is still at
-        704.7 V (496.6 J) after 60 s; it needs 2095 s to reach 50 V"."""
+        710.3 V (504.5 J) after 60 s; it needs 2132 s to reach 50 V"."""
         if self.time_to_safe is not None:
             return f"reaches {qtext(self.v_safe, VOLTAGE)} after {time_text(self.time_to_safe)}"
         text = (f"is still at {qtext(self.end_voltage, VOLTAGE)} "

@@ -158,9 +158,5 @@ def verify_chain(session: Session, key: bytes | None = None) -> ChainState:
     return ChainState(True, count, None, "", expected_prev)
 
 
-def events_of(session: Session, tag: str) -> list[m.Event]:
-    return list(unit_by_tag(session, tag).events)
-
-
 __all__ = ["GENESIS", "ChainState", "canonical_content", "event_hash",
            "legacy_event_hash", "verify_chain", "append_event"]
