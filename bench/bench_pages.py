@@ -57,7 +57,7 @@ def start_server(db_path: Path, instance: Path) -> tuple[str, subprocess.Popen]:
             return base, proc
         except requests.RequestException:
             if proc.poll() is not None:
-                raise RuntimeError("the server exited")
+                raise RuntimeError("the server exited") from None
             time.sleep(0.1)
     proc.terminate()
     raise RuntimeError("the server did not answer")

@@ -5,9 +5,10 @@
     .venv/bin/python -m bench.bench_scale_check --smoke    # 600 units, for CI
 
 The check is timed as `withstand check PLAN` runs it (the text report), less the start-up; the
-same with `--json` is printed beside it. Targets: at 20k units the check costs at most 3x a plain sqlite3 read of every table, at 50k
-at most 2x (5k is printed without a target). Both are measured in this run on this machine,
-so the ratio holds on a shared or slow machine where the seconds do not. Asserts nothing.
+same with `--json` is printed beside it. Targets: at 20k units the check costs at most 3x a
+plain sqlite3 read of every table, at 50k at most 2x (5k is printed without a target). Both are
+measured in this run on this machine, so the ratio holds on a shared or slow machine where the
+seconds do not. Asserts nothing.
 """
 
 from __future__ import annotations

@@ -32,12 +32,12 @@ def _table(rows: list[list[str]], headers: list[str], wrap_last: int = 70) -> li
     widths = [max(len(h), *(len(r[i]) for r in rows)) if rows else len(h)
               for i, h in enumerate(headers[:-1])]
     def line(cells):
-        head = "  ".join(c.ljust(w) for c, w in zip(cells[:-1], widths))
+        head = "  ".join(c.ljust(w) for c, w in zip(cells[:-1], widths, strict=True))
         return f"{head}  {cells[-1]}".rstrip()
     out = [line(headers), line(["-" * w for w in widths] + ["-" * len(headers[-1])])]
     indent = " " * (sum(widths) + 2 * len(widths))
     for r in rows:
-        words, last, first = r[-1].split(), [], True
+        words, last = r[-1].split(), []
         chunk = ""
         for w in words:
             if chunk and len(chunk) + 1 + len(w) > wrap_last:

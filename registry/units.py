@@ -26,12 +26,14 @@ ureg.define("mohm = 1e-3 * ohm")
 
 
 _MICRO = re.compile(r"(?<![A-Za-z])u(?=[A-Za-z])")
-_OHM_SIGNS = {"Ω": "ohm", "Ω": "ohm"}
+# GREEK CAPITAL LETTER OMEGA and OHM SIGN (U+2126, which Unicode makes canonically equivalent
+# to it, so an editor that normalises text turns one into the other: hence the escapes)
+_OHM_SIGNS = ("\u03a9", "\u2126")
 
 
 def _normalise(text: str) -> str:
     text = text.strip().replace("µ", "u").replace("μ", "u")
-    for sign, word in _OHM_SIGNS.items():
+    for sign in _OHM_SIGNS:
         text = text.replace(sign, "ohm")
     text = text.replace("Ohm", "ohm").replace("ohms", "ohm")
     # "4.7uF" and "4.7 uF" both mean micro; pint reads "u" as micro already, but a stray
@@ -129,8 +131,8 @@ def parse_quantity(value, dim: Dimension, field: str = "", *, default_unit: str 
         magnitude, unit = parts
         text = shown(value.strip())
     else:
-        raise InvalidInput(f"must be text such as '{example_text(dim)}', not {type(value).__name__}",
-                           field)
+        raise InvalidInput(
+            f"must be text such as '{example_text(dim)}', not {type(value).__name__}", field)
     if not math.isfinite(magnitude):
         raise InvalidInput(f"'{text}' is not a finite {dim.name}", field)
     try:

@@ -1,7 +1,6 @@
 """The fleet file format: every kind of validation error names its path; the round trip is
 lossless in YAML and JSON. (The format is the project's own, SPEC §4.)"""
 
-import copy
 import json
 
 import pytest

@@ -30,8 +30,8 @@ def _pip_noise(output: str) -> list[str]:
     for line in output.splitlines():
         if "is ignored: it is neither a file nor a directory" in line:
             continue
-        if any(word in line for word in ("Warning", "WARNING", "warning", "!!", "Editable installation",
-                                          "Deprecat", "notice")):
+        if any(word in line for word in ("Warning", "WARNING", "warning", "!!",
+                                          "Editable installation", "Deprecat", "notice")):
             lines.append(line)
     return lines
 

@@ -1,14 +1,13 @@
 """The text report and the exit code of a check."""
 
-from datetime import date
 
-from helpers.builders import fleet_of, leads, meter, panel_plan, unit
+from helpers.builders import METER_RATINGS, fleet_of, leads, meter, panel_plan, unit
 from registry.engine.evaluate import evaluate
 from registry.engine.spec import Rating
 from registry.report import exit_code, render_text
 
 
-def _result(n_meters=1, ratings=(Rating("III", 600.0),)):
+def _result(n_meters=1, ratings=METER_RATINGS):
     units = [unit(f"M{i:02d}", "mx-3") for i in range(n_meters)] + [unit("L1", "tl-4"),
                                                                      unit("X1", "mx-3",
                                                                           status="away")]

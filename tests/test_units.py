@@ -41,6 +41,10 @@ def test_prefixes_follow_si_brochure(prefix, factor):
 def test_micro_sign_and_ohm_sign():
     assert u.parse_quantity("4.7 µF", u.CAPACITANCE) == pytest.approx(4.7e-6)
     assert u.parse_quantity("3 kΩ", u.RESISTANCE) == pytest.approx(3000)
+    # The Unicode Standard, code chart 2100 (Letterlike Symbols): U+2126 OHM SIGN, canonically
+    # equivalent to U+03A9 GREEK CAPITAL LETTER OMEGA; both are typed for ohms
+    assert u.parse_quantity("3 k\u2126", u.RESISTANCE) == pytest.approx(3000)
+    assert u.parse_quantity("3 k\u03a9", u.RESISTANCE) == pytest.approx(3000)
 
 
 @pytest.mark.parametrize("text, words", [

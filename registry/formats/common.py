@@ -1,5 +1,6 @@
 """What the file formats share: quantity and text fields for pydantic, the one JSON and YAML
-reader (YAML 1.2 core schema, no aliases), and turning pydantic's errors into :class:`InvalidInput` with paths like ``models[2].modes[1].max_input``."""
+reader (YAML 1.2 core schema, no aliases), and turning pydantic's errors into
+:class:`InvalidInput` with paths like ``models[2].modes[1].max_input``."""
 
 from __future__ import annotations
 
@@ -7,7 +8,7 @@ import json
 import math
 import re
 import unicodedata
-from datetime import date, datetime, timezone
+from datetime import date, datetime, UTC
 from pathlib import Path
 from typing import Annotated, Any
 
@@ -108,7 +109,7 @@ def parse_time(text, field: str) -> datetime | None:
     if t.tzinfo is None:
         return t
     try:
-        return t.astimezone(timezone.utc).replace(tzinfo=None)
+        return t.astimezone(UTC).replace(tzinfo=None)
     except (OverflowError, ValueError, OSError):
         raise bad from None
 

@@ -12,7 +12,7 @@ answers with them without reading again.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from datetime import datetime, timezone
+from datetime import datetime, UTC
 
 from sqlalchemy.orm import Session
 
@@ -47,7 +47,7 @@ def naive_utc(t: datetime | None) -> datetime | None:
     as UTC already (the CLI, the event form and the API all say so)."""
     if t is None or t.tzinfo is None:
         return t
-    return t.astimezone(timezone.utc).replace(tzinfo=None)
+    return t.astimezone(UTC).replace(tzinfo=None)
 
 
 def loaded(session: Session, row, relations: tuple[str, ...]):
@@ -62,10 +62,10 @@ def log_event(database: Database, *, unit: str, kind: str, by: str, mode: str | 
               voltage: float | None = None, energy: float | None = None,
               duration: float | None = None, symptoms=(), note: str = "",
               at: datetime | None = None, waveform: str | None = None) -> LoggedEvent:
-    """Validate and record one event (SI floats; ``at`` default now, UTC when it has no offset; ``waveform``
-    ``ac``, ``dc`` or ``None`` when not known) logged by the technician or steward ``by``,
-    opening a hold when the assessment calls for one. Nothing is written when anything is
-    invalid."""
+    """Validate and record one event (SI floats; ``at`` default now, UTC when it has no offset;
+    ``waveform`` ``ac``, ``dc`` or ``None`` when not known) logged by the technician or steward
+    ``by``, opening a hold when the assessment calls for one. Nothing is written when anything
+    is invalid."""
     check_text(note or "", "note", multiline=True)
     at = naive_utc(at)
     if at is not None and not FIRST_YEAR <= at.year <= LAST_YEAR:

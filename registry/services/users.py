@@ -114,7 +114,8 @@ def issue_token(database: Database, username: str, *, by: str | None = None) -> 
         return account(user), store.issue_token(session, user)
 
 
-def revoke_tokens(database: Database, username: str, *, by: str | None = None) -> tuple[Account, int]:
+def revoke_tokens(database: Database, username: str, *,
+                  by: str | None = None) -> tuple[Account, int]:
     """Revoke every live token of ``username``; the number revoked."""
     with database.transaction() as session:
         _steward(session, by)

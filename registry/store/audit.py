@@ -512,7 +512,7 @@ def _plain(df: pd.DataFrame) -> list[list]:
                       else (v.to_pydatetime() if isinstance(v, pd.Timestamp) else v)
                       for v in s.astype(object).tolist()]
         columns.append(values)
-    return [list(r) for r in zip(*columns)] if columns else []
+    return [list(r) for r in zip(*columns, strict=True)] if columns else []
 
 
 class _SheetWriter:
@@ -545,7 +545,7 @@ class _SheetWriter:
 
     def row(self, values, formats, fill=None) -> None:
         self.ws.append([self.cell(v, fmt=f if v is not None else None, fill=fill)
-                        for v, f in zip(values, formats)])
+                        for v, f in zip(values, formats, strict=True)])
 
     def frame(self, names, rows, *, header_row: int = 1, last_row: int | None = None,
               widths=None) -> None:
@@ -562,12 +562,12 @@ class _SheetWriter:
 def _write_table(book, name: str, df: pd.DataFrame, *, fill_of=None, number_formats=None):
     names = list(df.columns)
     rows = _plain(df)
-    cols = list(zip(*rows)) if rows else [() for _ in names]
-    widths = [_width([n, *col], n in _DATE_ONLY) for n, col in zip(names, cols)]
+    cols = list(zip(*rows, strict=True)) if rows else [() for _ in names]
+    widths = [_width([n, *col], n in _DATE_ONLY) for n, col in zip(names, cols, strict=True)]
     formats = [(number_formats or {}).get(n) or (
         (DATE_FORMAT if n in _DATE_ONLY else DATETIME_FORMAT)
         if any(isinstance(v, datetime) for v in col) else None)
-        for n, col in zip(names, cols)]
+        for n, col in zip(names, cols, strict=True)]
     w = _SheetWriter(book, name)
     w.frame(names, rows, widths=widths)
     w.header(names)
@@ -587,13 +587,13 @@ def _write_summary(book, audit: Audit) -> None:
         col = [r[i] if i < len(r) else None for r in all_rows]
         widths.append(_width(col, None if i != 2 else False))
     # a date item's value is a date, any other time a date and time
-    for r, item in zip(summary, audit.summary["item"]):
+    for r, item in zip(summary, audit.summary["item"], strict=True):
         if isinstance(r[2], datetime) and item in _DATE_ONLY:
             widths[2] = max(widths[2], 11)
     w = _SheetWriter(book, "Summary")
     w.frame(["section", "item", "value"], summary, last_row=len(summary) + 1, widths=widths)
     w.header(["section", "item", "value"])
-    for r, item in zip(summary, audit.summary["item"]):
+    for r, item in zip(summary, audit.summary["item"], strict=True):
         w.row(r, [None, None, None if not isinstance(r[2], datetime) else
                   DATE_FORMAT if item in _DATE_ONLY else DATETIME_FORMAT])
     w.ws.append([])

@@ -16,7 +16,7 @@ Chains: ``event`` (the links are the event rows' own ``prev_hash``/``hash``, see
 from __future__ import annotations
 
 import hmac
-from datetime import datetime, timezone
+from datetime import datetime, UTC
 
 from sqlalchemy import func, select, text
 from sqlalchemy.orm import Session
@@ -260,7 +260,7 @@ def seal_legacy(session: Session) -> str:
         if ("change", c.id) not in linked:
             append_link(session, "change", c, key)
             changes += 1
-    seal.sealed_at = datetime.now(timezone.utc).replace(tzinfo=None)
+    seal.sealed_at = datetime.now(UTC).replace(tzinfo=None)
     seal.mac = keyed_hash(key, seal_content(seal))
     session.flush()
     return (f"sealed the record written before the chain key: {count} events on plain "
@@ -331,7 +331,8 @@ def link_at(session: Session, chain: str, count: int) -> tuple[int, str | None]:
     return total, session.scalar(q.offset(count - 1).limit(1))
 
 
-def compare_with(session: Session, exported: dict[str, tuple[int, str]]) -> list[tuple[str, bool, str]]:
+def compare_with(session: Session,
+                 exported: dict[str, tuple[int, str]]) -> list[tuple[str, bool, str]]:
     """(chain, holds, what) per exported chain: the database must still hold the exported
     head as its entry number ``count``, and at least that many entries."""
     out = []

@@ -104,8 +104,8 @@ def unit_by_tag(session: Session, tag: str) -> m.Unit:
 
 def append_event(session: Session, row: m.Event) -> m.Event:
     """Chain ``row`` onto the last event and insert it. The caller holds the chain lock (the
-    logging service, :mod:`registry.services.events`, takes it first); the hash needs the row's id, so the row goes in with a placeholder
-    hash that only this transaction ever sees."""
+    logging service, :mod:`registry.services.events`, takes it first); the hash needs the row's
+    id, so the row goes in with a placeholder hash that only this transaction ever sees."""
     lock_chain(session)
     key = chain_key()
     row.prev_hash = last_hash(session)

@@ -5,7 +5,7 @@ from __future__ import annotations
 
 import json
 from dataclasses import dataclass, field
-from datetime import datetime, timezone
+from datetime import datetime, UTC
 
 from sqlalchemy import func, insert, select, update
 from sqlalchemy.orm import Session
@@ -20,7 +20,7 @@ from .specs import (all_models, all_units, insert_models, model_spec, site_recor
 
 def utcnow() -> datetime:
     """Naive UTC, the form every timestamp column holds."""
-    return datetime.now(timezone.utc).replace(tzinfo=None)
+    return datetime.now(UTC).replace(tzinfo=None)
 
 
 @dataclass
@@ -81,7 +81,7 @@ def record_many(session: Session, changes: list[tuple[str, str, str, str | None,
     session.flush()
     ids = session.scalars(insert(m.Change).returning(m.Change.id, sort_by_parameter_order=True),
                           rows).all()
-    for row, change_id in zip(rows, ids):
+    for row, change_id in zip(rows, ids, strict=True):
         row["id"] = change_id
     link_changes(session, rows)
     if report is not None:
@@ -197,7 +197,7 @@ def _apply_units(session, content, model_ids, site_ids, report, changes) -> list
             if old[1:] == values:
                 report.unchanged += 1
                 continue
-            before = UnitRecord(rec.tag, old[1], **dict(zip(_UNIT_FIELDS, old[3:])),
+            before = UnitRecord(rec.tag, old[1], **dict(zip(_UNIT_FIELDS, old[3:], strict=True)),
                                 site=old[2])
             diffs = diff_documents(unit_to_document(before), unit_to_document(rec))
             if not diffs:

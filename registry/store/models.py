@@ -54,7 +54,7 @@ class Site(Base):
     name: Mapped[str] = mapped_column(String(120), unique=True)
     altitude: Mapped[float] = mapped_column(Quantity, default=0.0)
 
-    units: Mapped[list["Unit"]] = relationship(back_populates="site")
+    units: Mapped[list[Unit]] = relationship(back_populates="site")
 
 
 class User(Base):
@@ -69,7 +69,7 @@ class User(Base):
     active: Mapped[bool] = mapped_column(Boolean, default=True)
     created_at: Mapped[datetime] = mapped_column(DateTime)
 
-    tokens: Mapped[list["ApiToken"]] = relationship(back_populates="user",
+    tokens: Mapped[list[ApiToken]] = relationship(back_populates="user",
                                                     cascade="all, delete-orphan")
 
 
@@ -129,14 +129,14 @@ class Model(Base):
     fuse_i2t: Mapped[float | None] = mapped_column(Quantity)
     has_fuse: Mapped[bool] = mapped_column(Boolean, default=False)
 
-    ratings: Mapped[list["Rating"]] = relationship(
+    ratings: Mapped[list[Rating]] = relationship(
         back_populates="model", cascade="all, delete-orphan", order_by="Rating.position")
-    modes: Mapped[list["Mode"]] = relationship(
+    modes: Mapped[list[Mode]] = relationship(
         back_populates="model", cascade="all, delete-orphan", order_by="Mode.position")
-    elements: Mapped[list["FrontEndElement"]] = relationship(
+    elements: Mapped[list[FrontEndElement]] = relationship(
         back_populates="model", cascade="all, delete-orphan",
         order_by="FrontEndElement.position")
-    units: Mapped[list["Unit"]] = relationship(back_populates="model")
+    units: Mapped[list[Unit]] = relationship(back_populates="model")
 
 
 class Rating(Base):
@@ -230,8 +230,8 @@ class Unit(Base):
 
     model: Mapped[Model] = relationship(back_populates="units")
     site: Mapped[Site | None] = relationship(back_populates="units")
-    events: Mapped[list["Event"]] = relationship(back_populates="unit", order_by="Event.id")
-    holds: Mapped[list["Hold"]] = relationship(back_populates="unit", order_by="Hold.id")
+    events: Mapped[list[Event]] = relationship(back_populates="unit", order_by="Event.id")
+    holds: Mapped[list[Hold]] = relationship(back_populates="unit", order_by="Hold.id")
 
 
 class Event(Base):
@@ -296,7 +296,8 @@ class Change(Base):
     at: Mapped[datetime] = mapped_column(DateTime)
     user_id: Mapped[int | None] = mapped_column(ForeignKey("user_account.id",
                                                            ondelete="SET NULL"))
-    actor: Mapped[str] = mapped_column(String(120), default="")  # who, as text, kept if the user goes
+    # who, as text, kept if the user goes
+    actor: Mapped[str] = mapped_column(String(120), default="")
     entity: Mapped[str] = mapped_column(String(16))  # model | unit | site
     entity_key: Mapped[str] = mapped_column(String(64))
     field: Mapped[str] = mapped_column(String(200))

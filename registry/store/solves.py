@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import logging
 from contextlib import contextmanager
-from typing import Iterator
+from collections.abc import Iterator
 
 from sqlalchemy import select
 from sqlalchemy.engine import Engine

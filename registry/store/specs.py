@@ -112,14 +112,14 @@ def insert_models(session: Session, new: list[spec.ModelSpec]) -> dict[str, int]
                                      .where(m.Model.key.in_(keys[i:i + 500]))).all())
     ids = [id_of[k] for k in keys]
     children: dict = {m.Rating: [], m.Mode: [], m.FrontEndElement: []}
-    for s, model_id in zip(new, ids):
+    for s, model_id in zip(new, ids, strict=True):
         for table, rows in ((m.Rating, rating_rows(s)), (m.Mode, mode_rows(s)),
                             (m.FrontEndElement, element_rows(s))):
             children[table] += [dict(r, model_id=model_id) for r in rows]
     for table, rows in children.items():
         if rows:
             session.execute(insert(table.__table__), rows)
-    return {s.key: model_id for s, model_id in zip(new, ids)}
+    return {s.key: model_id for s, model_id in zip(new, ids, strict=True)}
 
 
 def unit_record(row: m.Unit) -> UnitRecord:

@@ -90,7 +90,7 @@ def sheet_rows(path: str | Path) -> tuple[list[dict], list[int], list[str]]:
     rows, numbers = [], []
     for i, (_, raw) in enumerate(df.iterrows()):
         doc = {}
-        for h, v in zip(headers, raw.tolist()):
+        for h, v in zip(headers, raw.tolist(), strict=True):
             if h in COLUMNS:
                 try:
                     cell = _cell(v, h)

@@ -146,14 +146,19 @@ def hold_json(h: m.Hold) -> dict:
             "result": h.result, "note": h.notes}
 
 
+def _exact(value: float | None, dim) -> str | None:
+    """A stored quantity as text that reads back to the same float (12 digits), or None."""
+    return None if value is None else u.format_quantity(value, dim, digits=12)
+
+
 def event_json(e: m.Event) -> dict:
     return {"id": e.id, "unit": e.unit.tag, "occurred_at": e.occurred_at.isoformat(),
             "logged_at": e.logged_at.isoformat(),
             "logged_by": e.logged_by.username if e.logged_by else None, "mode": e.mode_key,
             "kind": e.kind,
-            "voltage": None if e.voltage is None else u.format_quantity(e.voltage, u.VOLTAGE, digits=12),
-            "energy": None if e.energy is None else u.format_quantity(e.energy, u.ENERGY, digits=12),
-            "duration": None if e.duration is None else u.format_quantity(e.duration, u.TIME, digits=12),
+            "voltage": _exact(e.voltage, u.VOLTAGE),
+            "energy": _exact(e.energy, u.ENERGY),
+            "duration": _exact(e.duration, u.TIME),
             "waveform": e.waveform,
             "symptoms": list(e.symptoms or []), "note": e.notes,
             "within_rating": e.within_rating, "hash": e.hash}

@@ -79,7 +79,8 @@ def fields_from_doc(doc) -> dict[str, str]:
     f = {k: "" for k in FIELDS}
     if not isinstance(doc, dict):
         return f
-    text = lambda v: "" if v is None else (str(v).lower() if isinstance(v, bool) else str(v))
+    def text(v):
+        return "" if v is None else (str(v).lower() if isinstance(v, bool) else str(v))
     for k in ("title", "task", "duration", "discharge_to"):
         f[k] = text(doc.get(k))
     circuit = doc.get("circuit") if isinstance(doc.get("circuit"), dict) else {}

@@ -177,7 +177,7 @@ def needs_has_svg(findings) -> str:
     colours = {"pass": "#2f6f3e", "caution": "#8a5a00", "fail": "#8b1f1f", "unknown": "#5a6570"}
     out = [f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {BAR_W} {h}" width="100%" '
            f'role="img" class="needs-has" font-family="sans-serif" font-size="11">',
-           f"<title>What each item may take against what the job needs</title>",
+           "<title>What each item may take against what the job needs</title>",
            f'<text x="{x(1):.1f}" y="11" text-anchor="middle">needs (x1)</text>']
     for i, row in enumerate(rows):
         y = top + i * (BAR_H + 8)

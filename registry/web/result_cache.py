@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import threading
 from collections import OrderedDict
-from typing import Callable, Hashable
+from collections.abc import Callable, Hashable
 
 from flask import current_app
 

@@ -5,7 +5,7 @@ apart. The plan's models are :mod:`registry.plans`'s own (``PlanDoc``).
 
 from __future__ import annotations
 
-from datetime import date, datetime, timezone
+from datetime import date, datetime, UTC
 from typing import Annotated, Literal
 
 from pydantic import AfterValidator, BaseModel, ConfigDict, Field, ValidationError, field_validator
@@ -69,7 +69,7 @@ class EventRequest(_Request):
         if t is None:
             return t
         try:
-            utc = t.astimezone(timezone.utc).replace(tzinfo=None) if t.tzinfo else t
+            utc = t.astimezone(UTC).replace(tzinfo=None) if t.tzinfo else t
         except OverflowError:
             raise PydanticCustomError("text", "is outside the calendar once converted to "
                                               "UTC") from None

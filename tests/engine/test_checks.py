@@ -12,7 +12,7 @@ from registry.engine.findings import Finding
 from registry.engine.setups import SetupContext
 from registry.engine.spec import (Circuit, Fuse, Mode, ModelSpec, PastEvent, Plan, Rating)
 
-from helpers.builders import DUE, JOB_DAY, fleet_of, leads, meter, panel_plan, unit
+from helpers.builders import JOB_DAY, fleet_of, leads, meter, panel_plan, unit
 
 
 def _only(result, tag, mode):
@@ -80,8 +80,8 @@ def test_rating_above_the_sites_altitude_does_not_hold():
 
 def test_rating_stated_for_high_altitude_holds():
     m = meter("mx-h", ratings=(Rating("III", 600.0, max_altitude=5000.0),))
-    l = leads("tl-h", ratings=(Rating("IV", 600.0, max_altitude=5000.0),))
-    fleet = fleet_of([m, l], [unit("MH", "mx-h"), unit("LH", "tl-h")])
+    tl = leads("tl-h", ratings=(Rating("IV", 600.0, max_altitude=5000.0),))
+    fleet = fleet_of([m, tl], [unit("MH", "mx-h"), unit("LH", "tl-h")])
     s = _only(evaluate(panel_plan(altitude=4500.0), fleet), "MH", "vac")
     assert [f.status for f in _by(s, "altitude")] == ["pass", "pass"]
     assert s.verdict == "suitable"
@@ -119,8 +119,8 @@ def test_a_rating_that_does_not_cover_the_circuit_vouches_for_no_impulse():
 
 
 def _tip_setup(exposure, plan):
-    l = leads("tl-t", tip_exposure=exposure)
-    fleet = fleet_of([meter(ratings=(Rating("IV", 1000.0),)), l],
+    tl = leads("tl-t", tip_exposure=exposure)
+    fleet = fleet_of([meter(ratings=(Rating("IV", 1000.0),)), tl],
                      [unit("M1", "mx-3"), unit("LT", "tl-t")])
     return _only(evaluate(plan, fleet), "M1", "vdc" if plan.circuit.waveform == "dc"
                  else "vac")
@@ -519,7 +519,8 @@ def test_dc_fuse_voltage_is_checked_without_a_prospective_current():
     assert [f.status for f in fuse] == ["fail", "not-run"]
     assert "dc voltage rating 125 V is below 400 V" in fuse[0].message
     assert fuse[0].margin == pytest.approx(125 / 400 - 1)
-    assert "breaking capacity" in fuse[1].message and "circuit.prospective_current" in fuse[1].message
+    assert "breaking capacity" in fuse[1].message
+    assert "circuit.prospective_current" in fuse[1].message
     # a 1000 V dc fuse passes the voltage part on the same plan, breaking capacity still not-run
     s = _only(evaluate(_dc_plan(), fleet_of([meter(), leads(current_rating=10.0)],
                                             [unit("M1", "mx-3"), unit("L1", "tl-4")])),

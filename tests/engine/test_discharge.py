@@ -7,7 +7,6 @@ E = C V**2 / 2 (circuit theory)."""
 
 import dataclasses
 import math
-from datetime import date
 from pathlib import Path
 
 import pytest

@@ -1,6 +1,5 @@
 """The engine's formulas against independent computation and hand-worked facts."""
 
-import math
 
 import pytest
 from scipy.integrate import solve_ivp
@@ -20,7 +19,8 @@ def _integrate_discharge(r, c, v0, v_safe):
     def rhs(t, y):
         v = y[0]
         return [-v / (r * c), v * v / r]
-    hit = lambda t, y: y[0] - v_safe
+    def hit(t, y):
+        return y[0] - v_safe
     hit.terminal, hit.direction = True, -1
     sol = solve_ivp(rhs, (0, 50 * r * c), [v0, 0.0], events=hit, rtol=1e-10, atol=1e-12)
     return sol.t_events[0][0], sol.y_events[0][0][1]

@@ -24,7 +24,8 @@ ratings = st.tuples(strong, st.lists(st.builds(
     st.one_of(st.none(), st.floats(500.0, 20e3)),
     st.one_of(st.none(), st.floats(1000.0, 6000.0))), max_size=2)).map(
     lambda t: (t[0],) + tuple(t[1]))
-maybe = lambda s: st.one_of(st.none(), s)
+def maybe(s):
+    return st.one_of(st.none(), s)
 
 
 @st.composite

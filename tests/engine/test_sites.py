@@ -1,7 +1,8 @@
 """Accessories are chosen where the instrument is kept (they travel to the job together), and a
 pairing across sites is flagged: common practice (no source). The demo fleet keeps LD-4 leads
 and guarded 2 mm tips at the substation yard (LD-0010, PR-0010) and at the battery lab (LD-0020,
-PR-0020); the field station has LD-4 leads (LD-0030) but no guarded 2 mm tips (seeddata/fleet.yaml)."""
+PR-0020); the field station has LD-4 leads (LD-0030) but no guarded 2 mm tips
+(seeddata/fleet.yaml)."""
 
 from registry.services.checks import run_check
 from registry.demo import demo_fleet_path

@@ -11,7 +11,11 @@ JOB_DAY = date(2026, 6, 1)
 DUE = date(2027, 1, 1)
 
 
-def meter(key="mx-3", ratings=(Rating("III", 600.0),), *, amp_fuse=None, lowz=True,
+METER_RATINGS = (Rating("III", 600.0),)
+LEAD_RATINGS = (Rating("IV", 600.0), Rating("III", 1000.0))
+
+
+def meter(key="mx-3", ratings=METER_RATINGS, *, amp_fuse=None, lowz=True,
           max_input=1000.0, **kw) -> ModelSpec:
     """A handheld multimeter of the invented maker Quillby Instruments. Its Amps fuse breaks
     50 kA, so leads left in the A socket on the panel plan (480 V / 20 mohm = 24 kA
@@ -34,7 +38,7 @@ def meter(key="mx-3", ratings=(Rating("III", 600.0),), *, amp_fuse=None, lowz=Tr
                      modes=tuple(modes), connectors=("4mm",), **kw)
 
 
-def leads(key="tl-4", ratings=(Rating("IV", 600.0), Rating("III", 1000.0)), **kw) -> ModelSpec:
+def leads(key="tl-4", ratings=LEAD_RATINGS, **kw) -> ModelSpec:
     kw.setdefault("tip_exposure", 2e-3)
     return ModelSpec(key=key, kind="test-leads", maker="Quillby Instruments",
                      ratings=tuple(ratings), connector="4mm", connectors=("tip-2mm",), **kw)

@@ -4,9 +4,9 @@ from html.parser import HTMLParser
 
 
 class _Form(HTMLParser):
-    """What a browser would send for the page's model form (``form.model-form``) as it stands: the text boxes, the
-    checked boxes, each select's chosen option (the first when none is marked). Buttons are
-    left out; a test adds the one it presses."""
+    """What a browser would send for the page's model form (``form.model-form``) as it
+    stands: the text boxes, the checked boxes, each select's chosen option (the first when none
+    is marked). Buttons are left out; a test adds the one it presses."""
 
     def __init__(self):
         super().__init__()

@@ -43,7 +43,7 @@ def start(tmp_path: Path, templates=None):
             return base, proc
         except OSError:
             if proc.poll() is not None:
-                raise RuntimeError(f"server exited: {proc.stdout.read()}")
+                raise RuntimeError(f"server exited: {proc.stdout.read()}") from None
             time.sleep(0.1)
     proc.terminate()
     raise RuntimeError("the server did not answer")

@@ -86,14 +86,15 @@ def test_workbook_sheets_rows_types_and_format(with_events, demo_doc, tmp_path):
     assert list(events["clamp_conducted"]) == [False, True, False]
 
     summary = pd.read_excel(out, sheet_name="Summary", nrows=40, usecols="A:C")
-    value = {(r.section, r.item): r.value for r in summary.itertuples() if isinstance(r.section, str)}
+    value = {(r.section, r.item): r.value for r in summary.itertuples()
+             if isinstance(r.section, str)}
     assert value[("chain", "state")] == "intact"
     assert value[("events", "in the period")] == 3
     assert value[("units", "overdue")] == 1  # NB-0007 (retired units are not counted)
     assert value[("status", "on-hold")] == 4  # NB-0003, LD-0011 by status; NB-0001, SY-0001 held
 
     findings = pd.read_excel(out, sheet_name="Findings")
-    kinds = set(zip(findings["finding"], findings["subject"]))
+    kinds = set(zip(findings["finding"], findings["subject"], strict=True))
     assert ("overdue", "NB-0007") in kinds and ("due soon", "SY-0004") in kinds
     assert ("accessory below instrument", "bw-ld2") in kinds
     assert ("missing data", "tm-sc2") in kinds  # 'none' rating without a transient

@@ -36,7 +36,8 @@ TAGS = ("NB-0001", "NB-0002", "SY-0005", "BL-0001")
 @pytest.fixture(params=["sqlite", pytest.param("postgres", marks=pytest.mark.postgres)])
 def record(request):
     """A database with the demo fleet (and the holds its on-hold units get), an event that
-    opened a hold released since, five more events and a field change, on a SQLite file or a scratch PostgreSQL database."""
+    opened a hold released since, five more events and a field change, on a SQLite file or a
+    scratch PostgreSQL database."""
     if request.param == "sqlite":
         database = request.getfixturevalue("demo")
     else:

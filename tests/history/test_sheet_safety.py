@@ -71,7 +71,7 @@ def fleet_doc(custodian):
                         "kind": "test-leads"} for i, t in enumerate(TEXTS)],
             "units": [{"tag": tag, "model": f"zz-{i}", "serial": one_line(t),
                        "site": one_line(t), "custodian": one_line(custodian(t)), "notes": t}
-                      for i, (tag, t) in enumerate(zip(TAGS, TEXTS))]}
+                      for i, (tag, t) in enumerate(zip(TAGS, TEXTS, strict=True))]}
 
 
 @pytest.fixture
@@ -84,7 +84,7 @@ def hostile(runner, demo, tmp_path):
         path.write_text(json.dumps(fleet_doc(custodian)), encoding="utf-8")
         result = runner.invoke(main, ["import", str(path)])
         assert result.exit_code == 0, result.output
-    for tag, t in zip(TAGS, TEXTS):
+    for tag, t in zip(TAGS, TEXTS, strict=True):
         result = runner.invoke(main, ["event", "add", "--unit", tag, "--kind", "mechanical",
                                       f"--note={t}", "--by", "tech",
                                       "--at", "2026-11-30T10:00:00"])
@@ -108,7 +108,7 @@ def test_workbook_holds_text_not_formulas(hostile, tmp_path):
     header, rows = _rows(wb["Units"])
     col = {h: i for i, h in enumerate(header)}
     units = {r[col["tag"]].value: r for r in rows}
-    for tag, t in zip(TAGS, TEXTS):
+    for tag, t in zip(TAGS, TEXTS, strict=True):
         for field in ("serial", "site", "custodian", "notes", "model_name", "maker"):
             cell = units[tag][col[field]]
             assert (cell.value, cell.data_type) == (read_back(as_field(field, t)), "s"), \
@@ -157,7 +157,7 @@ def test_csvs_prefix_formula_text_with_an_apostrophe(hostile, tmp_path):
                     float(value)  # only a number may begin so (a negative number)
     with (folder / "units.csv").open(newline="", encoding="utf-8") as f:
         units = {r["tag"]: r for r in csv.DictReader(f)}
-    for tag, t in zip(TAGS, TEXTS):
+    for tag, t in zip(TAGS, TEXTS, strict=True):
         for field in ("serial", "site", "custodian", "notes", "model_name", "maker"):
             # OWASP: the apostrophe marks the cell as text
             assert units[tag][field] == escaped(as_field(field, t)), (tag, field)
@@ -173,7 +173,7 @@ def test_libreoffice_computes_no_formula(hostile, tmp_path):
     libreoffice_csvs(out, tmp_path)
     with (tmp_path / "lo" / "audit-Units.csv").open(newline="", encoding="utf-8") as f:
         units = {r["tag"]: r for r in csv.DictReader(f)}
-    for tag, t in zip(TAGS, TEXTS):
+    for tag, t in zip(TAGS, TEXTS, strict=True):
         for field in ("serial", "site", "custodian", "notes", "model_name"):
             # the literal text, not a result: '=HYPERLINK(...)' would show "x", '+1+1' "2"
             assert units[tag][field] == read_back(as_field(field, t)), \

@@ -67,7 +67,8 @@ def test_kx7_lowz_trips_its_ptc_and_states_it(fleet):
     pt = _of(fs, "PT1", "max_voltage")
     assert pt and "trips after about" in pt[0].message
     cons = [f for f in fs if f.check == "input-consistency"]
-    assert [f.status for f in cons] == ["pass"]  # R1 + PT1 + RL = 1 k + 1 k + 600 ohm = 2.6 kohm as stated
+    # R1 + PT1 + RL = 1 k + 1 k + 600 ohm = 2.6 kohm as stated
+    assert [f.status for f in cons] == ["pass"]
 
 
 def test_readme_claims_on_the_distribution_board(fleet):

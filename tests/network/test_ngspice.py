@@ -9,9 +9,9 @@ from registry.engine.network.netlist import Netlist
 from registry.engine.network.scenarios import discharge
 from registry.engine.network.spice import (netlist_deck, node_names, parse_op,
                                            parse_print_table, spice_deck)
-from registry.engine.spec import Element, Mode, ModelSpec
+from registry.engine.spec import Element
 
-from .conftest import LOWZ, VDC, kx7, kx7_front_end
+from .conftest import LOWZ, VDC, kx7
 
 E = Element.of
 
@@ -88,7 +88,7 @@ def test_discharge_through_resistor_and_varistor_against_ngspice(ngspice):
     v_ref = np.array([r[1] for r in rows])
     v_ours = np.interp(t_ref, ours.times, ours.voltages)
     # 1 % of the voltage at each time; near the end both are tens of volts.
-    for t, a, b in zip(t_ref, v_ours, v_ref):
+    for t, a, b in zip(t_ref, v_ours, v_ref, strict=True):
         if t > 0:
             assert a == pytest.approx(b, rel=1e-2, abs=0.05), t
     assert ours.voltages[-1] < 0.5 * v0

@@ -129,7 +129,8 @@ def test_altitude_factor_takes_the_next_row_up():
 def test_capacitor_hazard_thresholds():
     # LBNL Electrical Safety Program, capacitor rows: shock >= 100 V and >= 10 J; arc flash
     # >= 100 V and >= 10 kJ; thermal < 100 V and > 100 J.
-    kinds = lambda v, e: {h.kind for h in stored_energy.hazards(v, e)}
+    def kinds(v, e):
+        return {h.kind for h in stored_energy.hazards(v, e)}
     assert kinds(100, 10) == {"shock"}
     assert kinds(99.9, 10) == set()
     assert kinds(100, 9.99) == set()

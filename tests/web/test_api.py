@@ -171,8 +171,8 @@ def test_post_checks_errors(client, tokens):
     bad = dict(PLAN, circuit=dict(PLAN["circuit"], voltage="2 kA"))
     r = client.post("/api/v1/checks", headers=h, json=bad)
     assert r.status_code == 400
-    assert {"field": "circuit.voltage",
-            "reason": "'2 kA' is a current; this field needs a voltage"} in r.get_json()["error"]["problems"]
+    assert {"field": "circuit.voltage", "reason": "'2 kA' is a current; this field needs a "
+            "voltage"} in r.get_json()["error"]["problems"]
     r = client.post("/api/v1/checks", headers=h, data="{not json",
                     content_type="application/json")
     assert r.status_code == 400 and r.get_json()["error"]["problems"][0]["field"] == ""

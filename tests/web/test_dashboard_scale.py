@@ -33,7 +33,8 @@ def test_due_list_is_cut_with_a_link_to_the_rest(client, demo):
 
 
 def _pages_nav(page: str) -> str:
-    return page[page.index('<nav class="pages"'):page.index("</nav>", page.index('<nav class="pages"'))]
+    start = page.index('<nav class="pages"')
+    return page[start:page.index("</nav>", start)]
 
 
 def test_fleet_pages_link_the_ends_and_the_neighbours(app, client, demo):
@@ -52,6 +53,7 @@ def test_fleet_pages_link_the_ends_and_the_neighbours(app, client, demo):
     while url:
         page = client.get(url).get_data(as_text=True)
         seen += re.findall(r">([A-Z]{2}-\d{4})</a>", page)
-        nxt = re.search(r'href="([^"]+)" rel="next"', _pages_nav(page)) if '<nav class="pages"' in page else None
+        nxt = (re.search(r'href="([^"]+)" rel="next"', _pages_nav(page))
+               if '<nav class="pages"' in page else None)
         url = nxt.group(1).replace("&amp;", "&") if nxt else None
     assert len(seen) == total == len(set(seen))

@@ -12,7 +12,8 @@ from helpers.web import api_token, bearer, csrf_from, login_as
 
 def _events(demo):
     with demo.transaction() as s:
-        return [(e.waveform, e.within_rating) for e in s.scalars(select(m.Event).order_by(m.Event.id))]
+        return [(e.waveform, e.within_rating)
+                for e in s.scalars(select(m.Event).order_by(m.Event.id))]
 
 
 def test_form_offers_and_records_the_waveform(client, demo):
@@ -36,7 +37,8 @@ def test_form_offers_and_records_the_waveform(client, demo):
         "csrf_token": token, "kind": "overvoltage", "voltage": "200 V", "waveform": "square"})
     page = r.get_data(as_text=True)
     assert r.status_code == 400 and len(_events(demo)) == 2
-    field = page[page.index('name="waveform"'):page.index("</label>", page.index('name="waveform"'))]
+    start = page.index('name="waveform"')
+    field = page[start:page.index("</label>", start)]
     assert "&#39;square&#39; is not allowed; use &#39;ac&#39; or &#39;dc&#39;" in field
 
 

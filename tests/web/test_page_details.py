@@ -75,7 +75,8 @@ def test_result_page_shows_sites_and_flags_a_pairing_across_sites(client, demo):
         "voltage": "480 V", "voltage_to_earth": "277 V", "source_impedance": "0.02 ohm",
         "site": "Substation yard", "duration": "30 s", "all": "1"}).get_data(as_text=True)
     assert "at Corrie Ridge field station" in page
-    assert re.search(r'class="cross-site">.*from another site: <span class="tag">PR-0010</span>', page)
+    assert re.search(r'class="cross-site">.*from another site: <span class="tag">PR-0010</span>',
+                     page)
 
 
 def test_unit_history_names_people_one_way_and_shows_the_hold_an_event_opened(client, demo):

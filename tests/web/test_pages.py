@@ -3,7 +3,6 @@
 import re
 from datetime import date, timedelta
 
-import pytest
 import yaml
 from sqlalchemy import select
 
@@ -154,7 +153,8 @@ def test_check_form_result_and_derived_values(client, demo):
     page = response.get_data(as_text=True)
     assert response.status_code == 200
     table = page[page.index('id="verdicts"'):page.index("<h2>Cautions")]
-    rows = re.findall(r'<tr class="v-(\w+)">\s*<td>(\d+)</td>\s*<td><a href="/units/([A-Z]{2}-\d{4})"', table)
+    rows = re.findall(r'<tr class="v-(\w+)">\s*<td>(\d+)</td>\s*'
+                      r'<td><a href="/units/([A-Z]{2}-\d{4})"', table)
     # the DR-1 tool first, as the demo plan says; conditional: 640 W peak (V0**2/R) against its
     # 400 W rating, common practice (no source)
     assert rows[0] == ("conditional", "1", "BL-0002")
@@ -183,10 +183,13 @@ def test_discharge_plot_and_job_card(client, demo):
     assert svg.mimetype == "image/svg+xml"
     text = svg.get_data(as_text=True)
     assert "safe level 50 V" in text and "<polyline" in text and "style=" not in text
-    assert client.get("/checks/discharge.svg", query_string=dict(DISCHARGE_PLAN, path=9)).status_code == 404
-    card = client.get("/checks/card", query_string=dict(DISCHARGE_PLAN, setup=1)).get_data(as_text=True)
+    assert client.get("/checks/discharge.svg",
+                      query_string=dict(DISCHARGE_PLAN, path=9)).status_code == 404
+    card = client.get("/checks/card",
+                      query_string=dict(DISCHARGE_PLAN, setup=1)).get_data(as_text=True)
     assert "Job card" in card and "BL-0002" in card and "Checked by" in card
-    assert client.get("/checks/card", query_string=dict(DISCHARGE_PLAN, setup=999)).status_code == 404
+    assert client.get("/checks/card",
+                      query_string=dict(DISCHARGE_PLAN, setup=999)).status_code == 404
 
 
 def test_plan_file_save_and_load(client, demo):
@@ -224,8 +227,8 @@ def test_loading_a_plan_file_that_is_not_utf8_is_a_400_naming_it(client, demo):
                          content_type="multipart/form-data")
     assert loaded.status_code == 400 and "is not UTF-8 text" in loaded.get_data(as_text=True)
     # a title written as 0123 comes back into the form as written, not as 123
-    text = ("format: withstand-plan/1\ntitle: 0123\ntask: measure-voltage\ncircuit: {supply: "
-            "isolated, waveform: dc, voltage: 20 V}\nsite: {name: North bench}\n").encode()
+    text = (b"format: withstand-plan/1\ntitle: 0123\ntask: measure-voltage\ncircuit: {supply: "
+            b"isolated, waveform: dc, voltage: 20 V}\nsite: {name: North bench}\n")
     loaded = client.post("/checks/load", data={"csrf_token": csrf_from(client, "/checks/"),
                                                "plan_file": (io.BytesIO(text), "p.yaml")},
                          content_type="multipart/form-data")
@@ -250,9 +253,10 @@ def test_users_page_add_role_deactivate_tokens(client, demo):
     client.post(f"/users/{ada.id}/role", data={"csrf_token": token, "role": "technician"})
     page = client.post(f"/users/{ada.id}/tokens", data={"csrf_token": token}).get_data(as_text=True)
     issued = re.search(r'class="token-value">(wst_[^<]+)<', page).group(1)
-    assert client.get("/api/v1/units", headers={"Authorization": f"Bearer {issued}"}).status_code == 200
+    with_token = {"Authorization": f"Bearer {issued}"}
+    assert client.get("/api/v1/units", headers=with_token).status_code == 200
     client.post(f"/users/{ada.id}/tokens/revoke", data={"csrf_token": token})
-    assert client.get("/api/v1/units", headers={"Authorization": f"Bearer {issued}"}).status_code == 401
+    assert client.get("/api/v1/units", headers=with_token).status_code == 401
     client.post(f"/users/{ada.id}/active", data={"csrf_token": token, "active": "0"})
     with demo.transaction() as s:
         ada = s.scalar(select(m.User).where(m.User.username == "ada"))
@@ -269,5 +273,7 @@ def test_steward_cannot_lock_themself_out(client, demo):
     token = csrf_from(client, "/users/")
     with demo.transaction() as s:
         me = s.scalar(select(m.User).where(m.User.username == "steward"))
-    assert client.post(f"/users/{me.id}/active", data={"csrf_token": token, "active": "0"}).status_code == 400
-    assert client.post(f"/users/{me.id}/role", data={"csrf_token": token, "role": "viewer"}).status_code == 400
+    assert client.post(f"/users/{me.id}/active",
+                       data={"csrf_token": token, "active": "0"}).status_code == 400
+    assert client.post(f"/users/{me.id}/role",
+                       data={"csrf_token": token, "role": "viewer"}).status_code == 400

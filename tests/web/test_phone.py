@@ -60,7 +60,9 @@ def test_page_fits_a_phone(phone, path):
         const w = document.documentElement.clientWidth;
         const over = [...document.querySelectorAll('body *')]
             .filter(e => e.getBoundingClientRect().right > w + 1 && e.offsetParent !== null)
-            .slice(0, 5).map(e => e.tagName + '.' + e.className + ' ' + Math.round(e.getBoundingClientRect().right));
+            .slice(0, 5)
+            .map(e => e.tagName + '.' + e.className + ' '
+                      + Math.round(e.getBoundingClientRect().right));
         return {scroll: document.documentElement.scrollWidth, width: w, over};
     }""")
     assert wide["scroll"] <= wide["width"], (path, wide)

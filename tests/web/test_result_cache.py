@@ -95,6 +95,7 @@ def test_cache_keeps_the_newest_and_computes_a_miss_once():
     cache = ResultCache(size=2)
     calls = []
     for key in ("a", "b", "a", "c", "a", "b"):
-        cache.get(key, lambda: calls.append(key) or key.upper())
+        # k=key binds this round's key (the cache calls the function at once, on a miss)
+        cache.get(key, lambda k=key: calls.append(k) or k.upper())
     # "a" stays (used most recently before "c" came); "b" was pushed out by "c"
     assert calls == ["a", "b", "c", "b"]
