@@ -1,6 +1,6 @@
 """The ``withstand`` command.
 
-Exit codes (SPEC §6): 0 done, 1 the command ran and the answer is no, 2 bad input (nothing
+Exit codes: 0 done, 1 the command ran and the answer is no, 2 bad input (nothing
 written). Every failure is a message naming what is wrong, never a traceback.
 """
 

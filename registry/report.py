@@ -6,13 +6,13 @@ from .engine.quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, RESISTANCE, 
                               format_quantity as qtext)
 from .engine.result import Result, SetupResult, format_ratio, margin_ratio
 
-DEFAULT_LIMIT = 20  # setups shown without --all (SPEC §4)
+DEFAULT_LIMIT = 20  # setups shown without --all
 _MARK = {"pass": "ok", "caution": "CAUTION", "fail": "FAIL", "unknown": "UNKNOWN",
          "not-run": "not run"}
 
 
 def exit_code(result: Result) -> int:
-    """0 when some setup is suitable or conditional, else 1 (SPEC §4)."""
+    """0 when some setup is suitable or conditional, else 1 (docs/rules.md, "Verdicts")."""
     return 0 if result.any_fit else 1
 
 

@@ -1,5 +1,5 @@
 """The fleet file format: every kind of validation error names its path; the round trip is
-lossless in YAML and JSON. (The format is the project's own, SPEC §4.)"""
+lossless in YAML and JSON. (The format is the project's own.)"""
 
 import json
 

@@ -1,5 +1,5 @@
-"""Plan files: validation that names every field, defaults of SPEC §4, the round trip, and
-the shipped JSON Schema (checked with the jsonschema reference library)."""
+"""Plan files: validation that names every field, the plan defaults of engine/spec.py, the round
+trip, and the shipped JSON Schema (checked with the jsonschema reference library)."""
 
 import json
 from datetime import date

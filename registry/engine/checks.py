@@ -1,4 +1,4 @@
-"""Checks 2 to 9 of SPEC §5, one function per check, each ``fn(ctx) -> list[Finding]``.
+"""Checks 2 to 9 of docs/rules.md, one function per check, each ``fn(ctx) -> list[Finding]``.
 
 Every function reads a :class:`~registry.engine.setups.SetupContext` (SI floats) and says, per
 item of the chain, what is required, what is available and whether it holds. Missing
@@ -40,10 +40,12 @@ SRC_DIVIDER = "divider output as a Thevenin source Rout (common practice, no sou
 SRC_DIVIDER_DATA = "two-resistor divider: A = (Rt + Rb||RL)/(Rb||RL), Rout = Rt||Rb (circuit " \
                    "theory); 10 % agreement (common practice, no source)"
 
-READING_TOLERANCE = 0.01  # a reading more than 1 % low is a caution (SPEC §5.7)
-LOAD_TOLERANCE = 0.10     # a divider load more than 10 % off its required load (SPEC §5.7)
-DISCHARGE_TIME_LIMIT = 60.0  # s; a longer discharge is a caution (SPEC §5.9)
-DRAIN_FACTOR = 10.0       # R*C under ten times the duration drains appreciably (SPEC §5.9)
+READING_TOLERANCE = 0.01  # a reading more than 1 % low is a caution (docs/rules.md, check 7)
+LOAD_TOLERANCE = 0.10     # a divider load more than 10 % off its required load (docs/rules.md,
+                          # check 7)
+DISCHARGE_TIME_LIMIT = 60.0  # s; a longer discharge is a caution (docs/rules.md, check 9)
+DRAIN_FACTOR = 10.0       # R*C under ten times the duration drains appreciably (docs/rules.md,
+                          # check 9)
 
 
 def _f(check, status, subject, message, source, required="", available="", margin=None, *,

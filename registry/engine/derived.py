@@ -82,7 +82,7 @@ class Derived:
 
 
 def expected_transient(plan: Plan) -> tuple[float | None, str]:
-    """The transient (V peak) the setup must withstand, and its source (SPEC §5.3).
+    """The transient (V peak) the setup must withstand, and its source (docs/rules.md, check 3).
 
     Mains: the table's value for the category at the voltage to earth; a plan's own higher
     ``transient`` wins (a site survey may know worse), a lower one does not (the standard's

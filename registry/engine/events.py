@@ -1,5 +1,5 @@
 """Logged events: whether the applied stress was within the unit's rating, whether a clamp
-conducted, and whether a hold opens (SPEC §3).
+conducted, and whether a hold opens (docs/rules.md, check 11).
 
 The stress is held against the model the way a job plan would be:
 
@@ -20,7 +20,7 @@ The stress is held against the model the way a job plan would be:
 
 ``within_rating`` is ``True``, ``False`` or ``None`` (the data to decide is missing). ``None``
 opens a hold like ``False``: a stress not shown to be within rating is treated as one that was
-not (SPEC safety rule: missing data is "unknown", never "fine").
+not (docs/rules.md, "Verdicts": missing data is "unknown", never "fine").
 
 Pure: SI floats only (V, J, s).
 """
@@ -83,7 +83,7 @@ class Assessment:
 
 
 def check_symptoms(symptoms) -> tuple[str, ...]:
-    """The symptoms as a tuple, each from SPEC §3's list; ``none`` stands alone."""
+    """The symptoms as a tuple, each from ``spec.SYMPTOMS``; ``none`` stands alone."""
     out = tuple(symptoms or ())
     problems = [FieldProblem("symptoms", f"'{s}' is not a symptom; use {', '.join(SYMPTOMS)}")
                 for s in out if s not in SYMPTOMS]
@@ -124,7 +124,7 @@ def _limit(what: str, have: float | None, applied: float, dim, source: str,
 
 def rating_voltage_verdict(model: ModelSpec, voltage: float) -> Verdict:
     """An isolated source at ``voltage`` V: some rating's voltage, of any category, covers it
-    (SPEC §5.2, isolated circuits)."""
+    (docs/rules.md, check 2, isolated circuits)."""
     if not model.ratings:
         return None, f"{model.key} has no rating recorded ({SRC_RATING})."
     best = max(model.ratings, key=lambda r: r.voltage)
@@ -288,7 +288,7 @@ def _voltage_verdicts(model: ModelSpec, mode: Mode | None, voltage: float,
 def assess(model: ModelSpec, mode_key: str | None, stress: AppliedStress,
            symptoms=()) -> Assessment:
     """Decide ``within_rating`` for ``stress`` on a unit of ``model`` in ``mode_key``, whether
-    a clamp conducted, and whether a hold opens (SPEC §3)."""
+    a clamp conducted, and whether a hold opens (docs/rules.md, check 11)."""
     mode = mode_of(model, mode_key)
     symptoms = check_symptoms(symptoms)
     kind, v = stress.kind, stress.voltage

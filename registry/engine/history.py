@@ -19,7 +19,7 @@ from .spec import Plan, UnitState
 SRC_HISTORY = "the unit's logged events (common practice, no source)"
 SRC_VARISTOR = "varistors degrade with each surge they clamp (maker's datasheets; common " \
                "practice, no source)"
-WORN_CLAMP_EVENTS = 3  # three or more clamped transients are a caution (SPEC §5.11)
+WORN_CLAMP_EVENTS = 3  # three or more clamped transients are a caution (docs/rules.md, check 11)
 
 # Events that are a stress on the input: one whose size was not recorded stays a caution.
 # A fuse-open, mechanical or other event without a stated voltage is settled by the

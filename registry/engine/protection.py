@@ -41,7 +41,7 @@ def stresses_for(ctx: SetupContext) -> dict:
 
 
 def protection_path_check(ctx: SetupContext) -> list[Finding]:
-    """SPEC §5 check 10 for a setup; [] when the instrument's model has no front end."""
+    """docs/rules.md, check 10 for a setup; [] when the instrument's model has no front end."""
     model = ctx.instrument
     if not model.front_end or ctx.mode.clamp or ctx.current_clamp is not None:
         return []

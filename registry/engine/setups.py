@@ -3,7 +3,8 @@ put together for a plan, and the context every other check reads.
 
 A setup is an instrument and one mode, plus at most one lead-type accessory (test leads, an
 hv divider or a current clamp) and at most one tip (probe or clip) on it, connectors matching
-(SPEC §5.1). Combinations are enumerated per model, not per unit: many units share a model.
+(docs/rules.md, check 1). Combinations are enumerated per model, not per unit: many units
+share a model.
 """
 
 from __future__ import annotations
@@ -19,7 +20,8 @@ from .spec import LEAD_KINDS, TIP_KINDS, Mode, ModelSpec, Plan
 SOURCE = "setup shape: connectors, accessories and mode fit the task (common practice, no source)"
 VOLTAGE_TASKS = ("measure-voltage", "verify-absence")
 # An input below this counts as low impedance: it loads a circuit and drains a capacitance
-# (SPEC §5.1: a voltage mode under 100 kohm may serve to discharge). Common practice, no source.
+# (docs/rules.md, check 1: a voltage mode under 100 kohm may serve to discharge). Common practice,
+# no source.
 LOW_Z = 100e3  # ohm
 
 
@@ -128,7 +130,7 @@ def _waveform_covers(mode: Mode, waveform: str) -> bool:
 
 
 def mode_fits(plan: Plan, instrument: ModelSpec, mode: Mode, lead: ModelSpec | None) -> bool:
-    """Whether ``mode`` (with ``lead``) does the plan's task (SPEC §5.1)."""
+    """Whether ``mode`` (with ``lead``) does the plan's task (docs/rules.md, check 1)."""
     task = plan.task
     if instrument.kind == "discharge-tool" and task != "discharge":
         return False  # a discharge tool measures nothing

@@ -46,7 +46,8 @@ SUPPLIES = ("mains", "isolated")
 PLAN_WAVEFORMS = ("ac", "dc")
 EVENT_WAVEFORMS = PLAN_WAVEFORMS  # an event's waveform, when it was logged
 
-# Parameters each front-end element type may carry (SPEC §3), all SI floats.
+# Parameters each front-end element type may carry (the fleet format's ``front_end``), all SI
+# floats.
 ELEMENT_PARAMS: dict[str, tuple[str, ...]] = {
     "resistor": ("resistance", "power", "pulse_energy", "max_voltage"),
     "ptc": ("resistance", "hold_current", "trip_current", "max_voltage", "max_current",
@@ -75,7 +76,8 @@ ELEMENT_PARAM_DIMS: dict[str, Dimension] = {
 
 DEFAULT_MAX_ALTITUDE = 2000.0  # m; IEC 61010-1 scope: equipment is rated up to 2000 m
 DEFAULT_POLLUTION_DEGREE = 2  # IEC 61010-1 default environment
-DEFAULT_DURATION = 60.0  # s, SPEC §4: how long a setup stays connected unless the plan says
+# s, the plan format's default: how long a setup stays connected unless the plan says
+DEFAULT_DURATION = 60.0
 
 
 class SpecError(ValueError):

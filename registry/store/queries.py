@@ -14,7 +14,7 @@ from . import models as m
 
 MAINS_CATEGORIES = spec.MAINS_CATEGORIES
 # The rows of the coverage chart: the voltage rows of the impulse table that check 3 rounds up
-# to (SPEC §5.3), which are also the voltages ratings are usually stated at.
+# to (docs/rules.md, check 3), which are also the voltages ratings are usually stated at.
 COVERAGE_VOLTAGES = (150.0, 300.0, 600.0, 1000.0)
 SORTS = {
     "tag": m.Unit.tag, "model": m.Model.key, "kind": m.Model.kind, "site": m.Site.name,
@@ -204,8 +204,8 @@ class Coverage:
 def coverage(session: Session) -> Coverage:
     """For each mains category and voltage row: how many in-service instruments, and how many
     in-service accessories, have a rating that takes it, by the engine's own rule (a rating at
-    least that category and that voltage at once, SPEC §5.2). The dashboard and the audit
-    workbook both show this."""
+    least that category and that voltage at once, docs/rules.md, check 2). The dashboard and the
+    audit workbook both show this."""
     out = Coverage(COVERAGE_VOLTAGES, MAINS_CATEGORIES)
     for table in (out.instruments, out.accessories):
         table.update({(cat, v): 0 for cat in MAINS_CATEGORIES for v in COVERAGE_VOLTAGES})

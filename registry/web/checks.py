@@ -35,7 +35,7 @@ bp = Blueprint("checks", __name__, url_prefix="/checks")
 QUANTITY_FIELDS = tuple(CIRCUIT_QUANTITIES)
 FIELDS = (("title", "task", "supply", "category", "waveform") + QUANTITY_FIELDS
           + ("site", "altitude", "wet", "duration", "discharge_to", "on"))
-SHOWN = 20  # setups listed before "show all" (SPEC §4)
+SHOWN = 20  # setups listed before "show all", as report.DEFAULT_LIMIT in the CLI
 MAX_PLOTS = 4
 # Where a plan path's problem is shown on the form.
 PATH_FIELDS = {"circuit": "voltage", "site": "altitude", "site.name": "site",

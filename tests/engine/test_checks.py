@@ -40,7 +40,8 @@ def test_cat_iii_meter_with_cat_iv_leads_fits_a_480_277_board():
 
 
 def test_cat_ii_meter_does_not_fit_a_cat_iii_board():
-    # A higher voltage in a lower category does not stand in for the category (SPEC §5.2).
+    # A higher voltage in a lower category does not stand in for the category (docs/rules.md,
+    # check 2).
     m = meter("mx-2", ratings=(Rating("II", 1000.0),))
     fleet = fleet_of([m, leads()], [unit("M2", "mx-2"), unit("L1", "tl-4")])
     s = _only(evaluate(panel_plan(), fleet), "M2", "vac")
@@ -51,7 +52,7 @@ def test_cat_ii_meter_does_not_fit_a_cat_iii_board():
 
 
 def test_higher_category_at_lower_voltage_does_not_stand_in():
-    # CAT IV 300 V on a CAT III 480 V board: category enough, voltage not (SPEC §5.2).
+    # CAT IV 300 V on a CAT III 480 V board: category enough, voltage not (docs/rules.md, check 2).
     m = meter("mx-4", ratings=(Rating("IV", 300.0),))
     fleet = fleet_of([m, leads()], [unit("M4", "mx-4"), unit("L1", "tl-4")])
     s = _only(evaluate(panel_plan(), fleet), "M4", "vac")
@@ -219,7 +220,8 @@ def test_current_mode_above_its_maximum_fails():
 
 
 def test_other_mode_on_the_same_terminals_is_a_caution():
-    # SPEC §5.6: the low-Z mode (600 V) shares V/COM with DC volts (1000 V) on an 800 V link.
+    # docs/rules.md, check 6: the low-Z mode (600 V) shares V/COM with DC volts (1000 V) on
+    # an 800 V link.
     plan = Plan("measure-voltage", Circuit("isolated", "dc", 800.0), altitude=40.0,
                 on=JOB_DAY, site="North bench")
     m = meter(ratings=(Rating("III", 1000.0),))

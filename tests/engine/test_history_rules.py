@@ -1,5 +1,5 @@
-"""Check 11 on a unit's history (SPEC §5.11; the rules are the project's own: common practice,
-no source)."""
+"""Check 11 on a unit's history (docs/rules.md, check 11; the rules are the project's own: common
+practice, no source)."""
 
 from datetime import date, datetime
 

@@ -29,7 +29,7 @@ ON = date(2026, 12, 2)
 #   accessories: bw-ld4 x5, bw-guard2 x3, bw-jaw5 x1, bw-fx30 x1 (all CAT IV 600 V, CAT III
 #   1000 V), bw-ld2 x1 (CAT II 600 V), bw-bare19 x1 (CAT II 1000 V); ks-hv30 is 'none'.
 # A higher category stands in for a lower one at the same voltage, not the other way round
-# (SPEC §5.2).
+# (docs/rules.md, check 2).
 HAND_COUNT = {
     ("instruments", "CAT II"): [13, 13, 13, 1],
     ("instruments", "CAT III"): [13, 13, 11, 1],

@@ -1,5 +1,5 @@
-"""Logging events: the within-rating decision, clamp conduction, the hold rule (SPEC §3),
-validation, release and retirement, and the history check after release (SPEC §5.11).
+"""Logging events: the within-rating decision, clamp conduction, the hold rule (docs/rules.md,
+check 11), validation, release and retirement, and the history check after release (check 11).
 
 Limits come from the demo fleet's model records (seeddata/fleet.yaml: kx-7 rated CAT III
 1000 V and CAT IV 600 V, vdc max input 1000 V, lowz max input 600 V for at most 60 s, RV1
@@ -52,7 +52,8 @@ def unit_status(database, tag):
 def test_overvoltage_is_an_isolated_source_against_rating_and_max_input(models, volts, within):
     # kx-7: highest rated voltage 900 V (CAT III), vdc max input 1000 V (model record): the
     # lower of the two bounds;
-    # an isolated source needs a rating of any category at least the voltage (SPEC §5.2).
+    # an isolated source needs a rating of any category at least the voltage (docs/rules.md,
+    # check 2).
     a = assess(models["kx-7"], "vdc", AppliedStress("overvoltage", volts))
     assert a.within_rating is within
     assert a.hold is (not within)
@@ -249,7 +250,7 @@ def test_bad_release_input(demo):
         release_hold(demo, unit="NB-0003", result="pass", by="viewer")
 
 
-# -- history in the engine (SPEC §5.11) --------------------------------------------------------
+# -- history in the engine (docs/rules.md, check 11) -----------------------------------------------
 
 def _result(database):
     plan = spec.Plan(task="measure-voltage", on=ON,

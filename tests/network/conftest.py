@@ -17,7 +17,7 @@ E = Element.of
 
 
 def kx7_front_end(**override):
-    """SPEC §4's example front end: R1 1 kohm 2 W V->n1, PT1 PTC n1->n2, RV1 varistor
+    """The KX-7's example front end: R1 1 kohm 2 W V->n1, PT1 PTC n1->n2, RV1 varistor
     n2->COM, S1 switch n2->COM (gap 2 mm), IN input n2->COM 10 Mohm."""
     els = {
         "R1": E("R1", "resistor", ("V", "n1"), resistance=1000.0, power=2.0, pulse_energy=20.0),

@@ -59,8 +59,8 @@ def test_closed_switch_shorts_and_open_switch_sees_the_node():
 
 
 def test_spec_example_input_resistances():
-    # SPEC §4's front end: vdc is 1k + 1k + 10M = 10.002 Mohm (10 Mohm stated: agrees);
-    # lowz closes S1 across n2, leaving 1k + 1k = 2 kohm against the 2.6 kohm stated.
+    # The KX-7 example front end (conftest.py): vdc is 1k + 1k + 10M = 10.002 Mohm (10 Mohm stated:
+    # agrees); lowz closes S1 across n2, leaving 1k + 1k = 2 kohm against the 2.6 kohm stated.
     m = kx7()
     assert netlist_resistance(build_netlist(m, VDC)) == pytest.approx(10.002e6, rel=1e-4)
     assert netlist_resistance(build_netlist(m, LOWZ)) == pytest.approx(2e3, rel=1e-7)

@@ -125,7 +125,7 @@ def test_impulse_not_run_without_transient():
 
 
 def test_discharge_of_a_resistive_path_matches_rc_formula():
-    # SPEC §5 check 9 (textbook RC discharge): t = R C ln(V0/Vs), energy C (V0^2 - Vs^2)/2.
+    # docs/rules.md, check 9 (textbook RC discharge): t = R C ln(V0/Vs), energy C (V0^2 - Vs^2)/2.
     # lowz: R1 + PT1 (cold) + nothing else across S1: 2 kohm; PT1 heats but 50 uF at 400 V
     # gives it 4 J at most, below its 20 J trip energy.
     plan = dict(PLAN, working_voltage=400.0, waveform="dc", capacitance=50e-6,

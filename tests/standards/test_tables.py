@@ -23,7 +23,8 @@ def test_impulse_table(category, row, expected):
 
 
 def test_impulse_rounds_up_to_next_row():
-    # SPEC §5.3: the nominal voltage to earth rounded up to the table's next row.
+    # docs/rules.md, check 3 (IEC 61010-2-030 Table 102): the nominal voltage to earth rounded up to
+    # the table's next row.
     assert impulse.expected_impulse("III", 277) == 4000  # 480/277 V board -> 300 V row
     assert impulse.expected_impulse("III", 120) == 2500
     assert impulse.expected_impulse("IV", 400) == 8000

@@ -155,7 +155,7 @@ def test_post_checks_returns_the_result_format(client, tokens):
     # conditional: the DR-1's 400 W rating against V0**2/R = 800**2/1000 = 640 W at the start
     # (common practice (no source))
     assert body["setups"][0]["verdict"] == "conditional"
-    # E = C V^2 / 2 = 2e-3 F * 800^2 V^2 / 2 = 640 J (SPEC §5.9)
+    # E = C V^2 / 2 = 2e-3 F * 800^2 V^2 / 2 = 640 J (docs/rules.md, check 9)
     assert body["plan"]["energy"] == pytest.approx(640.0)
     assert body["cautions"]
     # findings only when asked; the deciding one always

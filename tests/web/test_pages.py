@@ -30,8 +30,8 @@ def test_dashboard_counts_and_coverage(client, demo):
 
 
 def test_coverage_counts_follow_the_category_rule(demo):
-    # SPEC §5.2: a rating covers its category and the ones below, at its voltage and below;
-    # counted here by hand from the rows, against the query.
+    # docs/rules.md, check 2: a rating covers its category and the ones below, at its voltage and
+    # below; counted here by hand from the rows, against the query.
     from registry.store.queries import coverage
     with demo.transaction() as s:
         cov = coverage(s)
@@ -159,7 +159,7 @@ def test_check_form_result_and_derived_values(client, demo):
     # 400 W rating, common practice (no source)
     assert rows[0] == ("conditional", "1", "BL-0002")
     assert "✔" in table and "✘" in table  # symbols as well as words
-    # E = C V^2 / 2 = 2 mF * (800 V)^2 / 2 = 640 J (SPEC §5.9)
+    # E = C V^2 / 2 = 2 mF * (800 V)^2 / 2 = 640 J (docs/rules.md, check 9)
     assert "640 J in 2 mF at 800 V" in page
     assert "All " in page and "findings" in page and "<details>" in page
     assert "Cautions" in page and "does not replace" in page

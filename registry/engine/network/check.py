@@ -1,4 +1,4 @@
-"""SPEC §5 check 10, the protection path: the public entry points and the cache.
+"""docs/rules.md, check 10, the protection path: the public entry points and the cache.
 
 The analysis of a netlist under a set of conditions is cached on (netlist content, mode key,
 conditions): the model's key is not part of it, so models that share a front end share their
@@ -205,7 +205,7 @@ def _finding(model: ModelSpec, mode: Mode, s: ElementStress, misuse: bool) -> Fi
         prefix = f"Mode {mode.key} (reasonably foreseeable misuse: selected by mistake on this " \
                  "circuit)"
         if status == "fail":
-            status = "caution"  # SPEC §5 check 6: a shortfall in another mode is a caution
+            status = "caution"  # docs/rules.md, check 6: a shortfall in another mode is a caution
     margin = s.margin
     if margin is not None and not math.isfinite(margin):
         margin = None
@@ -255,7 +255,7 @@ def protection_path_findings(model: ModelSpec, mode: Mode, *, working_voltage: f
                              impulse_peak: float | None, generator_impedance: float | None,
                              capacitance: float | None, safe_voltage: float, altitude: float,
                              duration: float, misuse: bool = False) -> list[Finding]:
-    """SPEC §5 check 10 for ``model`` in ``mode``: findings with check "protection-path"
+    """docs/rules.md, check 10 for ``model`` in ``mode``: findings with check "protection-path"
     (and one "input-consistency" for the setup's own mode, i.e. ``misuse=False``).
 
     ``working_voltage`` V (rms for ``waveform`` "ac"), ``source_impedance`` ohm (None: a

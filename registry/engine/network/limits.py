@@ -1,4 +1,4 @@
-"""Every element's stress in each scenario held against its limit (SPEC §5 check 10).
+"""Every element's stress in each scenario held against its limit (docs/rules.md, check 10).
 
 One :class:`ElementStress` per element, scenario and limit: what the element sees, what it
 may take and where that limit comes from. A missing limit is ``unknown``; an element the

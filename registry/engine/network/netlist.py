@@ -1,7 +1,8 @@
 """A model's front end in one mode, as a netlist the solver takes.
 
-The netlist is the model's front-end elements (SPEC §3), the mode's terminals (the first is
-driven, the second is the return and the reference node) and the switches the mode closes.
+The netlist is the model's front-end elements (the fleet format's ``front_end``), the mode's
+terminals (the first is driven, the second is the return and the reference node) and the
+switches the mode closes.
 Everything is frozen and hashable, and it does not carry the model's key: two models with the
 same front end share their solves (see :mod:`registry.engine.network.check`).
 """

@@ -1,4 +1,4 @@
-"""The three scenarios of SPEC §5 check 10 on one netlist: steady, impulse, discharge.
+"""The three scenarios of docs/rules.md, check 10 on one netlist: steady, impulse, discharge.
 
 Each returns the solves it made, labelled by the state of the elements (PTCs cold or tripped,
 fuses intact or open, gas tubes fired or not), and what happened on the way (trips, their
