@@ -252,6 +252,9 @@ def import_(file: Path, dry_run: bool, actor: str | None):
     for entity, key, path, old, new in report.changes:
         click.echo(f"  ~ {entity} {key} {path}: {old if old is not None else '(none)'} -> "
                    f"{new if new is not None else '(none)'}")
+    for tag, asked in report.kept_on_hold:
+        click.echo(f"  ! unit {tag} stays on-hold, not {asked}: its hold is open, and only a "
+                   "steward's release (withstand hold release) returns it to service")
     if dry_run:
         click.echo("Dry run: nothing was written.")
 

@@ -104,3 +104,44 @@ def test_import_export_on_postgres(pg_url, doc):
             assert s.scalar(select(m.Unit.status).where(m.Unit.tag == "NB-0002")) == "in-service"
     finally:
         database.dispose()
+
+
+def _status_and_open_hold(database, tag):
+    with database.transaction() as s:
+        unit = s.scalar(select(m.Unit).where(m.Unit.tag == tag))
+        return unit.status, [h.id for h in unit.holds if h.released_at is None]
+
+
+def test_an_import_cannot_return_a_held_unit_to_service(demo):
+    """An open hold ends only by a steward's release with its inspection result; re-importing
+    an older export that says in-service keeps the unit on-hold, says so, and records no
+    status change (the rest of the file is still applied)."""
+    from registry.services.events import log_event
+    with demo.transaction() as s:
+        before = fleet_to_document(export_fleet(s))
+    held = log_event(demo, unit="NB-0001", kind="mechanical", symptoms=["visible-damage"],
+                     by="tech")
+    assert held.hold_id is not None
+    assert _status_and_open_hold(demo, "NB-0001") == ("on-hold", [held.hold_id])
+    unit = next(u for u in before["units"] if u["tag"] == "NB-0001")
+    assert unit["status"] == "in-service"
+    unit["notes"] = "recalibrated 2026-11"
+    report = import_fleet(demo, before, actor="steward")
+    assert report.kept_on_hold == [("NB-0001", "in-service")]
+    assert _status_and_open_hold(demo, "NB-0001") == ("on-hold", [held.hold_id])
+    paths = [(key, path) for _e, key, path, _a, _b in report.changes]
+    assert ("NB-0001", "notes") in paths and ("NB-0001", "status") not in paths
+
+
+def test_the_cli_import_says_which_units_stay_on_hold(runner, demo, tmp_path):
+    """The same rule on the command line, with the reason printed beside the unit."""
+    from registry.cli import main
+    out = tmp_path / "fleet.yaml"
+    assert runner.invoke(main, ["export", str(out)]).exit_code == 0
+    logged = runner.invoke(main, ["event", "add", "--unit", "NB-0001", "--kind", "mechanical",
+                                  "--symptom", "visible-damage", "--by", "tech"])
+    assert logged.exit_code == 0 and "Hold" in logged.output
+    result = runner.invoke(main, ["import", str(out), "--by", "steward"])
+    assert result.exit_code == 0, result.output
+    assert "unit NB-0001 stays on-hold, not in-service: its hold is open" in result.output
+    assert "NB-0001 status" not in result.output

@@ -4,7 +4,7 @@ into the engine's specs."""
 from __future__ import annotations
 
 import json
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from datetime import datetime, UTC
 
 from sqlalchemy import func, insert, select, update
@@ -29,6 +29,8 @@ class ImportReport:
     updated: list[str] = field(default_factory=list)
     unchanged: int = 0
     changes: list[tuple[str, str, str, str | None, str | None]] = field(default_factory=list)
+    # units whose open hold kept them on-hold against the file's status: (tag, status asked)
+    kept_on_hold: list[tuple[str, str]] = field(default_factory=list)
 
     def summary(self) -> str:
         return (f"{len(self.added)} added, {len(self.updated)} updated, {self.unchanged} "
@@ -187,12 +189,18 @@ def _apply_units(session, content, model_ids, site_ids, report, changes) -> list
     updated by primary key, each in one executemany. Returns the (tag, notes) of the units
     the file marks on-hold that were written, for their holds."""
     stored = _stored_units(session)
+    open_holds = set(session.scalars(select(m.Hold.unit_id).where(m.Hold.released_at.is_(None))))
     inserts, updates, held = [], [], []
     for rec in content.units:
+        old = stored.get(rec.tag)
+        if old is not None and old[0] in open_holds and rec.status != "on-hold":
+            # An open hold ends only by a steward's release with its inspection result; a
+            # file (an older export, a unit sheet, the unit page) cannot return it to service.
+            report.kept_on_hold.append((rec.tag, rec.status))
+            rec = replace(rec, status="on-hold")
         # the order of _UNIT_FIELDS, spelt out: this loop runs once per unit
         values = (rec.model, rec.site, rec.serial, rec.custodian, rec.status, rec.verified_on,
                   rec.verification_due, rec.notes)
-        old = stored.get(rec.tag)
         if old is not None:
             if old[1:] == values:
                 report.unchanged += 1
