@@ -13,14 +13,10 @@ maker's models share a protection design). Prints wall-clock times; asserts noth
 from __future__ import annotations
 
 import argparse
-import sys
 import time
-from pathlib import Path
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
-
-from registry.engine.network import cache_clear, protection_path_findings  # noqa: E402
-from registry.engine.spec import Element, Mode, ModelSpec, Rating  # noqa: E402
+from registry.engine.network import cache_clear, protection_path_findings
+from registry.engine.spec import Element, Mode, ModelSpec, Rating
 
 E = Element.of
 MODES = (
