@@ -36,19 +36,30 @@ def _table(rows: list[list[str]], headers: list[str], wrap_last: int = 70) -> li
         return f"{head}  {cells[-1]}".rstrip()
     out = [line(headers), line(["-" * w for w in widths] + ["-" * len(headers[-1])])]
     indent = " " * (sum(widths) + 2 * len(widths))
+    # A fleet of copies repeats the same few reasons thousands of times: wrap each distinct
+    # last cell once (the output is the same, the work is per distinct text, not per row).
+    wrapped: dict[str, list[str]] = {}
     for r in rows:
-        words, last = r[-1].split(), []
-        chunk = ""
-        for w in words:
-            if chunk and len(chunk) + 1 + len(w) > wrap_last:
-                last.append(chunk)
-                chunk = w
-            else:
-                chunk = f"{chunk} {w}" if chunk else w
-        last.append(chunk)
+        last = wrapped.get(r[-1])
+        if last is None:
+            last = wrapped[r[-1]] = _wrap(r[-1], wrap_last, indent)
         out.append(line(r[:-1] + [last[0]]))
-        out.extend(indent + x for x in last[1:])
+        out.extend(last[1:])
     return out
+
+
+def _wrap(text: str, width: int, indent: str) -> list[str]:
+    """``text`` cut into lines of at most ``width`` characters at spaces (a longer word
+    stands alone); every line after the first carries ``indent``."""
+    last, chunk = [], ""
+    for w in text.split():
+        if chunk and len(chunk) + 1 + len(w) > width:
+            last.append(chunk)
+            chunk = w
+        else:
+            chunk = f"{chunk} {w}" if chunk else w
+    last.append(chunk)
+    return last[:1] + [indent + x for x in last[1:]]
 
 
 def derived_lines(result: Result) -> list[str]:
