@@ -7,6 +7,7 @@ from .engine.quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, RESISTANCE, 
 from .engine.result import Result, SetupResult, format_ratio, margin_ratio
 
 DEFAULT_LIMIT = 20  # setups shown without --all
+ACCESSORY_FOLD = 40  # above this many accessory units, like rows fold into one without --all
 _MARK = {"pass": "ok", "caution": "CAUTION", "fail": "FAIL", "unknown": "UNKNOWN",
          "not-run": "not run"}
 
@@ -97,9 +98,16 @@ def derived_lines(result: Result) -> list[str]:
     return out
 
 
-def accessory_lines(result: Result) -> list[str]:
+def accessory_lines(result: Result, *, fold: bool = False) -> list[str]:
     """Every accessory unit that could join a setup, its best verdict and, when none fits,
-    the reason (so "do not use these leads" is said)."""
+    the reason (so "do not use these leads" is said).
+
+    With ``fold`` the units of one model that share a verdict and a reason are one row (the
+    first unit named, with how many more; the margin only when they all share it), so a lab
+    of thousands of copied leads reads as a page; every distinct verdict and reason of every
+    model is still printed."""
+    if fold:
+        return _folded_accessory_lines(result)
     rows = []
     for a in result.accessories:
         setup = f"{a.instrument} {a.mode}" + (
@@ -110,6 +118,26 @@ def accessory_lines(result: Result) -> list[str]:
         rows.append([a.unit, a.kind, a.verdict, _margin(a.margin), setup,
                      why or "fits"])
     return _table(rows, ["unit", "kind", "best verdict", "margin", "in setup",
+                         "reason when none fits"])
+
+
+def _folded_accessory_lines(result: Result) -> list[str]:
+    groups: dict[tuple, list] = {}
+    for a in result.accessories:
+        why = "" if a.reason is None else f"{a.reason.check}: {a.reason.message} " \
+                                         f"Source: {a.reason.source}."
+        groups.setdefault((a.model, a.kind, a.verdict, why), []).append(a)
+    rows = []
+    for (_, kind, verdict, why), units in groups.items():
+        a = units[0]
+        setup = f"{a.instrument} {a.mode}" + (
+            " with " + ", ".join(t for t in a.accessories if t != a.unit)
+            if len(a.accessories) > 1 else "")
+        margins = {u.margin for u in units}
+        margin = _margin(a.margin) if len(margins) == 1 else "varies"
+        name = a.unit if len(units) == 1 else f"{a.unit} and {len(units) - 1} more {a.model}"
+        rows.append([name, kind, verdict, margin, setup, why or "fits"])
+    return _table(rows, ["unit", "kind", "best verdict", "margin", "in setup (first unit)",
                          "reason when none fits"])
 
 
@@ -186,7 +214,12 @@ def render_text(result: Result, *, show_all: bool = False, explain: str | None =
     if result.accessories:
         lines.append("")
         lines.append("Accessories (each unit's best setup; the reason when none fits):")
-        lines += accessory_lines(result)
+        fold = not show_all and len(result.accessories) > ACCESSORY_FOLD
+        lines += accessory_lines(result, fold=fold)
+        if fold:
+            lines.append(f"... {len(result.accessories)} accessory units: the units of one "
+                         "model with the same verdict and reason share a row (use --all to "
+                         "list each unit)")
     if result.excluded:
         lines.append("")
         lines.append("Not offered: " + ", ".join(f"{e.unit} ({e.reason})"

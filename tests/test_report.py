@@ -55,3 +55,26 @@ def test_needs_and_has_show_only_the_sides_a_finding_states():
     assert needs_has(both) == " [needs 480 V; has 1 kV]"
     assert needs_has(need) == " [needs <= 2 mm]"
     assert needs_has(none) == ""
+
+
+def test_many_like_accessory_units_fold_into_one_row_without_all():
+    # 45 lead units of one model, all with the same verdict: one row naming the first and
+    # the count; --all lists each unit. The verdict and reason are the engine's, not restated.
+    units = [unit("M00", "mx-3")] + [unit(f"L{i:02d}", "tl-4") for i in range(45)]
+    result = evaluate(panel_plan(), fleet_of([meter(), leads()], units))
+    assert len(result.accessories) == 45
+    verdict = result.accessory("L00").verdict
+    assert all(a.verdict == verdict for a in result.accessories)
+    text = render_text(result)
+    acc = text[text.index("Accessories ("):text.index("Cautions:")]
+    assert "L00 and 44 more tl-4" in acc and verdict in acc
+    assert "L44" not in acc
+    assert "45 accessory units" in acc and "use --all" in acc
+    full = render_text(result, show_all=True)
+    assert all(f"L{i:02d}" in full for i in range(45))
+    assert "more tl-4" not in full
+
+
+def test_few_accessory_units_are_each_listed():
+    text = render_text(_result())
+    assert "L1 " in text[text.index("Accessories ("):] and "and 0 more" not in text
