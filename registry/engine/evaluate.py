@@ -207,6 +207,22 @@ def _stats(combo: _Combo, extra: list[Finding]):
 _VERDICTS = {0: "suitable", 1: "conditional", 2: "unverified", 3: "unsuitable"}
 
 
+
+def split_units(fleet: Fleet, on: date) -> tuple[list[Excluded], dict[str, list[UnitState]]]:
+    """The units kept out of a job on ``on`` and why, and the rest by model key, in the
+    fleet's order; a unit of a model the fleet lacks is a :class:`SpecError`."""
+    excluded: list[Excluded] = []
+    available: dict[str, list[UnitState]] = {}
+    for unit in fleet.units:
+        if unit.model not in fleet.models:
+            raise SpecError(f"unit {unit.tag}: model {unit.model!r} is not in the fleet")
+        reason = exclusion_reason(unit, on)
+        if reason is not None:
+            excluded.append(Excluded(unit.tag, reason, unit.model))
+        else:
+            available.setdefault(unit.model, []).append(unit)
+    return excluded, available
+
 def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = ()) -> Result:
     """The whole check of ``plan`` against ``fleet`` (checks 1 to 12): one setup per available
     instrument unit and mode (with the best accessory units for it), ranked; every accessory
@@ -224,16 +240,7 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
     """
     on = plan.on or date.today()
     derived = derive(plan)
-    excluded: list[Excluded] = []
-    available: dict[str, list[UnitState]] = {}
-    for unit in fleet.units:
-        if unit.model not in fleet.models:
-            raise SpecError(f"unit {unit.tag}: model {unit.model!r} is not in the fleet")
-        reason = exclusion_reason(unit, on)
-        if reason is not None:
-            excluded.append(Excluded(unit.tag, reason, unit.model))
-        else:
-            available.setdefault(unit.model, []).append(unit)
+    excluded, available = split_units(fleet, on)
 
     # -- the models by content -----------------------------------------------------------------
     share = not extra_checks

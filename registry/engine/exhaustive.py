@@ -12,13 +12,13 @@ from datetime import date
 
 from .derived import derive
 from .evaluate import (ExtraCheck, _choice_key, _joined, _part, _unit_rank, accessory_rank,
-                       findings_for)
+                       findings_for, split_units)
 from .findings import Finding, verdict_of
-from .history import check_history, exclusion_reason, plan_cautions
-from .result import (VERDICT_ORDER, AccessoryResult, Excluded, Findings, Result, SetupResult,
+from .history import check_history, plan_cautions
+from .result import (VERDICT_ORDER, AccessoryResult, Findings, Result, SetupResult,
                      setup_margin, sort_key)
 from .setups import SetupContext, enumerate_setups
-from .spec import Fleet, Plan, SpecError, UnitState
+from .spec import Fleet, Plan, UnitState
 
 
 def evaluate_exhaustive(plan: Plan, fleet: Fleet, *,
@@ -29,16 +29,7 @@ def evaluate_exhaustive(plan: Plan, fleet: Fleet, *,
     to by the property tests; ``plan.on`` is the day of the job (today when not given)."""
     on = plan.on or date.today()
     derived = derive(plan)
-    excluded: list[Excluded] = []
-    available: dict[str, list[UnitState]] = {}
-    for unit in fleet.units:
-        if unit.model not in fleet.models:
-            raise SpecError(f"unit {unit.tag}: model {unit.model!r} is not in the fleet")
-        reason = exclusion_reason(unit, on)
-        if reason is not None:
-            excluded.append(Excluded(unit.tag, reason, unit.model))
-        else:
-            available.setdefault(unit.model, []).append(unit)
+    excluded, available = split_units(fleet, on)
 
     models = [m for key, m in fleet.models.items() if key in available]
     combos: dict[tuple[str, str], list[tuple[SetupContext, tuple[Finding, ...]]]] = {}

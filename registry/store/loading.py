@@ -15,14 +15,8 @@ from sqlalchemy.orm import Session
 
 from ..engine import spec
 from . import models as m
+from .specs import fuse_of, row_fields
 
-_FUSE_FIELDS = ("current", "voltage", "voltage_dc", "breaking_capacity", "i2t")
-
-
-def _fuse(row) -> spec.Fuse | None:
-    if not row.has_fuse:
-        return None
-    return spec.Fuse(**{f: getattr(row, f"fuse_{f}") for f in _FUSE_FIELDS})
 
 
 def _by_model(session: Session, table) -> dict[int, list]:
@@ -43,7 +37,7 @@ def _mode(x) -> spec.Mode:
         terminals=tuple(x.terminals or ()), input_resistance=x.input_resistance,
         input_capacitance=x.input_capacitance, max_input=x.max_input,
         max_current=x.max_current, max_duration=x.max_duration,
-        discharge_energy=x.discharge_energy, clamp=x.clamp, fuse=_fuse(x),
+        discharge_energy=x.discharge_energy, clamp=x.clamp, fuse=fuse_of(x),
         closes=tuple(x.closes or ()))
 
 
@@ -102,15 +96,7 @@ def model_specs(session: Session) -> dict[int, spec.ModelSpec]:
             out[row.id] = same.with_key(row.key)
             continue
         out[row.id] = built[content] = spec.ModelSpec(
-            key=row.key, kind=row.kind, maker=row.maker, name=row.name,
-            ratings=parts[0], modes=parts[1], front_end=parts[2],
-            connectors=tuple(row.connectors or ()), integrated_leads=row.integrated_leads,
-            max_altitude=row.max_altitude, pollution_degree=row.pollution_degree,
-            connector=row.connector, current_rating=row.current_rating,
-            tip_exposure=row.tip_exposure, fuse=_fuse(row), attenuation=row.attenuation,
-            required_load=row.required_load, output_resistance=row.output_resistance,
-            min_voltage=row.min_voltage, resistance=row.resistance, energy=row.energy,
-            power=row.power, max_voltage=row.max_voltage)
+            ratings=parts[0], modes=parts[1], front_end=parts[2], **row_fields(row))
     return out
 
 

@@ -15,15 +15,22 @@ from . import models as m
 _FUSE_FIELDS = ("current", "voltage", "voltage_dc", "breaking_capacity", "i2t")
 
 
-def _fuse_of(row) -> spec.Fuse | None:
+def fuse_of(row) -> spec.Fuse | None:
     if not row.has_fuse:
         return None
     return spec.Fuse(**{f: getattr(row, f"fuse_{f}") for f in _FUSE_FIELDS})
 
 
+def row_fields(row) -> dict:
+    """A model row's own fields (no children) as :class:`spec.ModelSpec` keywords; ``row``
+    is an ORM model or a Core row of the models table, which name their columns alike."""
+    out = {name: getattr(row, name) for name in _SCALARS}
+    out.update(key=row.key, connectors=tuple(row.connectors or ()), fuse=fuse_of(row))
+    return out
+
+
 def model_spec(row: m.Model) -> spec.ModelSpec:
     return spec.ModelSpec(
-        key=row.key, kind=row.kind, maker=row.maker, name=row.name,
         ratings=tuple(spec.Rating(r.category, r.voltage, r.transient, r.max_altitude)
                       for r in row.ratings),
         modes=tuple(spec.Mode(
@@ -31,18 +38,12 @@ def model_spec(row: m.Model) -> spec.ModelSpec:
             terminals=tuple(x.terminals or ()), input_resistance=x.input_resistance,
             input_capacitance=x.input_capacitance, max_input=x.max_input,
             max_current=x.max_current, max_duration=x.max_duration,
-            discharge_energy=x.discharge_energy, clamp=x.clamp, fuse=_fuse_of(x),
+            discharge_energy=x.discharge_energy, clamp=x.clamp, fuse=fuse_of(x),
             closes=tuple(x.closes or ())) for x in row.modes),
         front_end=tuple(spec.Element(e.element_id, e.type, (e.node_a, e.node_b),
                                      tuple((k, float(v)) for k, v in (e.params or {}).items()))
                         for e in row.elements),
-        connectors=tuple(row.connectors or ()), integrated_leads=row.integrated_leads,
-        max_altitude=row.max_altitude, pollution_degree=row.pollution_degree,
-        connector=row.connector, current_rating=row.current_rating,
-        tip_exposure=row.tip_exposure, fuse=_fuse_of(row), attenuation=row.attenuation,
-        required_load=row.required_load, output_resistance=row.output_resistance,
-        min_voltage=row.min_voltage, resistance=row.resistance, energy=row.energy,
-        power=row.power, max_voltage=row.max_voltage)
+        **row_fields(row))
 
 
 _SCALARS = ("maker", "name", "kind", "integrated_leads", "max_altitude", "pollution_degree",
