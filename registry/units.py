@@ -10,19 +10,49 @@ from __future__ import annotations
 import functools
 import math
 import re
+from pathlib import Path
+from typing import TYPE_CHECKING
 
-import pint
+import platformdirs
 
 from .engine.quantity import (  # noqa: F401  (re-exported for the edges)
     CAPACITANCE, CURRENT, DIMENSIONS, ENERGY, FREQUENCY, I2T, LENGTH, POWER, RESISTANCE, TIME,
     VOLTAGE, Dimension, bound_for, bound_problem, format_quantity)
 from .errors import InvalidInput, shown
 
-ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+if TYPE_CHECKING:
+    import pint
+
 # Spellings the trade writes that pint does not know by itself.
-ureg.define("Mohm = 1e6 * ohm")
-ureg.define("kohm = 1e3 * ohm")
-ureg.define("mohm = 1e-3 * ohm")
+_OUR_DEFINITIONS = ("Mohm = 1e6 * ohm", "kohm = 1e3 * ohm", "mohm = 1e-3 * ohm")
+
+
+@functools.cache
+def registry() -> pint.UnitRegistry:
+    """The package's one pint registry, built when a text first needs a unit.
+
+    Building pint's default registry parses its whole definitions file (about 0.2 s, most of a
+    short command's start-up), so pint is asked to keep the parsed definitions in this user's
+    cache folder (one folder per pint version, readable by the user only) and reads them back in
+    a few milliseconds. Those files only spare the parse: should one be unreadable (another
+    process writing it at that moment, a disk fault), the registry is built from the
+    definitions file as before.
+    """
+    import pint  # here, not at the top: a command that reads no unit text does not load pint
+    try:
+        folder = _cache_folder(pint.__version__)
+        ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True, cache_folder=folder)
+    except Exception:  # noqa: BLE001  (any fault of the cache: parse the definitions instead)
+        ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+    for line in _OUR_DEFINITIONS:
+        ureg.define(line)
+    return ureg
+
+
+def _cache_folder(version: str) -> Path:
+    folder = Path(platformdirs.user_cache_dir("withstand")) / f"pint-{version}"
+    folder.mkdir(mode=0o700, parents=True, exist_ok=True)
+    return folder
 
 
 _MICRO = re.compile(r"(?<![A-Za-z])u(?=[A-Za-z])")
@@ -50,12 +80,13 @@ def _dimensionality(dim: Dimension):
 # package's dimensions is multiplicative, so SI = magnitude x factor is pint's own conversion.
 @functools.lru_cache(maxsize=1024)
 def _unit_dimensionality(unit: str):
+    ureg = registry()
     return ureg.Quantity(1.0, unit).dimensionality if unit else ureg.Quantity(1.0).dimensionality
 
 
 @functools.lru_cache(maxsize=1024)
 def _factor(unit: str, canonical: str) -> float:
-    return float(ureg.Quantity(1.0, unit).to(canonical).magnitude)
+    return float(registry().Quantity(1.0, unit).to(canonical).magnitude)
 
 
 def _describe(dimensionality) -> str:

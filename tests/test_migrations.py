@@ -80,3 +80,22 @@ def test_missing_database_says_run_init(tmp_path):
     database = store_db.Database(f"sqlite:///{tmp_path / 'empty.sqlite3'}")
     with pytest.raises(Exception, match="withstand init"):
         store_db.require_current(database.engine)
+
+
+def test_the_head_every_command_checks_is_alembics_head(tmp_path):
+    """Commands check the database against ``SCHEMA_HEAD`` without importing Alembic; it must
+    be the head Alembic reads from the revision files, and the plain read of the version table
+    must be what Alembic's own migration context reads."""
+    database = store_db.Database(f"sqlite:///{tmp_path / 'head.sqlite3'}")
+    try:
+        engine = database.engine
+        assert store_db.current_revision(engine) is None
+        assert store_db.head_revision(engine) == store_db.SCHEMA_HEAD
+        store_db.upgrade(engine, "0002")
+        with engine.connect() as conn:
+            assert store_db.current_revision(engine) == \
+                MigrationContext.configure(conn).get_current_revision() == "0002"
+        with pytest.raises(store_db.DatabaseNotReady, match="not the latest"):
+            store_db.require_current(engine)
+    finally:
+        database.dispose()

@@ -3,6 +3,7 @@ Werkzeug); API tokens as SHA-256 digests, since a token is long and random alrea
 
 from __future__ import annotations
 
+import functools
 import hashlib
 import re
 import secrets
@@ -90,14 +91,18 @@ def authenticate(session: Session, username: str, password: str) -> m.User | Non
     user = session.scalar(select(m.User).where(m.User.username == (username or "").strip()))
     if user is None:
         # spend the same time as a real check, so that timing does not tell who exists
-        check_password_hash(_DUMMY_HASH, password or "")
+        check_password_hash(_dummy_hash(), password or "")
         return None
     if not user.active or not check_password_hash(user.password_hash, password or ""):
         return None
     return user
 
 
-_DUMMY_HASH = generate_password_hash("not-a-password")
+@functools.cache
+def _dummy_hash() -> str:
+    # made on the first failed login, not at import: a hash costs as much as a login (that is
+    # its point), and every command would pay it at start-up otherwise
+    return generate_password_hash("not-a-password")
 
 
 def token_digest(token: str) -> str:
