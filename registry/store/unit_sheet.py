@@ -14,8 +14,7 @@ import math
 import re
 from datetime import date, datetime, time, timedelta
 from pathlib import Path
-
-import pandas as pd
+from typing import TYPE_CHECKING
 
 from ..errors import FieldProblem, InvalidInput
 from ..formats.common import not_utf8
@@ -23,6 +22,9 @@ from ..formats.fleet import FORMAT, UnitDoc, parse_fleet, unit_to_document
 from .db import Database
 from .fleet import ImportReport, apply_fleet, known_keys
 from .specs import all_units, unit_record
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 SHEET_SUFFIXES = (".xlsx", ".csv")
 COLUMNS = tuple(UnitDoc.model_fields)
@@ -35,6 +37,7 @@ def is_unit_sheet(path: str | Path) -> bool:
 
 
 def _read(path: Path) -> pd.DataFrame:
+    import pandas as pd  # here: a third of a second, paid only when a sheet is read
     try:
         if path.suffix.lower() == ".csv":
             # Everything as text: a serial like "0413" must keep its leading zero.
@@ -53,6 +56,7 @@ def _cell(value, column: str):
     """A cell as the fleet file would hold it: text, a date, or absent (``None``). A time of
     day or a duration is refused (:class:`ValueError`): that is what a spreadsheet makes of
     ``10:1`` typed into a cell, and its text is gone."""
+    import pandas as pd  # loaded by _read already
     if value is None or (isinstance(value, float) and math.isnan(value)):
         return None
     if isinstance(value, pd.Timedelta):

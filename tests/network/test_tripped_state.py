@@ -105,7 +105,8 @@ def test_tripped_resistance_without_the_cold_resistance_cannot_be_solved():
 def test_scipy_complaints_become_solve_failed(monkeypatch):
     def no_bracket(*a, **k):
         raise ValueError("f(a) and f(b) must have different signs")
-    monkeypatch.setattr(scenarios, "brentq", no_bracket)
+    # the solver imports brentq from scipy.optimize when it first needs it
+    monkeypatch.setattr("scipy.optimize.brentq", no_bracket)
     net = Netlist((E("PT", "ptc", ("V", "COM"), resistance=10.0, tripped_power=1.0),),
                   "V", "COM")
     with pytest.raises(SolveFailed, match="tripped resistance of PT"):

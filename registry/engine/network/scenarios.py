@@ -14,8 +14,8 @@ from dataclasses import dataclass, field
 from functools import lru_cache
 
 import numpy as np
-from scipy.integrate import solve_ivp
-from scipy.optimize import brentq, minimize_scalar
+# scipy is imported where a solve first needs it (half a second, the most of any import in
+# the package): a command or a server start that solves nothing does not pay for it.
 
 from ..spec import Element
 from .devices import ptc_trip_energy, ptc_trip_time
@@ -64,6 +64,7 @@ SCAN_PER_DECADE = 8  # grid points per decade of R in the tripped-state scan (ou
 def _bracketed_root(f, a: float, b: float, what: str) -> float:
     """The root of ``f`` in [a, b] (f(a), f(b) of opposite signs) by scipy's brentq; scipy's
     complaints (no sign change, no convergence) become :class:`SolveFailed`."""
+    from scipy.optimize import brentq
     try:
         return brentq(f, a, b, xtol=1e-12, rtol=1e-12)
     except (ValueError, RuntimeError) as exc:
@@ -121,6 +122,7 @@ def tripped_resistance(net: Netlist, state: State, ptc_id: str, vs: float, rs: f
         values.append(fx)
     k = max(range(n + 1), key=values.__getitem__)
     lo, hi = grid[min(k + 1, n)], grid[max(k - 1, 0)]
+    from scipy.optimize import minimize_scalar
     try:
         hump = minimize_scalar(lambda x: -f(x), bounds=(lo, hi), method="bounded",
                                options={"xatol": 1e-6})
@@ -436,6 +438,7 @@ def integrate_discharge(net: Netlist, capacitance: float, v0: float, rs: float |
                               for k, id in enumerate(heating)]
         live = [e for e in evs if e is not None]
         scale = np.maximum(np.abs(y), 1.0)
+        from scipy.integrate import solve_ivp
         res = solve_ivp(rhs, (t0, duration), y, method="LSODA", events=live, rtol=1e-7,
                         atol=np.concatenate(([1e-7 * v0], 1e-9 * scale[1:])))
         if res.status == -1:
