@@ -153,3 +153,65 @@ def test_malformed_text_is_a_message_not_a_traceback(tmp_path):
         read_document(bad)
     with pytest.raises(InvalidInput, match="does not exist"):
         read_document(tmp_path / "missing.yaml")
+
+
+# Values of every unit field that the plain fast path (formats.fleet._PlainUnit) must either
+# read as UnitDoc reads them or leave to UnitDoc: YAML numbers kept as text, Unicode space,
+# format and control characters (Unicode general categories Zs, Cf, Cc, Cs, Co), the
+# bidirectional overrides (CVE-2021-42574), the length limits on both sides, and dates that
+# date.fromisoformat reads in other forms (Python 3.11 documentation: YYYYMMDD, week dates)
+# or that fall outside the years the package takes.
+def _yaml_scalar(text):
+    from registry.formats.common import load_yaml
+    return load_yaml(f"v: {text}")["v"]
+
+
+TRICKY_UNIT_VALUES = {
+    "tag": ["B-1", "b 1", "B-1\n", "", "x" * 64, "x" * 65, 5, _yaml_scalar("0123"), True,
+            None, "Ä-1"],
+    "serial": [_yaml_scalar("0123"), _yaml_scalar("1.50"), 1.5, True, "a\u00a0b", "a\u200bb",
+               "a\u202eb", "a\x00b", "a\tb", "x" * 1000, "x" * 1001, "", "\u65e5\u672c",
+               "a\ud800b", "\U0001f600", "\ue000", "a\u2028b", " spaced "],
+    "site": [None, "North bench", "", "North\u00a0bench"],
+    "status": ["in-service", "on-hold", "broken", None, ""],
+    "verified_on": ["2026-03-01", " 2026-03-01", "20260301", "2026-W09-1", "2026-02-30",
+                    "1899-12-31", "1900-01-01", "2200-12-31", "2201-01-01", 20260301,
+                    __import__("datetime").date(2026, 3, 1), "2026-03-01T00:00", None, "",
+                    "2026-03-01\n"],
+    "notes": ["line 1\nline 2", "a\r\nb", "a\x0bb", "x" * 10000, "x" * 10001, "tab\t",
+              "a\u2029b", _yaml_scalar("42")],
+    "colour": ["red"],  # not a field of the format
+}
+
+
+def test_the_units_fast_path_reads_every_entry_as_unitdoc_alone_does():
+    from pydantic import ValidationError
+
+    from registry.formats.common import problems_from
+    from registry.formats.fleet import UnitDoc, UnitRecord, _unit_records
+    base = {"tag": "T-0", "model": "kx-7", "serial": "S1", "site": "North bench",
+            "custodian": "Ines Marrow", "status": "in-service", "verified_on": "2026-03-01",
+            "verification_due": "2027-03-01", "notes": ""}
+    entries = [dict(base, tag=f"T-{i}") for i in range(5)]
+    for name, values in TRICKY_UNIT_VALUES.items():
+        for v in values:
+            entries.append({**base, "tag": f"T-{len(entries)}", name: v})
+            entries.append(dict(base, tag=f"T-{len(entries)}"))  # a plain one between
+    entries += ["B-9", None, [], {"tag": "T-x"}]
+    expected_records, expected_problems = [], []
+    for i, entry in enumerate(entries):  # the oracle: UnitDoc, entry by entry
+        try:
+            expected_records.append(UnitRecord(**UnitDoc.model_validate(entry).model_dump()))
+        except ValidationError as exc:
+            expected_records.append(None)
+            expected_problems += problems_from(exc, ("units", i))
+    got_problems = []
+    got = _unit_records({"units": entries}, got_problems)
+    assert got == expected_records
+    assert got_problems == expected_problems
+    assert sum(r is None for r in got) >= 30 and sum(r is not None for r in got) >= 60
+    # and the plain list alone takes the fast path whole, with the same records
+    plain = [e for e, r in zip(entries, expected_records, strict=True) if r is not None
+             and all(type(v) in (str, type(None)) for v in e.values())]
+    assert _unit_records({"units": plain}, []) == [
+        UnitRecord(**UnitDoc.model_validate(e).model_dump()) for e in plain]

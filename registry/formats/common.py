@@ -13,8 +13,9 @@ from pathlib import Path
 from typing import Annotated, Any
 
 import yaml
-from pydantic import BeforeValidator, ValidationError, ValidationInfo, WithJsonSchema
-from pydantic_core import PydanticCustomError
+from pydantic import BeforeValidator, GetPydanticSchema, ValidationError, ValidationInfo, \
+    WithJsonSchema
+from pydantic_core import PydanticCustomError, core_schema
 
 from .. import units as u
 from ..errors import FieldProblem, InvalidInput, shown
@@ -575,6 +576,37 @@ def _note_validator(value: Any) -> Any:
 Text = Annotated[str, BeforeValidator(_text_validator)]
 # The same for a note of several lines: tabs and line breaks are allowed.
 NoteText = Annotated[str, BeforeValidator(_note_validator)]
+
+
+# -- the plain fast path ---------------------------------------------------------------------
+#
+# The same text and date fields checked by pydantic-core alone, with no Python call per field,
+# for a validation that runs once per entry of a long list (a fleet file's units). Each accepts
+# only a subset of what its full field above accepts, and gives the same value for it: a plain
+# ``str`` every character of which ``str.isprintable`` passes (no Unicode "Other" or
+# "Separator" character but the ASCII space; that holds every character :func:`text_problem`
+# refuses), within the same length; a date only as exactly ``YYYY-MM-DD`` in the same years.
+# Anything else fails here, and the caller validates that entry again with the full fields,
+# whose messages are the ones a user reads. (The patterns are pydantic-core's Rust regex
+# syntax, in which ``$`` is the end of the text, never before a final line break.)
+PLAIN_LINE = r"^(?:[^\p{C}\p{Z}]| )*$"
+PLAIN_NOTE = r"^(?:[^\p{C}\p{Z}]|[ \t\n\r])*$"
+
+
+def plain_text(*, pattern: str = PLAIN_LINE, max_length: int = MAX_LINE_CHARS,
+               min_length: int | None = None):
+    """The fast-path form of :data:`Text`; with ``pattern`` and the lengths, of a key or a
+    note."""
+    schema = core_schema.str_schema(strict=True, pattern=pattern, max_length=max_length,
+                                    min_length=min_length)
+    return Annotated[str, GetPydanticSchema(lambda _type, _handler: schema)]
+
+
+_PLAIN_DATE = core_schema.chain_schema([
+    core_schema.str_schema(strict=True, pattern=r"^[0-9]{4}-[0-9]{2}-[0-9]{2}$"),
+    core_schema.date_schema(ge=date(FIRST_YEAR, 1, 1), le=date(LAST_YEAR, 12, 31))])
+# The fast-path form of :data:`Date`.
+PlainDate = Annotated[date, GetPydanticSchema(lambda _type, _handler: _PLAIN_DATE)]
 
 
 def text_of(value: float | None, dim: u.Dimension) -> str | None:

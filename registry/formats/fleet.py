@@ -13,19 +13,20 @@ import re
 from collections.abc import Hashable
 from dataclasses import dataclass
 from datetime import date
-from typing import Annotated, Any, Literal
+from typing import Annotated, Any, Literal, NotRequired
 
-from pydantic import (BaseModel, BeforeValidator, ConfigDict, Field, ValidationError,
-                      WithJsonSchema, field_validator)
+from pydantic import (BaseModel, BeforeValidator, ConfigDict, Field, TypeAdapter,
+                      ValidationError, WithJsonSchema, field_validator)
 from pydantic_core import PydanticCustomError
+from typing_extensions import TypedDict  # the one pydantic takes on Python 3.11
 
 from .. import units as u
 from ..engine import spec
 from ..engine.quantity import bound_problem
 from ..errors import FieldProblem, InvalidInput, shown
-from .common import (Capacitance, Current, Date, Duration, Energy, I2t, Length, NoteText, Power,
-                     Resistance, Text, Voltage, path_of, problems_from, read_document,
-                     text_defaults, text_of)
+from .common import (MAX_NOTE_CHARS, PLAIN_NOTE, Capacitance, Current, Date, Duration, Energy,
+                     I2t, Length, NoteText, PlainDate, Power, Resistance, Text, Voltage, path_of,
+                     plain_text, problems_from, read_document, text_defaults, text_of)
 
 FORMAT = "withstand-fleet/1"
 
@@ -225,6 +226,28 @@ class UnitRecord:
     notes: str = ""
 
 
+class _PlainUnit(TypedDict):
+    """A unit entry as :class:`UnitDoc` takes it, in the plain fast-path fields
+    (:func:`.common.plain_text`): validated by pydantic-core alone, into the keyword
+    arguments of a :class:`UnitRecord`, whose defaults are :class:`UnitDoc`'s. An entry that
+    fails here is validated again by :class:`UnitDoc`, whose problems are the ones reported."""
+
+    __pydantic_config__ = ConfigDict(extra="forbid")  # type: ignore[misc]
+    tag: plain_text(pattern=_KEY, max_length=64, min_length=1)  # type: ignore[valid-type]
+    model: plain_text(pattern=_KEY, max_length=64, min_length=1)  # type: ignore[valid-type]
+    serial: NotRequired[plain_text()]  # type: ignore[valid-type]
+    site: NotRequired[plain_text() | None]  # type: ignore[valid-type]
+    custodian: NotRequired[plain_text()]  # type: ignore[valid-type]
+    status: NotRequired[Literal[spec.UNIT_STATUSES]]  # type: ignore[valid-type]
+    verified_on: NotRequired[PlainDate | None]
+    verification_due: NotRequired[PlainDate | None]
+    notes: NotRequired[plain_text(pattern=PLAIN_NOTE,  # type: ignore[valid-type]
+                                  max_length=MAX_NOTE_CHARS)]
+
+
+_PLAIN_UNITS = TypeAdapter(list[_PlainUnit])
+
+
 @dataclass(frozen=True)
 class FleetContent:
     sites: tuple[SiteRecord, ...]
@@ -365,7 +388,7 @@ def parse_fleet(data: Any, *, known_models: set[str] = frozenset(),
     # Each entry is validated alone, so that one bad model does not hide the next one's errors.
     sites = _validate_list(data, "sites", SiteDoc, problems)
     model_docs = _validate_list(data, "models", ModelDoc, problems)
-    unit_docs = _validate_list(data, "units", UnitDoc, problems)
+    unit_docs = _unit_records(data, problems)
     models = []
     for i, m in enumerate(model_docs):
         if m is None:
@@ -403,7 +426,7 @@ def parse_fleet(data: Any, *, known_models: set[str] = frozenset(),
     return FleetContent(
         sites=tuple(SiteRecord(s.name, s.altitude) for s in sites),
         models=tuple(models),
-        units=tuple(UnitRecord(**x.model_dump()) for x in unit_docs))
+        units=tuple(unit_docs))
 
 
 def _validate_list(data: dict, section: str, doc_type, problems: list[FieldProblem]) -> list:
@@ -419,6 +442,36 @@ def _validate_list(data: dict, section: str, doc_type, problems: list[FieldProbl
         except ValidationError as exc:
             problems.extend(problems_from(exc, (section, i)))
             out.append(None)
+    return out
+
+
+def _unit_records(data: dict, problems: list[FieldProblem]) -> list[UnitRecord | None]:
+    """Each entry of ``data["units"]`` as a record; ``None`` where an entry is invalid, its
+    problems added. The whole list is checked in one call of pydantic-core in the plain
+    fields (:class:`_PlainUnit`); only the entries that fail there are validated again, one by
+    one, by :class:`UnitDoc`, which reports their problems (or reads them right: a serial
+    written as a YAML number keeps its text there)."""
+    raw = data.get("units") or []
+    if not isinstance(raw, list):
+        problems.append(FieldProblem("units", "must be a list"))
+        return []
+    try:
+        return [UnitRecord(**x) for x in _PLAIN_UNITS.validate_python(raw)]
+    except ValidationError as exc:
+        again = {e["loc"][0] for e in exc.errors() if e["loc"]}
+    plain = [i for i in range(len(raw)) if i not in again]
+    try:
+        plain_records = _PLAIN_UNITS.validate_python([raw[i] for i in plain])
+    except ValidationError:  # not expected (a list's entries are checked each alone): all again
+        again, plain, plain_records = set(range(len(raw))), [], []
+    out: list[UnitRecord | None] = [None] * len(raw)
+    for i, x in zip(plain, plain_records, strict=True):
+        out[i] = UnitRecord(**x)
+    for i in sorted(again):
+        try:
+            out[i] = UnitRecord(**UnitDoc.model_validate(raw[i]).model_dump())
+        except ValidationError as exc:
+            problems.extend(problems_from(exc, ("units", i)))
     return out
 
 
