@@ -184,10 +184,15 @@ def _stored_units(session: Session) -> dict[str, tuple]:
     return {r[0]: tuple(r[1:]) for r in session.execute(q)}
 
 
+# The unit columns an import writes, in the order of the tuples _apply_units builds.
+_UNIT_COLUMNS = ("tag", "model_id", "site_id", *_UNIT_FIELDS)
+
+
 def _apply_units(session, content, model_ids, site_ids, report, changes) -> list:
-    """Units: compared as plain tuples with what is stored; new ones inserted and changed ones
-    updated by primary key, each in one executemany. Returns the (tag, notes) of the units
-    the file marks on-hold that were written, for their holds."""
+    """Units: compared as plain tuples with what is stored; new ones inserted as plain tuples
+    in one executemany (:func:`insert_plain`) and changed ones updated by primary key in
+    another. Returns the (tag, notes) of the units the file marks on-hold that were written,
+    for their holds."""
     stored = _stored_units(session)
     open_holds = set(session.scalars(select(m.Hold.unit_id).where(m.Hold.released_at.is_(None))))
     inserts, updates, held = [], [], []
@@ -199,10 +204,14 @@ def _apply_units(session, content, model_ids, site_ids, report, changes) -> list
             report.kept_on_hold.append((rec.tag, rec.status))
             rec = replace(rec, status="on-hold")
         # the order of _UNIT_FIELDS, spelt out: this loop runs once per unit
-        values = (rec.model, rec.site, rec.serial, rec.custodian, rec.status, rec.verified_on,
-                  rec.verification_due, rec.notes)
-        if old is not None:
-            if old[1:] == values:
+        values = (rec.serial, rec.custodian, rec.status, rec.verified_on, rec.verification_due,
+                  rec.notes)
+        if old is None:
+            report.added.append(f"unit {rec.tag}")
+            inserts.append((rec.tag, model_ids[rec.model],
+                            site_ids[rec.site] if rec.site else None, *values))
+        else:
+            if old[1] == rec.model and old[2] == rec.site and old[3:] == values:
                 report.unchanged += 1
                 continue
             before = UnitRecord(rec.tag, old[1], **dict(zip(_UNIT_FIELDS, old[3:], strict=True)),
@@ -213,23 +222,41 @@ def _apply_units(session, content, model_ids, site_ids, report, changes) -> list
                 continue
             changes.extend(("unit", rec.tag, path, a, b) for path, a, b in diffs)
             report.updated.append(f"unit {rec.tag}")
-        else:
-            report.added.append(f"unit {rec.tag}")
-        row = {"model_id": model_ids[rec.model],
-               "site_id": site_ids[rec.site] if rec.site else None, "serial": rec.serial,
-               "custodian": rec.custodian, "status": rec.status, "verified_on": rec.verified_on,
-               "verification_due": rec.verification_due, "notes": rec.notes}
-        if old is None:
-            inserts.append(dict(row, tag=rec.tag))
-        else:
-            updates.append(dict(row, id=old[0]))
+            updates.append(dict(zip(_UNIT_FIELDS, values, strict=True), id=old[0],
+                                model_id=model_ids[rec.model],
+                                site_id=site_ids[rec.site] if rec.site else None))
         if rec.status == "on-hold":
             held.append((rec.tag, rec.notes))
-    if inserts:
-        session.execute(insert(m.Unit.__table__), inserts)
+    insert_plain(session, m.Unit.__table__, _UNIT_COLUMNS, inserts)
     if updates:
         session.execute(update(m.Unit), updates)  # ORM bulk UPDATE by primary key
     return held
+
+
+def insert_plain(session: Session, table, columns: tuple[str, ...], rows: list[tuple]) -> None:
+    """INSERT ``rows`` (plain tuples, in the order of ``columns``) into ``table`` in one
+    executemany handed straight to the database driver: the statement compiled once for the
+    session's dialect, and each column's own bind processor (SQLite's dates written as text,
+    say) applied once per distinct value, as SQLAlchemy applies it, but with no mapping built
+    and processed per row. Nothing else about the rows is changed."""
+    if not rows:
+        return
+    conn = session.connection()
+    dialect = conn.dialect
+    compiled = insert(table).compile(dialect=dialect, column_keys=list(columns))
+    cols = list(zip(*rows, strict=True))
+    for i, name in enumerate(columns):
+        process = table.c[name].type.dialect_impl(dialect).bind_processor(dialect)
+        if process is not None:
+            done = {v: process(v) for v in set(cols[i])}
+            cols[i] = tuple(done[v] for v in cols[i])
+    if dialect.positional:
+        where = {name: i for i, name in enumerate(columns)}
+        order = [cols[where[name]] for name in compiled.positiontup]
+        params: list = list(zip(*order, strict=True))
+    else:
+        params = [dict(zip(columns, row, strict=True)) for row in zip(*cols, strict=True)]
+    conn.exec_driver_sql(compiled.string, params)
 
 
 def _holds_from_file(session: Session, held: list[tuple[str, str]], actor: str) -> None:
