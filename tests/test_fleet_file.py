@@ -215,3 +215,31 @@ def test_the_units_fast_path_reads_every_entry_as_unitdoc_alone_does():
              and all(type(v) in (str, type(None)) for v in e.values())]
     assert _unit_records({"units": plain}, []) == [
         UnitRecord(**UnitDoc.model_validate(e).model_dump()) for e in plain]
+
+
+def test_a_quantity_text_is_judged_by_each_field_that_holds_it(doc):
+    # formats.common.quantity_of_text keeps a text's value for the next field holding it:
+    # the same text must still meet each field's own bound (engine.quantity.FIELD_BOUNDS:
+    # a site's altitude up to 20 000 m, IEC 60664-1 Table A.2's last row; a probe's exposed
+    # tip up to 0.1 m, common practice (no source)), and a refused text is refused at every
+    # path that holds it, not only the first.
+    doc["sites"][0]["altitude"] = "0.5 m"
+    probe = next(i for i, m in enumerate(doc["models"]) if m["kind"] == "probe")
+    doc["models"][probe]["tip_exposure"] = "0.5 m"
+    copies = [dict(doc["models"][index_of(doc, "kx-7")], key=f"kx-7-c{c}") for c in range(3)]
+    for c in (0, 2):
+        copies[c]["modes"] = [dict(x) for x in copies[c]["modes"]]
+        copies[c]["modes"][1]["max_input"] = "2 kA"
+    doc["models"] += copies
+    got = problems(doc)
+    first = len(doc["models"]) - 3
+    assert set(got) == {f"models[{probe}].tip_exposure", f"models[{first}].modes[1].max_input",
+                        f"models[{first + 2}].modes[1].max_input"}, got
+    assert "more than" in got[f"models[{probe}].tip_exposure"]
+    assert got[f"models[{first}].modes[1].max_input"] == \
+        got[f"models[{first + 2}].modes[1].max_input"]
+    del doc["models"][probe]["tip_exposure"]
+    for c in (0, 2):
+        doc["models"][first + c]["modes"][1]["max_input"] = "1 kV"
+    content = parse_fleet(doc)
+    assert content.sites[0].altitude == 0.5

@@ -4,6 +4,7 @@ reader (YAML 1.2 core schema, no aliases), and turning pydantic's errors into
 
 from __future__ import annotations
 
+import functools
 import json
 import math
 import re
@@ -23,10 +24,22 @@ from ..errors import FieldProblem, InvalidInput, shown
 QUANTITY_PATTERN = r"^\s*[-+]?[0-9.]+([eE][-+]?[0-9]+)?\s*[A-Za-zµμΩ^*/0-9 ]*$"
 
 
+@functools.lru_cache(maxsize=4096)
+def quantity_of_text(text: str, dim: u.Dimension, allow_zero: bool, bound: str) -> float:
+    """:func:`units.parse_quantity` of a plain ``str`` (``bound``: the field's name, which
+    picks its bound), kept for the next field that holds the same text: a fleet file writes the
+    same few ratings ("1 kV", "10 Mohm") over hundreds of models, and the result depends on
+    nothing else. A text that is refused is not kept (the cache keeps only returned values);
+    each time it raises again, as the uncached call does."""
+    return u.parse_quantity(text, dim, "", allow_zero=allow_zero, bound=bound)
+
+
 def _quantity_validator(dim: u.Dimension, positive: bool):
     def parse(value: Any, info: ValidationInfo) -> float:
         # the field's name picks its bound (units.parse_quantity, engine.quantity.FIELD_BOUNDS)
         try:
+            if type(value) is str:
+                return quantity_of_text(value, dim, not positive, info.field_name or "")
             return u.parse_quantity(value, dim, "", allow_zero=not positive,
                                     bound=info.field_name or "")
         except InvalidInput as exc:

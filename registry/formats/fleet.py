@@ -26,7 +26,8 @@ from ..engine.quantity import bound_problem
 from ..errors import FieldProblem, InvalidInput, shown
 from .common import (MAX_NOTE_CHARS, PLAIN_NOTE, Capacitance, Current, Date, Duration, Energy,
                      I2t, Length, NoteText, PlainDate, Power, Resistance, Text, Voltage, path_of,
-                     plain_text, problems_from, read_document, text_defaults, text_of)
+                     plain_text, problems_from, quantity_of_text, read_document, text_defaults,
+                     text_of)
 
 FORMAT = "withstand-fleet/1"
 
@@ -265,6 +266,12 @@ def _element_spec(doc: ElementDoc, path: str, problems: list[FieldProblem]) -> s
                                                 f"takes {', '.join(allowed)}"))
             continue
         try:
+            if type(raw) is str:
+                try:  # the parameter's name picks its bound, as the last part of `where` does
+                    params[name] = quantity_of_text(raw, ELEMENT_PARAM_DIMS[name], True, name)
+                    continue
+                except InvalidInput:
+                    pass  # read again below, for the problem under its path
             params[name] = u.parse_quantity(raw, ELEMENT_PARAM_DIMS[name], where)
         except InvalidInput as exc:
             problems.extend(exc.problems)
