@@ -181,3 +181,39 @@ def test_a_file_that_is_not_utf8_is_a_message_naming_it(tmp_path, name):
     assert str(path) in str(err.value)
     with pytest.raises(InvalidInput, match="not UTF-8"):
         load_plan(path)
+
+
+SAME_EITHER_WAY = [
+    "a: 1000:1\nb: 0123\nc: 1.50\nd: NO\ne: on\nf: ~\ng: 0x1F\nh: .inf\n",
+    "- {tag: B-1, serial: 0123}\n- [1, 2, [3, {x: y}]]\n",
+    "a: &x 1\nb: *x\n",  # refused: an alias
+    "a: 1\na: 2\n",  # refused: a key given twice
+    "a: !!binary aGVsbG8=\n",  # refused: a tag outside the core schema
+    "a: [1, 2\n",  # refused: malformed
+    "text: 'quoted: yes'\nnote: |\n  two\n  lines\n",
+    "[" * 70 + "]" * 70,  # refused: deeper than MAX_DEPTH
+]
+
+
+def _read(loader, text):
+    try:
+        value = yaml.load(text, Loader=loader)  # noqa: S506 - the package's safe loaders
+    except yaml.YAMLError:
+        return "refused"
+
+    def plain(v):  # the value with each number's written text, which text fields take
+        if isinstance(v, dict):
+            return {plain(k): plain(x) for k, x in v.items()}
+        if isinstance(v, list):
+            return [plain(x) for x in v]
+        return (type(v).__name__, getattr(v, "text", None), v)
+    return plain(value)
+
+
+@pytest.mark.parametrize("text", SAME_EITHER_WAY + [demo_fleet_path().read_text()])
+def test_libyaml_events_give_what_the_pure_python_parser_gives(text):
+    # formats.common.CCoreLoader takes its events from libyaml and everything else from
+    # CoreLoader: the two must read every document alike (values, the text kept with each
+    # number, and what is refused)
+    from registry.formats.common import CCoreLoader, CoreLoader
+    assert _read(CCoreLoader, text) == _read(CoreLoader, text)
