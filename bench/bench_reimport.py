@@ -11,26 +11,17 @@ registry and comparing. Prints that against the limit; asserts nothing.
 
 from __future__ import annotations
 
-import argparse
 import time
 
-from .timing import chain_key_for_bench, ratio_line, remove, scratch_database
+from .timing import fleet_bench, ratio_line, remove, scratch_database
 
 LIMIT_S = 1.0
 
 
 def main(argv=None):
-    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    ap.add_argument("--smoke", action="store_true", help="600 units instead of 20 000")
-    ap.add_argument("--units", type=int, default=None)
-    args = ap.parse_args(argv)
-    chain_key_for_bench()
+    units, doc = fleet_bench(__doc__.splitlines()[0], argv)
     from registry.formats.fleet import parse_fleet
     from registry.store.fleet import import_fleet
-
-    from .fleetgen import fleet_document
-    units = args.units or (600 if args.smoke else 20_000)
-    doc = fleet_document(units)
     db, path = scratch_database("reimport")
     try:
         import_fleet(db, doc, actor="bench")

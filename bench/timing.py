@@ -49,3 +49,20 @@ def chain_key_for_bench() -> None:
     """A fixed chain key, so a benchmark never writes a key file into the user's folder."""
     os.environ.setdefault("WITHSTAND_CHAIN_KEY", "bench-chain-key-not-secret")
     os.environ.setdefault("WITHSTAND_INSTANCE", tempfile.mkdtemp(prefix="withstand-bench-"))
+
+
+def fleet_bench(description: str, argv=None, *, default_units: int = 20_000,
+                smoke_units: int = 600) -> tuple[int, dict]:
+    """The command line and setup the import benchmarks share: ``--smoke`` (``smoke_units``)
+    or ``--units N`` (default ``default_units``), the fixed chain key, and the bench fleet's
+    withstand-fleet/1 document (``bench/fleetgen.py``). Returns (units, document)."""
+    import argparse
+    ap = argparse.ArgumentParser(description=description)
+    ap.add_argument("--smoke", action="store_true",
+                    help=f"{smoke_units} units instead of {default_units:,}".replace(",", " "))
+    ap.add_argument("--units", type=int, default=None)
+    args = ap.parse_args(argv)
+    chain_key_for_bench()
+    from .fleetgen import fleet_document
+    units = args.units or (smoke_units if args.smoke else default_units)
+    return units, fleet_document(units)
