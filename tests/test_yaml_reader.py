@@ -192,6 +192,24 @@ SAME_EITHER_WAY = [
     "a: [1, 2\n",  # refused: malformed
     "text: 'quoted: yes'\nnote: |\n  two\n  lines\n",
     "[" * 70 + "]" * 70,  # refused: deeper than MAX_DEPTH
+    "[" * 63 + "x" + "]" * 63,  # the deepest taken: 64 levels with the scalar
+    "[" * 64 + "x" + "]" * 64,  # refused: one more
+    "a: !!str 0123\nb: ! 12\nc: !!int '12'\nd: !!bool yes\ne: !!null ''\nf: !!float 1\n",
+    "a: !!map {b: 1}\nc: !!seq [1]\nd: !!str x\n",
+    "a: !!set {b}\n",  # refused: a tag outside the core schema
+    "a: !!omap [b: 1]\n",  # refused
+    "a: !local x\n",  # refused
+    "? [a, b]\n: c\n",  # refused: an unhashable key
+    "{a: {b: 1, b: 2}}",  # refused: a key given twice, nested
+    "1: a\n1.0: b\n",  # refused: the same key (1 == 1.0)
+    "a: 1\n---\nb: 2\n",  # refused: two documents
+    "",
+    "---\n",
+    "--- x\n...\n",
+    "'plain text'",
+    "a: \"\\u00e9 \\t\"\nb: 'it''s'\nc: >\n  folded\n  text\n",
+    "a:\n  - b: 1\n    c: [x, {d: e}]\n  - []\n  - {}\n",
+    "<<: {a: 1}\n",  # a plain key named <<: the core schema has no merge type
 ]
 
 

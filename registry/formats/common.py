@@ -382,6 +382,95 @@ if CParser is not None:
         get_node = yaml.composer.Composer.get_node
         check_node = yaml.composer.Composer.check_node
 
+        def get_single_data(self):
+            return value_from_events(self)
+
+
+_STR, _SEQ, _MAP = ("tag:yaml.org,2002:str", "tag:yaml.org,2002:seq",
+                    "tag:yaml.org,2002:map")
+
+
+def value_from_events(loader) -> Any:
+    """The one document of ``loader``'s event stream as Python values, built in one loop over
+    the events, with no node tree between (a node and four Python calls per scalar are most
+    of the time of reading a long file). It refuses what :class:`CoreLoader` refuses, with the
+    same messages: an anchor or an alias, nesting beyond :data:`MAX_DEPTH`, a key given twice
+    or unhashable, a tag outside the core schema, more than one document; each scalar is
+    resolved and constructed by CoreLoader's own resolvers and constructors. Where a document
+    has several faults the first one in the text is the one reported, where CoreLoader reports
+    the composer's before the constructor's. (A key tagged ``!!merge``, which the core schema
+    does not have, is refused here; PyYAML's constructor would merge it.)"""
+    error = yaml.constructor.ConstructorError
+    get = loader.get_event
+    get()  # the stream's start
+    event = get()
+    if isinstance(event, yaml.StreamEndEvent):
+        return None
+    stack: list[list] = []  # [container, pending key (mappings), its mark, keys seen]
+    while True:
+        event = get()
+        kind = type(event)
+        if kind is yaml.SequenceEndEvent or kind is yaml.MappingEndEvent:
+            value = stack.pop()[0]
+        else:
+            if kind is yaml.AliasEvent or event.anchor is not None:
+                raise yaml.composer.ComposerError(
+                    None, None, "anchors and aliases (&name, *name) are not accepted; write "
+                    "each value out in full", event.start_mark)
+            if len(stack) >= MAX_DEPTH:
+                raise yaml.composer.ComposerError(None, None, too_deep(), event.start_mark)
+            if kind is yaml.ScalarEvent:
+                value = _scalar_value(loader, event)
+            else:
+                tag = event.tag
+                sequence = kind is yaml.SequenceStartEvent
+                if tag not in (None, "!", _SEQ if sequence else _MAP):
+                    raise error(None, None, f"the tag {tag} is not accepted here",
+                                event.start_mark)
+                stack.append([[] if sequence else {}, _NO_KEY, None, None])
+                continue
+        if not stack:
+            break
+        frame = stack[-1]
+        container = frame[0]
+        if type(container) is list:
+            container.append(value)
+        elif frame[1] is _NO_KEY:
+            try:
+                hash(value)
+            except TypeError:
+                raise error("while constructing a mapping", None, "found unhashable key",
+                            event.start_mark) from None
+            if value in container:
+                raise error(None, None, f"the key '{value}' is given twice in one mapping",
+                            event.start_mark)
+            frame[1] = value
+        else:
+            container[frame[1]] = value
+            frame[1] = _NO_KEY
+    get()  # the document's end
+    if not isinstance(loader.peek_event(), yaml.StreamEndEvent):
+        event = get()
+        raise yaml.composer.ComposerError("expected a single document in the stream", None,
+                                          "but found another document", event.start_mark)
+    return value
+
+
+_NO_KEY = object()
+
+
+def _scalar_value(loader, event) -> Any:
+    """A scalar event's value as CoreLoader composes and constructs it."""
+    tag = event.tag
+    if tag is None or tag == "!":
+        tag = loader.resolve(yaml.ScalarNode, event.value, event.implicit)
+    if tag == _STR:
+        return event.value
+    node = yaml.ScalarNode(tag, event.value, event.start_mark, event.end_mark,
+                           style=event.style)
+    construct = CoreLoader.yaml_constructors.get(tag, CoreLoader.yaml_constructors[None])
+    return construct(loader, node)
+
 
 # The limits of a document, checked before it is parsed: nesting (a fleet file nests 6 levels,
 # a plan 3; PyYAML and Python's json module recurse once per level and would fail with a
