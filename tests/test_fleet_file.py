@@ -243,3 +243,68 @@ def test_a_quantity_text_is_judged_by_each_field_that_holds_it(doc):
         doc["models"][first + c]["modes"][1]["max_input"] = "1 kV"
     content = parse_fleet(doc)
     assert content.sites[0].altitude == 0.5
+
+
+def _front_end_index(doc):
+    return next(i for i, m in enumerate(doc["models"]) if m.get("front_end"))
+
+
+def _set(doc, where, value):
+    """Set the field at ``where`` (a path of keys and indexes) in ``doc``."""
+    *parents, last = where
+    node = doc
+    for part in parents:
+        node = node[part]
+    node[last] = value
+
+
+def test_every_text_field_is_held_to_the_length_of_its_column(doc):
+    # the reference is the database schema (store/models.py): a text one character longer
+    # than its column is refused by the format with its path, never by the database at the
+    # INSERT (PostgreSQL refuses it there: "value too long for type character varying")
+    from registry.store import models as m
+    fe = _front_end_index(doc)
+    fields = [
+        (("units", 0, "tag"), m.Unit.tag), (("units", 0, "serial"), m.Unit.serial),
+        (("units", 0, "custodian"), m.Unit.custodian), (("sites", 0, "name"), m.Site.name),
+        (("models", 0, "maker"), m.Model.maker), (("models", 0, "name"), m.Model.name),
+        (("models", 0, "connector"), m.Model.connector), (("models", 0, "key"), m.Model.key),
+        (("models", 0, "modes", 0, "label"), m.Mode.label),
+        (("models", 0, "modes", 0, "key"), m.Mode.key),
+        (("models", fe, "front_end", 0, "id"), m.FrontEndElement.element_id),
+        (("models", fe, "front_end", 0, "between", 0), m.FrontEndElement.node_a),
+    ]
+    for where, column in fields:
+        longest = column.type.length
+        path = "".join(f"[{p}]" if isinstance(p, int) else f".{p}" for p in where)[1:]
+        path = path.replace(".[", "[")
+        for size, refused in ((longest, False), (longest + 1, True)):
+            again = read_document(demo_fleet_path())
+            _set(again, where, "x" * size)
+            try:
+                parse_fleet(again)
+                got = {}
+            except InvalidInput as exc:
+                got = {p.path: p.message for p in exc.problems}
+            assert (path in got) is refused, (path, size, got.get(path))
+            if refused:
+                assert got[path] == (f"is {longest + 1} characters long; this field takes "
+                                     f"at most {longest}")
+
+
+def test_a_serial_too_long_for_its_column_is_refused_on_postgres(pg_url, doc):
+    from registry.store import db as store_db
+    from registry.store import models as m
+    from registry.store.fleet import import_fleet
+    from sqlalchemy import func, select
+    database = store_db.Database(pg_url)
+    try:
+        store_db.upgrade(database.engine)
+        doc["units"][0]["serial"] = "x" * (m.Unit.serial.type.length + 1)
+        with pytest.raises(InvalidInput) as err:
+            import_fleet(database, doc)
+        assert [p.path for p in err.value.problems] == ["units[0].serial"]
+        with database.transaction() as s:
+            assert s.scalar(select(func.count()).select_from(m.Unit)) == 0
+    finally:
+        database.dispose()

@@ -201,6 +201,12 @@ def error_message(err: dict) -> str:
         return f"'{shown(err.get('input'))}' is not allowed; use {expected}"
     if kind in ("quantity", "text", "ratio"):
         return err["msg"]
+    if kind in ("too_long", "string_too_long") and isinstance(err.get("input"), str):
+        # a text's length limit (pydantic says "items" of a constraint after a validator)
+        return (f"is {len(err['input'])} characters long; this field takes at most "
+                f"{err.get('ctx', {}).get('max_length')}")
+    if kind in ("too_short", "string_too_short") and err.get("input") == "":
+        return "is empty; it needs a value"
     msg = err["msg"]
     return msg[0].lower() + msg[1:] if msg else kind
 

@@ -95,6 +95,19 @@ Key = Annotated[Text, Field(min_length=1, max_length=64, pattern=_KEY,
                             json_schema_extra={"pattern": _KEY})]
 
 
+def _line(longest: int):
+    """One line of text of at most ``longest`` characters: the length of the column that holds
+    it (store/models.py), so that a longer one is refused here, with its path, and never by
+    the database at the INSERT."""
+    return Annotated[Text, Field(max_length=longest)]
+
+
+# An element's id and the nodes it joins, in columns of 32 characters.
+ElementId = Annotated[Text, Field(min_length=1, max_length=32, pattern=_KEY,
+                                  json_schema_extra={"pattern": _KEY})]
+Node = Annotated[Text, Field(min_length=1, max_length=32)]
+
+
 class SiteDoc(_Doc):
     name: Name
     altitude: Length = 0.0
@@ -137,7 +150,7 @@ class RatingDoc(_Doc):
 
 class ModeDoc(_Doc):
     key: Key
-    label: Text = ""
+    label: _line(120) = ""  # type: ignore[valid-type]
     measures: Literal[spec.MEASURES]  # type: ignore[valid-type]
     waveform: Literal[spec.WAVEFORMS] = "both"  # type: ignore[valid-type]
     terminals: list[Name] = []
@@ -156,15 +169,15 @@ class ElementDoc(BaseModel):
     """An element: id, type, between, and the parameters its type takes."""
 
     model_config = ConfigDict(extra="allow", frozen=True)
-    id: Key
+    id: ElementId
     type: Literal[spec.ELEMENT_TYPES]  # type: ignore[valid-type]
-    between: list[Name] = Field(min_length=2, max_length=2)
+    between: list[Node] = Field(min_length=2, max_length=2)
 
 
 class ModelDoc(_Doc):
     key: Key
-    maker: Text = ""
-    name: Text = ""
+    maker: _line(120) = ""  # type: ignore[valid-type]
+    name: _line(200) = ""  # type: ignore[valid-type]
     kind: Literal[spec.KINDS]  # type: ignore[valid-type]
     connectors: list[Text] = []
     integrated_leads: bool = False
@@ -173,7 +186,7 @@ class ModelDoc(_Doc):
     ratings: list[RatingDoc] = []
     modes: list[ModeDoc] = []
     front_end: list[ElementDoc] = []
-    connector: Text | None = None
+    connector: _line(64) | None = None  # type: ignore[valid-type]
     current_rating: Current | None = None
     tip_exposure: Length | None = None
     fuse: FuseDoc | None = None
@@ -190,9 +203,9 @@ class ModelDoc(_Doc):
 class UnitDoc(_Doc):
     tag: Key
     model: Key
-    serial: Text = ""
+    serial: _line(64) = ""  # type: ignore[valid-type]
     site: Text | None = None
-    custodian: Text = ""
+    custodian: _line(120) = ""  # type: ignore[valid-type]
     status: Literal[spec.UNIT_STATUSES] = "in-service"  # type: ignore[valid-type]
     verified_on: Date | None = None
     verification_due: Date | None = None
@@ -236,9 +249,9 @@ class _PlainUnit(TypedDict):
     __pydantic_config__ = ConfigDict(extra="forbid")  # type: ignore[misc]
     tag: plain_text(pattern=_KEY, max_length=64, min_length=1)  # type: ignore[valid-type]
     model: plain_text(pattern=_KEY, max_length=64, min_length=1)  # type: ignore[valid-type]
-    serial: NotRequired[plain_text()]  # type: ignore[valid-type]
+    serial: NotRequired[plain_text(max_length=64)]  # type: ignore[valid-type]
     site: NotRequired[plain_text() | None]  # type: ignore[valid-type]
-    custodian: NotRequired[plain_text()]  # type: ignore[valid-type]
+    custodian: NotRequired[plain_text(max_length=120)]  # type: ignore[valid-type]
     status: NotRequired[Literal[spec.UNIT_STATUSES]]  # type: ignore[valid-type]
     verified_on: NotRequired[PlainDate | None]
     verification_due: NotRequired[PlainDate | None]
