@@ -468,6 +468,9 @@ _NO_KEY = object()
 def _scalar_value(loader, event) -> Any:
     """A scalar event's value as CoreLoader composes and constructs it."""
     tag = event.tag
+    if tag is None and (not event.implicit[0]
+                        or event.value[:1] not in CoreLoader.yaml_implicit_resolvers):
+        return event.value  # quoted, or no core type begins so: text (as resolve finds)
     if tag is None or tag == "!":
         tag = loader.resolve(yaml.ScalarNode, event.value, event.implicit)
     if tag == _STR:
