@@ -1,14 +1,17 @@
 """Loading the fleet from the database into the engine's specs, for a check.
 
-A check reads every model, unit, open hold and event, so this reads plain rows with SQLAlchemy
-Core selects (one per table, no ORM objects, no identity map) and builds the specs from them:
-a fleet of 50 000 units loads in about the time the rows take to read. The rows go through
-the same column types as the ORM's, so the specs are the ones `specs.model_spec` gives.
+A check reads every model, unit, open hold and event, so this reads plain driver rows
+(:func:`plain_rows`: a Core select compiled for the session's dialect and run on the driver's
+own cursor, with no ORM objects, no identity map and no per-row processing) and builds the
+specs from them: a fleet of 50 000 units loads in about the time the rows take to read. Each
+column's values go through that column type's own result processor (SQLite's dates, booleans
+and JSON), once per distinct value, so the specs are the ones `specs.model_spec` gives.
 """
 
 from __future__ import annotations
 
 from collections import defaultdict
+from types import SimpleNamespace
 
 from sqlalchemy import select
 from sqlalchemy.orm import Session
@@ -18,13 +21,61 @@ from . import models as m
 from .specs import fuse_of, row_fields
 
 
+def plain_rows(session: Session, stmt, processed: bool = True
+               ) -> tuple[list[str], list[tuple], list]:
+    """(column names, rows as plain tuples, each column's result processor) of the Core
+    select ``stmt`` (one with no bound values), run on the driver's cursor of the session's
+    connection. With ``processed`` each column's values are turned into what SQLAlchemy gives
+    for its type (a SQLite date from its text, a boolean from 0 or 1, JSON decoded), the
+    processor called once per distinct value; without it the values are the driver's own,
+    for a caller that processes the columns it needs itself with the processors (``None``
+    where the driver's value is the value)."""
+    conn = session.connection()
+    dialect = conn.dialect
+    compiled = stmt.compile(dialect=dialect)
+    if any(v is not None for v in compiled.params.values()):
+        raise ValueError("plain_rows takes a select without bound values")
+    cursor = conn.connection.cursor()
+    try:
+        cursor.execute(compiled.string)
+        rows = [tuple(r) for r in cursor.fetchall()]
+        description = cursor.description
+    finally:
+        cursor.close()
+    columns = list(stmt.selected_columns)
+    processors = [c.type.dialect_impl(dialect).result_processor(dialect, d[1])
+                  for c, d in zip(columns, description, strict=True)]
+    names = [c.name for c in columns]
+    if processed and rows and any(p is not None for p in processors):
+        cols = list(zip(*rows, strict=True))
+        for i, process in enumerate(processors):
+            if process is not None:
+                cols[i] = _each(cols[i], process)
+        rows = list(zip(*cols, strict=True))
+    return names, rows, processors
 
-def _by_model(session: Session, table) -> dict[int, list]:
+
+def _each(values, process) -> tuple:
+    """``process`` over ``values``, called once per distinct value (a value that cannot be
+    hashed, a driver's decoded JSON, is processed on its own)."""
+    try:
+        done = {v: process(v) for v in set(values)}
+    except TypeError:
+        return tuple(process(v) for v in values)
+    return tuple(done[v] for v in values)
+
+
+def _by_model(session: Session, table) -> tuple[dict[int, list], _Rows]:
+    """The rows of a model's parts table by model id, in their order, as plain tuples with the
+    driver's values (id, model_id, position, then the content), and what makes one of them
+    into the ORM's values."""
+    names, rows, processors = plain_rows(session, select(table).order_by(
+        table.c.model_id, table.c.position, table.c.id), processed=False)
+    assert names[:3] == ["id", "model_id", "position"], names
     out: dict[int, list] = defaultdict(list)
-    for row in session.execute(select(table).order_by(table.c.model_id, table.c.position,
-                                                      table.c.id)).all():
-        out[row.model_id].append(row)
-    return out
+    for row in rows:
+        out[row[1]].append(row)
+    return out, _Rows(names, processors)
 
 
 def _rating(r) -> spec.Rating:
@@ -46,57 +97,83 @@ def _element(e) -> spec.Element:
                         tuple((k, float(v)) for k, v in (e.params or {}).items()))
 
 
-class _Built:
-    """Specs built once per distinct content of their row (the columns after the ids): a
-    lab's copies of a model share every part, and the parts are frozen."""
+class _Rows:
+    """Driver rows of one table made into what the ORM gives: each column's values through its
+    type's result processor, named by column (a namespace per row)."""
 
-    def __init__(self, make, skip: int):
-        self.make, self.skip = make, skip
+    def __init__(self, names: list[str], processors: list):
+        self.names, self.processors = names, processors
+
+    def __call__(self, row) -> SimpleNamespace:
+        return SimpleNamespace(**{
+            name: (v if p is None or v is None else p(v))
+            for name, p, v in zip(self.names, self.processors, row, strict=True)})
+
+
+class _Built:
+    """Specs built once per distinct content of their row (the columns after the ids, as the
+    driver gives them): a lab's copies of a model share every part, and the parts are
+    frozen."""
+
+    def __init__(self, make, rows: _Rows, skip: int):
+        self.make, self.rows, self.skip = make, rows, skip
         self.seen: dict = {}
 
     def __call__(self, row):
         key = _content(row[self.skip:])
         got = self.seen.get(key)
         if got is None:
-            got = self.seen[key] = self.make(row)
+            got = self.seen[key] = self.make(self.rows(row))
         return got
 
 
 def _content(values) -> tuple:
-    """A row's values as a hashable tuple (JSON lists and objects as tuples)."""
+    """A row's values as a hashable tuple (a driver's decoded JSON lists and objects as
+    tuples, tagged so that they never equal a text)."""
+    values = tuple(values)
+    try:
+        hash(values)
+        return values
+    except TypeError:
+        pass
     out = []
     for v in values:
         if isinstance(v, list):
-            v = ("list",) + tuple(v)
+            v = ("list",) + _content(v)
         elif isinstance(v, dict):
-            v = ("dict",) + tuple(sorted(v.items()))
+            v = ("dict",) + tuple(sorted((k, _content((x,))) for k, x in v.items()))
         out.append(v)
     return tuple(out)
 
 
 def model_specs(session: Session) -> dict[int, spec.ModelSpec]:
     """Every model's spec by row id, in key order. Models of the same content (every column
-    but the key, the same parts) are built and checked once, then copied under their keys."""
-    ratings = _by_model(session, m.Rating.__table__)
-    modes = _by_model(session, m.Mode.__table__)
-    elements = _by_model(session, m.FrontEndElement.__table__)
-    rating, mode, element = _Built(_rating, 3), _Built(_mode, 3), _Built(_element, 3)
+    but the id and key, the same parts) are built and checked once, then copied under their
+    keys: the content is compared on the driver's values, and only the rows of a content
+    not met before are processed into specs."""
+    parts = []
+    for table, make in ((m.Rating.__table__, _rating), (m.Mode.__table__, _mode),
+                        (m.FrontEndElement.__table__, _element)):
+        by, rows = _by_model(session, table)
+        parts.append((by, _Built(make, rows, 3)))
     t = m.Model.__table__
-    cols = [c for c in t.c if c.name not in ("id", "key")]
+    names, rows, processors = plain_rows(session, select(t).order_by(t.c.key),
+                                         processed=False)
+    at_id, at_key = names.index("id"), names.index("key")
+    own = [i for i in range(len(names)) if i not in (at_id, at_key)]
+    model_row = _Rows(names, processors)
     built: dict[tuple, spec.ModelSpec] = {}
     out: dict[int, spec.ModelSpec] = {}
-    for row in session.execute(select(t).order_by(t.c.key)):
-        parts = (tuple(rating(r) for r in ratings.get(row.id, ())),
-                 tuple(mode(x) for x in modes.get(row.id, ())),
-                 tuple(element(e) for e in elements.get(row.id, ())))
-        content = (_content(getattr(row, c.name) for c in cols), tuple(map(id, parts[0])),
-                   tuple(map(id, parts[1])), tuple(map(id, parts[2])))
+    for row in rows:
+        mid, key = row[at_id], row[at_key]
+        made = tuple(tuple(build(r) for r in by.get(mid, ())) for by, build in parts)
+        content = (_content(row[i] for i in own),) + tuple(tuple(map(id, p)) for p in made)
         same = built.get(content)
         if same is not None:
-            out[row.id] = same.with_key(row.key)
+            out[mid] = same.with_key(key)
             continue
-        out[row.id] = built[content] = spec.ModelSpec(
-            ratings=parts[0], modes=parts[1], front_end=parts[2], **row_fields(row))
+        out[mid] = built[content] = spec.ModelSpec(
+            ratings=made[0], modes=made[1], front_end=made[2], **row_fields(model_row(row)))
     return out
 
 
@@ -106,33 +183,49 @@ def engine_fleet(session: Session) -> spec.Fleet:
     models = model_specs(session)
     sites: dict[int, str] = {i: name for i, name in
                              session.execute(select(m.Site.id, m.Site.name))}
-    open_holds = set(session.scalars(select(m.Hold.unit_id).where(m.Hold.released_at.is_(None))))
+    _, held, _ = plain_rows(session, select(m.Hold.unit_id).where(m.Hold.released_at.is_(None)))
+    open_holds = {r[0] for r in held}
     e = m.Event.__table__
     history: dict[int, list[spec.PastEvent]] = defaultdict(list)
-    for ev in session.execute(select(e.c.unit_id, e.c.mode_key, e.c.kind, e.c.within_rating,
-                                     e.c.occurred_at, e.c.clamp_conducted, e.c.waveform)
-                              .order_by(e.c.id)):
-        history[ev.unit_id].append(spec.PastEvent(
-            mode=ev.mode_key, kind=ev.kind, within_rating=ev.within_rating,
-            occurred_at=ev.occurred_at, clamp_conducted=ev.clamp_conducted,
-            waveform=ev.waveform))
+    _, events, _ = plain_rows(session, select(
+        e.c.unit_id, e.c.mode_key, e.c.kind, e.c.within_rating, e.c.occurred_at,
+        e.c.clamp_conducted, e.c.waveform).order_by(e.c.id))
+    for uid, mode, kind, within, at, clamped, waveform in events:
+        history[uid].append(spec.PastEvent(
+            mode=mode, kind=kind, within_rating=within, occurred_at=at,
+            clamp_conducted=clamped, waveform=waveform))
     u = m.Unit.__table__
+    _, rows, processors = plain_rows(session, select(
+        u.c.id, u.c.tag, u.c.model_id, u.c.status, u.c.site_id, u.c.verification_due
+    ).order_by(u.c.tag), processed=False)
+    due_of = processors[-1]
     keys = {i: s.key for i, s in models.items()}
-    units = tuple(
-        _unit(tag=tag, model=keys[model_id], status=status,
-              site=sites.get(site_id) if site_id is not None else None,
-              verification_due=due, open_hold=uid in open_holds,
-              history=tuple(history[uid]) if uid in history else ())
-        for uid, tag, model_id, status, site_id, due in session.execute(
-            select(u.c.id, u.c.tag, u.c.model_id, u.c.status, u.c.site_id,
-                   u.c.verification_due).order_by(u.c.tag)).all())
-    return spec.Fleet(models={s.key: s for s in models.values()}, units=units)
+    states: dict[tuple, dict] = {}
+    new = object.__new__
+    units = []
+    add = units.append
+    for uid, tag, model_id, status, site_id, due in rows:
+        k = (model_id, status, site_id, due, uid in open_holds)
+        fields = states.get(k)
+        if fields is None:
+            fields = states[k] = _state(tag, keys[model_id], status, sites.get(site_id), due
+                                        if due_of is None or due is None else due_of(due),
+                                        k[-1])
+        unit = new(spec.UnitState)
+        d = unit.__dict__
+        d.update(fields)
+        d["tag"] = tag
+        if uid in history:
+            d["history"] = tuple(history[uid])
+        add(unit)
+    return spec.Fleet(models={s.key: s for s in models.values()}, units=tuple(units))
 
 
-def _unit(**fields) -> spec.UnitState:
-    """A UnitState made as its __init__ would make it, and checked by its own __post_init__,
-    without the frozen dataclass's per-field setattr (one unit of 50 000 at a time)."""
-    out = object.__new__(spec.UnitState)
-    out.__dict__.update(fields)
-    out.__post_init__()
-    return out
+def _state(tag, model, status, site, due, held) -> dict:
+    """The fields of a unit state shared by every unit of one (model, status, site,
+    verification due, open hold), checked once by UnitState itself: the units of that state
+    are made from them with only their tag (and history) their own, without the frozen
+    dataclass's per-field setattr and its check per unit (the check reads the status alone,
+    which the state holds)."""
+    return dict(spec.UnitState(tag=tag, model=model, status=status, site=site,
+                               verification_due=due, open_hold=held).__dict__)
