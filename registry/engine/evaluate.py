@@ -21,7 +21,8 @@ from .findings import Finding
 from .history import check_history, exclusion_reason, plan_cautions
 from .protection import protection_path_check
 from .result import (SEVERITY, VERDICT_ORDER, AccessoryResult, Excluded, Findings, Result,
-                     SetupResult, SharedFindings, _key_of, deciding_finding, sort_key)
+                     SetupResult, SharedFindings, _key_of, deciding_finding, rank_of_setup,
+                     rank_of_unit, sort_key)
 from .setups import SetupContext, check_setup, enumerate_setups
 from .spec import LEAD_KINDS, Fleet, ModelSpec, Plan, SpecError, UnitState
 
@@ -210,18 +211,29 @@ _VERDICTS = {0: "suitable", 1: "conditional", 2: "unverified", 3: "unsuitable"}
 
 def split_units(fleet: Fleet, on: date) -> tuple[list[Excluded], dict[str, list[UnitState]]]:
     """The units kept out of a job on ``on`` and why, and the rest by model key, in the
-    fleet's order; a unit of a model the fleet lacks is a :class:`SpecError`."""
+    fleet's order; a unit of a model the fleet lacks is a :class:`SpecError`. The reason is
+    found once per distinct (status, open hold, verification due), all it reads."""
     excluded: list[Excluded] = []
     available: dict[str, list[UnitState]] = {}
+    models = fleet.models
+    reasons: dict[tuple, str | None] = {}
     for unit in fleet.units:
-        if unit.model not in fleet.models:
+        if unit.model not in models:
             raise SpecError(f"unit {unit.tag}: model {unit.model!r} is not in the fleet")
-        reason = exclusion_reason(unit, on)
-        if reason is not None:
-            excluded.append(Excluded(unit.tag, reason, unit.model))
+        k = (unit.status, unit.open_hold, unit.verification_due)
+        if k in reasons:
+            reason = reasons[k]
         else:
-            available.setdefault(unit.model, []).append(unit)
+            reason = reasons[k] = exclusion_reason(unit, on)
+        if reason is not None:
+            excluded.append(_made(Excluded, {}, unit=unit.tag, reason=reason, model=unit.model))
+        else:
+            group = available.get(unit.model)
+            if group is None:
+                group = available[unit.model] = []
+            group.append(unit)
     return excluded, available
+
 
 def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = ()) -> Result:
     """The whole check of ``plan`` against ``fleet`` (checks 1 to 12): one setup per available
@@ -281,14 +293,29 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
         if not fleet.models[key].is_instrument:
             pools.setdefault(class_of[key], []).extend(units)
     chosen_for: dict[tuple[int, str | None], UnitState] = {}
+    best_at: dict[int, dict[str | None, UnitState]] = {}
+
+    def at_sites(cid: int) -> dict[str | None, UnitState]:
+        """Per site, the pool's unit to hand out from there: within one site the ranking
+        below is by worries, due and tag alone, so the choice for an instrument at any site
+        is among these."""
+        if cid not in best_at:
+            best: dict[str | None, tuple] = {}
+            for u in pools[cid]:
+                k = (len(unit_history(u, None)),
+                     -(u.verification_due.toordinal() if u.verification_due else 0), u.tag)
+                held = best.get(u.site)
+                if held is None or k < held[0]:
+                    best[u.site] = (k, u)
+            best_at[cid] = {site: kv[1] for site, kv in best.items()}
+        return best_at[cid]
 
     def chosen(cid: int, near: str | None) -> UnitState:
+        """The unit of accessory class ``cid`` to hand out with an instrument kept at
+        ``near`` (:func:`_unit_rank`)."""
         k = (cid, near)
         if k not in chosen_for:
-            chosen_for[k] = min(pools[cid], key=lambda u: (
-                len(unit_history(u, None)), 0 if (near is not None and u.site == near) else 1,
-                0 if (plan.site is not None and u.site == plan.site) else 1,
-                -(u.verification_due.toordinal() if u.verification_due else 0), u.tag))
+            chosen_for[k] = min(at_sites(cid).values(), key=lambda u: _unit_rank(u, plan, near))
         return chosen_for[k]
 
     # -- the real keys back into the findings that someone reads -------------------------------
@@ -314,21 +341,34 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
     modes_of: dict[int, list[str]] = {}
     for icid, mode_key in options:
         modes_of.setdefault(icid, []).append(mode_key)
-    usable = {id(u) for key, units in available.items() if fleet.models[key].is_instrument
-              for u in units}
-    for unit in fleet.units:
-        if id(unit) not in usable:
+    for key, units in available.items():
+        cid = class_of[key]
+        mode_keys = modes_of.get(cid) if fleet.models[key].is_instrument else None
+        if not mode_keys:
             continue
-        cid = class_of[unit.model]
-        for mode_key in modes_of.get(cid, ()):
-            own = unit_history(unit, mode_key) if (
-                unit.history or unit.verification_due is None) else []
-            g = (cid, mode_key, unit.site, unit.tag if own else None)
-            members = groups.get(g)
-            if members is None:
-                members = groups[g] = []
-                own_of[g] = own
-            members.append(unit)
+        plain: dict[str | None, list[UnitState]] = {}
+        for unit in units:
+            if not unit.history and unit.verification_due is not None:
+                # nothing in check_history can apply: the group of its model, mode and site
+                at = plain.get(unit.site)
+                if at is None:
+                    at = plain[unit.site] = []
+                at.append(unit)
+                continue
+            for mode_key in mode_keys:
+                own = check_history(unit, mode_key)
+                g = (cid, mode_key, unit.site, unit.tag if own else None)
+                if g not in groups:
+                    groups[g] = []
+                    own_of[g] = own
+                groups[g].append(unit)
+        for site, at in plain.items():
+            for mode_key in mode_keys:
+                g = (cid, mode_key, site, None)
+                if g not in groups:
+                    groups[g] = []
+                    own_of[g] = []
+                groups[g].extend(at)
 
     def weigh(combo: _Combo, site: str | None, own: list[Finding]):
         accs = [chosen(c, site) for c in combo.slots]
@@ -343,7 +383,8 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
         return key, accs, extra, worst, margin
 
     setups: list[SetupResult] = []
-    best_of: dict[tuple, tuple] = {}
+    ranks: list[tuple] = []
+    new = object.__new__
     for g, members in groups.items():
         icid, mode_key, site, _ = g
         while True:
@@ -351,7 +392,6 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
                        key=lambda w: w[0])
             if not best[-1].complete():
                 break  # its findings are whole: check 10 had run
-        best_of[g] = best
         _key, accs, extra, worst, margin = best[:5]
         combo = best[-1]
         verdict = _VERDICTS[worst]
@@ -363,14 +403,25 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
         kind = reps[icid].kind
         common = dict(mode=mode_key, accessories=acc_tags, verdict=verdict, margin=margin,
                       accessory_models=acc_models, accessory_sites=acc_sites, mode_label=label,
-                      instrument_kind=kind)
+                      instrument_kind=kind, site=site)
+        rank = rank_of_setup(verdict, kind, margin, site, plan.site, plan.task)
+        # what the units of one model share (their findings too): each unit adds its tag
+        # and verification due to it
+        of_model: dict[str, dict] = {}
         for unit in members:
-            setups.append(_made(SetupResult, common, instrument=unit.tag,
-                                instrument_model=unit.model,
-                                found=Findings(shared_text(combo, unit.model, acc_models),
-                                               extra_t),
-                                site=unit.site, verification_due=unit.verification_due))
-    setups.sort(key=lambda s: sort_key(s, plan.site, plan.task))
+            fields = of_model.get(unit.model)
+            if fields is None:
+                fields = of_model[unit.model] = dict(
+                    common, instrument_model=unit.model,
+                    found=Findings(shared_text(combo, unit.model, acc_models), extra_t))
+            s = new(SetupResult)
+            d = s.__dict__
+            d.update(fields)
+            d["instrument"] = unit.tag
+            d["verification_due"] = due = unit.verification_due
+            setups.append(s)
+            ranks.append(rank + rank_of_unit(due, unit.tag, mode_key, acc_tags))
+    setups = [setups[i] for i in sorted(range(len(setups)), key=ranks.__getitem__)]
 
     # -- accessory units: the best setup each takes part in ------------------------------------
     acc_groups: dict[tuple[int, str | None], list[UnitState]] = {}
@@ -388,6 +439,7 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
     # the unit that stands for its group in an accessory's best setup: the first by tag
     leaders = {g: min(units, key=lambda u: u.tag) for g, units in groups.items()}
     offers: list[AccessoryResult] = []
+    offer_ranks: list[tuple] = []
     for (cid, _tag), members in acc_groups.items():
         sample = members[0]
         while True:
@@ -416,20 +468,33 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
             continue
         _rank, verdict, margin, reason, first, combo, here, i, extra_t = found_best
         kind = fleet.models[sample.model].kind
+        before, after = here[:i], here[i + 1:]
+        tags_before = tuple(x.tag for x in before)
+        tags_after = tuple(x.tag for x in after)
+        models_before = tuple(x.model for x in before)
+        models_after = tuple(x.model for x in after)
+        order = VERDICT_ORDER.index(verdict)
+        offer_fields: dict[str, dict] = {}
         for u in members:
-            units_here = here[:i] + [u] + here[i + 1:]
-            acc_models = tuple(x.model for x in units_here)
-            text = shared_text(combo, first.model, acc_models)
-            names_reason = None
-            if reason is not None:
-                names_reason = reason if not share else reason_text(
-                    reason, first.model, acc_models)
-            offers.append(_made(
-                AccessoryResult, {}, unit=u.tag, model=u.model, kind=kind, verdict=verdict,
-                instrument=first.tag, mode=combo.ctx.mode.key,
-                accessories=tuple(x.tag for x in units_here), margin=margin,
-                reason=names_reason, found=Findings(text, extra_t)))
-    offers.sort(key=lambda a: (VERDICT_ORDER.index(a.verdict), a.kind, a.unit))
+            fields = offer_fields.get(u.model)
+            if fields is None:
+                acc_models = models_before + (u.model,) + models_after
+                names_reason = None
+                if reason is not None:
+                    names_reason = reason if not share else reason_text(
+                        reason, first.model, acc_models)
+                fields = offer_fields[u.model] = dict(
+                    model=u.model, kind=kind, verdict=verdict, instrument=first.tag,
+                    mode=combo.ctx.mode.key, margin=margin, reason=names_reason,
+                    found=Findings(shared_text(combo, first.model, acc_models), extra_t))
+            a = new(AccessoryResult)
+            d = a.__dict__
+            d.update(fields)
+            d["unit"] = u.tag
+            d["accessories"] = tags_before + (u.tag,) + tags_after
+            offers.append(a)
+            offer_ranks.append((order, kind, u.tag))
+    offers = [offers[i] for i in sorted(range(len(offers)), key=offer_ranks.__getitem__)]
     return Result(plan=plan, derived=derived, setups=tuple(setups), excluded=tuple(excluded),
                   cautions=tuple(plan_cautions(plan, derived)), on=on,
                   accessories=tuple(offers), combinations=n)

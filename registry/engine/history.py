@@ -29,7 +29,9 @@ STRESS_KINDS = ("overvoltage", "transient", "discharge")
 
 def exclusion_reason(unit: UnitState, on: date) -> str | None:
     """The first reason that keeps ``unit`` out of a job on ``on``: retired, away, on-hold (an
-    open hold or the status), verification-overdue (due before the day); else ``None``."""
+    open hold or the status), verification-overdue (due before the day); else ``None``. It
+    reads the status, the open hold and the verification due alone (the evaluation asks once
+    per distinct three)."""
     if unit.status == "retired":
         return "retired"
     if unit.status == "away":

@@ -237,11 +237,23 @@ def sort_key(s: SetupResult, plan_site: str | None, task: str | None = None):
     instruments (:func:`~registry.engine.dead_work.tester_rank`); then the larger margin of
     the deciding finding first (no margin last); then units at the plan's site, then the latest
     verification due first; tag and mode keep it stable."""
-    margin = s.margin if s.margin is not None else -math.inf
-    due = s.verification_due.toordinal() if s.verification_due else 0
-    return (VERDICT_ORDER.index(s.verdict), tester_rank(task, s.instrument_kind), -margin,
-            0 if (plan_site is not None and s.site == plan_site) else 1, -due,
-            s.instrument, s.mode, s.accessories)
+    return rank_of_setup(s.verdict, s.instrument_kind, s.margin, s.site, plan_site, task) + \
+        rank_of_unit(s.verification_due, s.instrument, s.mode, s.accessories)
+
+
+def rank_of_setup(verdict: str, kind: str, margin: float | None, site: str | None,
+                  plan_site: str | None, task: str | None) -> tuple:
+    """The first part of :func:`sort_key`: what the units of one setup (one choice of
+    accessories for one model, mode and site) share."""
+    m = margin if margin is not None else -math.inf
+    return (VERDICT_ORDER.index(verdict), tester_rank(task, kind), -m,
+            0 if (plan_site is not None and site == plan_site) else 1)
+
+
+def rank_of_unit(due: date | None, tag: str, mode: str, accessories: tuple[str, ...]) -> tuple:
+    """The rest of :func:`sort_key`: the latest verification due first, then tag, mode and
+    accessories."""
+    return (-(due.toordinal() if due else 0), tag, mode, accessories)
 
 
 def plan_as_dict(plan: Plan, d: Derived) -> dict:
