@@ -20,9 +20,10 @@ from .quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, POWER, RESISTANCE, 
 # discharge_time and absorbed_in live with the one discharge rule; kept importable from here
 from .discharge import (SRC_FRONT_END, DischargeProfile, DischargeUnsolved, absorbed_in,  # noqa: F401
                         absorbed_to, discharge_profile, discharge_time, time_text)
+from .derived import Derived
 from .setups import LOW_Z, VOLTAGE_TASKS, SetupContext
 from .rules import rating_covers
-from .spec import DEFAULT_MAX_ALTITUDE, Fuse, Mode, ModelSpec, Rating
+from .spec import DEFAULT_MAX_ALTITUDE, Fuse, Mode, ModelSpec, Plan, Rating
 
 SRC_CATEGORY = "IEC 61010-1:2010 for instruments, IEC 61010-031:2015 for probe assemblies: " \
                "measurement category and rated voltage"
@@ -71,9 +72,15 @@ def category_requirement(ctx: SetupContext, item: ModelSpec) -> tuple[str | None
     """(category required or None, voltage required) for ``item``. A mains circuit needs the
     category and the higher of the working voltage and the voltage to earth; an isolated one
     (or the instrument behind a divider) a voltage only."""
-    c = ctx.plan.circuit
     if item is ctx.instrument and ctx.divider is not None:
         return None, max(ctx.seen_voltage, ctx.seen_to_earth)
+    return plan_requirement(ctx.plan)
+
+
+def plan_requirement(plan: Plan) -> tuple[str | None, float]:
+    """(category required or None, voltage required) of the plan's circuit itself: what every
+    accessory, and an instrument not behind a divider, must be rated for."""
+    c = plan.circuit
     need = max(c.voltage, c.to_earth)
     return (c.category if c.supply == "mains" else None), need
 
@@ -94,35 +101,40 @@ def check_category(ctx: SetupContext) -> list[Finding]:
                           f"of clamp {ctx.current_clamp.key}.", SRC_CATEGORY))
             continue
         cat, need = category_requirement(ctx, item)
-        required = (f"CAT {cat} " if cat else "") + qtext(need, VOLTAGE)
-        if not item.ratings:
-            out.append(_f("category", "unknown", item.key,
-                          f"{item.key} has no rating recorded; its fitness for "
-                          f"{required} cannot be checked.", SRC_CATEGORY, required,
-                          need=need, unit="V"))
-            continue
-        fits = fitting_ratings(item, cat, need)
-        if fits:
-            best = max(fits, key=lambda r: r.voltage)
-            where = "at the divider's output" if (item is ctx.instrument and ctx.divider) else ""
-            out.append(_f("category", "pass", item.key,
-                          f"{item.key} is rated {rating_text(best)}, enough for {required}"
-                          f"{' ' + where if where else ''}.", SRC_CATEGORY, required,
-                          rating_text(best), headroom(best.voltage, need),
-                          need=need, have=best.voltage, unit="V"))
-        else:
-            available = ", ".join(rating_text(r) for r in item.ratings)
-            if cat is not None:
-                why = (f"none of its ratings ({available}) is at least CAT {cat} and at least "
-                       f"{qtext(need, VOLTAGE)} at the same time")
-            else:
-                why = f"its highest rating ({available}) is below {qtext(need, VOLTAGE)}"
-            closest = max(item.ratings, key=lambda r: r.voltage)
-            out.append(_f("category", "fail", item.key,
-                          f"{item.key} must not be used here: {why}.", SRC_CATEGORY, required,
-                          available, _short(closest.voltage, need),
-                          need=need, have=closest.voltage, unit="V"))
+        where = "at the divider's output" if (item is ctx.instrument and ctx.divider) else ""
+        out.append(category_finding(item, cat, need, where))
     return out
+
+
+def category_finding(item: ModelSpec, cat: str | None, need: float,
+                     where: str = "") -> Finding:
+    """Check 2 for one item of the chain against its requirement (:func:`category_requirement`):
+    pass with the covering rating's headroom, fail, or unknown without a rating."""
+    required = (f"CAT {cat} " if cat else "") + qtext(need, VOLTAGE)
+    if not item.ratings:
+        return _f("category", "unknown", item.key,
+                  f"{item.key} has no rating recorded; its fitness for "
+                  f"{required} cannot be checked.", SRC_CATEGORY, required,
+                  need=need, unit="V")
+    fits = fitting_ratings(item, cat, need)
+    if fits:
+        best = max(fits, key=lambda r: r.voltage)
+        return _f("category", "pass", item.key,
+                  f"{item.key} is rated {rating_text(best)}, enough for {required}"
+                  f"{' ' + where if where else ''}.", SRC_CATEGORY, required,
+                  rating_text(best), headroom(best.voltage, need),
+                  need=need, have=best.voltage, unit="V")
+    available = ", ".join(rating_text(r) for r in item.ratings)
+    if cat is not None:
+        why = (f"none of its ratings ({available}) is at least CAT {cat} and at least "
+               f"{qtext(need, VOLTAGE)} at the same time")
+    else:
+        why = f"its highest rating ({available}) is below {qtext(need, VOLTAGE)}"
+    closest = max(item.ratings, key=lambda r: r.voltage)
+    return _f("category", "fail", item.key,
+              f"{item.key} must not be used here: {why}.", SRC_CATEGORY, required,
+              available, _short(closest.voltage, need),
+              need=need, have=closest.voltage, unit="V")
 
 
 def _short(have: float, need: float) -> float | None:
@@ -158,13 +170,19 @@ def check_tip(ctx: SetupContext) -> list[Finding]:
     the hazard of a bare tip only grows (common practice, no source). Off the categories a
     discharge tool is left out: its contact is not a test probe, which is what GS38's tip
     guidance is for. Unrecorded: unknown."""
-    c = ctx.plan.circuit
     item = _touching_item(ctx)
     if item is None:
         return []
+    return tip_findings(item, ctx.plan, ctx.derived, ctx.is_discharge_tool)
+
+
+def tip_findings(item: ModelSpec, plan: Plan, derived: Derived,
+                 discharge_tool: bool) -> list[Finding]:
+    """:func:`check_tip` for ``item``, the item that touches the circuit, on a setup whose
+    instrument is a discharge tool or not: its tip alone decides."""
+    c = plan.circuit
     cat = c.category if c.supply == "mains" else None
-    if cat not in probe_tips.FAIL_CATEGORIES and (not ctx.derived.hazardous
-                                                  or ctx.is_discharge_tool):
+    if cat not in probe_tips.FAIL_CATEGORIES and (not derived.hazardous or discharge_tool):
         return []
     status = probe_tips.tip_status(item.tip_exposure, cat)
     limit = qtext(probe_tips.PREFERRED_EXPOSURE, LENGTH)
@@ -249,35 +267,39 @@ def check_transient(ctx: SetupContext) -> list[Finding]:
             continue
         need = ctx.seen_transient if item is ctx.instrument else expected
         assert need is not None  # both come from the transient, None returned above
-        required = f"{qtext(need, VOLTAGE)} peak"
         cat, need_v = category_requirement(ctx, item)
-        covering = fitting_ratings(item, cat, need_v)
-        have = withstand_of(item, covering)
-        if item.ratings and not covering:
-            cover = (f"CAT {cat} " if cat else "") + qtext(need_v, VOLTAGE)
-            out.append(_f("transient", "fail", item.key,
-                          f"{item.key} has no rating that covers {cover}, so none of its "
-                          f"impulse withstands applies here; {required} is not withstood.",
-                          impulse.SOURCE, required,
-                          ", ".join(rating_text(r) for r in item.ratings),
-                          need=need, unit="V", basis="peak"))
-            continue
-        if have is None:
-            out.append(_f("transient", "unknown", item.key,
-                          f"{item.key} states no impulse withstand (a 'none' rating without "
-                          f"a transient); {required} cannot be checked.", impulse.SOURCE,
-                          need=need, unit="V", basis="peak"))
-            continue
-        by = max((r for r in covering if rating_withstand(r) == have),
-                 key=lambda r: r.voltage)
-        ok = have >= need
-        out.append(_f("transient", "pass" if ok else "fail", item.key,
-                      f"{item.key} withstands {qtext(have, VOLTAGE)} peak by its rating "
-                      f"{rating_text(by)}; the circuit can deliver {required}"
-                      + ("." if ok else ": it may flash over."),
-                      ctx.derived.transient_source, margin=headroom(have, need),
-                      need=need, have=have, unit="V", basis="peak"))
+        out.append(transient_finding(item, need, cat, need_v, ctx.derived.transient_source))
     return out
+
+
+def transient_finding(item: ModelSpec, need: float, cat: str | None, need_v: float,
+                      source: str) -> Finding:
+    """Check 3 for one item: its impulse withstand (from the ratings covering ``cat`` at
+    ``need_v`` V) against ``need`` V peak; ``source`` names where the expected transient comes
+    from, for a pass or a fail on the numbers."""
+    required = f"{qtext(need, VOLTAGE)} peak"
+    covering = fitting_ratings(item, cat, need_v)
+    have = withstand_of(item, covering)
+    if item.ratings and not covering:
+        cover = (f"CAT {cat} " if cat else "") + qtext(need_v, VOLTAGE)
+        return _f("transient", "fail", item.key,
+                  f"{item.key} has no rating that covers {cover}, so none of its "
+                  f"impulse withstands applies here; {required} is not withstood.",
+                  impulse.SOURCE, required, ", ".join(rating_text(r) for r in item.ratings),
+                  need=need, unit="V", basis="peak")
+    if have is None:
+        return _f("transient", "unknown", item.key,
+                  f"{item.key} states no impulse withstand (a 'none' rating without "
+                  f"a transient); {required} cannot be checked.", impulse.SOURCE,
+                  need=need, unit="V", basis="peak")
+    by = max((r for r in covering if rating_withstand(r) == have), key=lambda r: r.voltage)
+    ok = have >= need
+    return _f("transient", "pass" if ok else "fail", item.key,
+              f"{item.key} withstands {qtext(have, VOLTAGE)} peak by its rating "
+              f"{rating_text(by)}; the circuit can deliver {required}"
+              + ("." if ok else ": it may flash over."),
+              source, margin=headroom(have, need), need=need, have=have, unit="V",
+              basis="peak")
 
 
 # -- check 4: altitude ------------------------------------------------------------------------
@@ -309,33 +331,63 @@ def check_altitude(ctx: SetupContext) -> list[Finding]:
     out = []
     for item in ctx.chain:
         cat, need = category_requirement(ctx, item)
-        relevant = fitting_ratings(item, cat, need) or list(item.ratings)
-        if not relevant:
-            top = item.max_altitude
-            ok = h <= top
-            out.append(_f("altitude", "pass" if ok else "fail", item.key,
-                          f"{item.key} is for use up to {qtext(top, LENGTH)}; the site is at "
-                          f"{qtext(h, LENGTH)}" + ("." if ok else f"; {_factor_text(h, top)}."),
-                          SRC_ALTITUDE, margin=headroom(top, h), need=h, have=top, unit="m"))
-            continue
-        top_rating = max(relevant, key=lambda r: rating_altitude(item, r))
-        top = rating_altitude(item, top_rating)
-        if h <= top:
-            note = ""
-            if DEFAULT_MAX_ALTITUDE < h and alt.in_table(h):
-                note = (f" (IEC 60664-1 Table A.2 factor there: {alt.altitude_factor(h):.2f}, "
-                        "read from the next row up)")
-            out.append(_f("altitude", "pass", item.key,
-                          f"{item.key}'s rating {rating_text(top_rating)} holds up to "
-                          f"{qtext(top, LENGTH)}; the site is at {qtext(h, LENGTH)}{note}.",
-                          SRC_ALTITUDE, margin=headroom(top, h), need=h, have=top,
-                          unit="m"))
-        else:
-            out.append(_f("altitude", "fail", item.key,
-                          f"{item.key}'s rating {rating_text(top_rating)} holds only up to "
-                          f"{qtext(top, LENGTH)}; at {qtext(h, LENGTH)} it does not apply: "
-                          f"{_factor_text(h, top)}.", SRC_ALTITUDE,
-                          margin=headroom(top, h), need=h, have=top, unit="m"))
+        out.append(altitude_finding(item, h, cat, need))
+    return out
+
+
+def altitude_finding(item: ModelSpec, h: float, cat: str | None, need: float) -> Finding:
+    """Check 4 for one item at a site ``h`` m up: the altitude of its ratings that cover
+    ``cat`` at ``need`` V (all its ratings when none covers), else its own."""
+    relevant = fitting_ratings(item, cat, need) or list(item.ratings)
+    if not relevant:
+        top = item.max_altitude
+        ok = h <= top
+        return _f("altitude", "pass" if ok else "fail", item.key,
+                  f"{item.key} is for use up to {qtext(top, LENGTH)}; the site is at "
+                  f"{qtext(h, LENGTH)}" + ("." if ok else f"; {_factor_text(h, top)}."),
+                  SRC_ALTITUDE, margin=headroom(top, h), need=h, have=top, unit="m")
+    top_rating = max(relevant, key=lambda r: rating_altitude(item, r))
+    top = rating_altitude(item, top_rating)
+    if h <= top:
+        note = ""
+        if DEFAULT_MAX_ALTITUDE < h and alt.in_table(h):
+            note = (f" (IEC 60664-1 Table A.2 factor there: {alt.altitude_factor(h):.2f}, "
+                    "read from the next row up)")
+        return _f("altitude", "pass", item.key,
+                  f"{item.key}'s rating {rating_text(top_rating)} holds up to "
+                  f"{qtext(top, LENGTH)}; the site is at {qtext(h, LENGTH)}{note}.",
+                  SRC_ALTITUDE, margin=headroom(top, h), need=h, have=top, unit="m")
+    return _f("altitude", "fail", item.key,
+              f"{item.key}'s rating {rating_text(top_rating)} holds only up to "
+              f"{qtext(top, LENGTH)}; at {qtext(h, LENGTH)} it does not apply: "
+              f"{_factor_text(h, top)}.", SRC_ALTITUDE,
+              margin=headroom(top, h), need=h, have=top, unit="m")
+
+
+# -- the checks of an accessory alone ---------------------------------------------------------
+
+# The checks whose finding on an accessory depends on that accessory and the plan alone
+# (each writes one finding per item, its subject the item's key): its category, its tip when it
+# is the item that touches the circuit, its transient, its altitude.
+SOLO_CHECKS = ("category", "tip", "transient", "altitude")
+
+
+def accessory_findings(item: ModelSpec, plan: Plan, derived: Derived, *, touching: bool,
+                       discharge_tool: bool) -> list[Finding]:
+    """The findings of :data:`SOLO_CHECKS` on the accessory ``item`` in any setup (in the
+    order the checks write them): what checks 2 to 4 and the tip rule say of it, whatever the
+    instrument; ``touching`` when it is the item that meets the circuit (a tip, or leads with no
+    tip on them), ``discharge_tool`` when the setup's instrument is one. The same functions
+    the checks call for every item of a chain, so a setup's findings on the accessory are
+    these."""
+    cat, need = plan_requirement(plan)
+    out = [category_finding(item, cat, need)]
+    if touching:
+        out += tip_findings(item, plan, derived, discharge_tool)
+    if derived.transient is not None:
+        out.append(transient_finding(item, derived.transient, cat, need,
+                                     derived.transient_source))
+    out.append(altitude_finding(item, plan.altitude, cat, need))
     return out
 
 
