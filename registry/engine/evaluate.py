@@ -11,10 +11,11 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable, Sequence
+import dataclasses
 from dataclasses import dataclass
 from datetime import date
 
-from .checks import CHECKS
+from .checks import CHECKS, SOLO_CHECKS, accessory_findings, _touching_item
 from .derived import derive
 from .dead_work import check_proving_dead
 from .findings import Finding
@@ -24,7 +25,8 @@ from .result import (SEVERITY, VERDICT_ORDER, AccessoryResult, Excluded, Finding
                      SetupResult, SharedFindings, _key_of, deciding_finding, rank_of_setup,
                      rank_of_unit, sort_key)
 from .setups import SetupContext, check_setup, enumerate_setups
-from .spec import LEAD_KINDS, Fleet, ModelSpec, Plan, SpecError, UnitState
+from .spec import (DEFAULT_MAX_ALTITUDE, DEFAULT_POLLUTION_DEGREE, LEAD_KINDS, Fleet, ModelSpec,
+                   Plan, SpecError, UnitState)
 
 ExtraCheck = Callable[[SetupContext], list[Finding]]
 # Rules of the task beside checks 2 to 9 (engine/dead_work.py).
@@ -209,6 +211,135 @@ _VERDICTS = {0: "suitable", 1: "conditional", 2: "unverified", 3: "unsuitable"}
 
 
 
+def _ordinary(m: float | None) -> bool:
+    """A margin that ranks where it decides: ``None`` and +inf decide alike (last) but rank
+    apart (worst and best), so only the others order setups the same way in both."""
+    return m is not None and m != math.inf
+
+
+@dataclass(frozen=True)
+class _Alone:
+    """What an accessory's own findings (:func:`~registry.engine.checks.accessory_findings`)
+    bring to any setup: how many fail, are unknown, are cautions; the worst severity; the least
+    ordinary margin at that severity (inf if none) and whether every finding there has none."""
+
+    counts: tuple[int, int, int]
+    worst: int
+    least: float
+    marginless: bool
+
+    @classmethod
+    def of(cls, found) -> _Alone:
+        worst = max(SEVERITY[f.status] for f in found)
+        top = [f.margin for f in found if SEVERITY[f.status] == worst]
+        counts = tuple(sum(1 for f in found if f.status == k)
+                       for k in ("fail", "unknown", "caution"))
+        return cls((counts[0], counts[1], counts[2]), worst,
+                   min((m for m in top if _ordinary(m)), default=math.inf),
+                   all(m is None for m in top))
+
+
+def _not_below(a: _Alone, b: _Alone) -> bool:
+    """Whether ``a``'s margin ranks at least as high as ``b``'s whatever the rest of a setup
+    holds, at their common worst severity: both ordinary and ``a``'s the larger."""
+    return a.least != math.inf and b.least != math.inf and a.least >= b.least
+
+
+def _ranks_ahead(a: _Alone, b: _Alone) -> bool:
+    """For the offer of another accessory in the same setup (:func:`accessory_rank`): ``a`` in
+    place of ``b`` never ranks it lower, whatever else the setup holds."""
+    if a.worst < b.worst:
+        return b.marginless  # else a finding with a margin could rank b's setup higher
+    return a.worst == b.worst and _not_below(a, b)
+
+
+def _chosen_ahead(a: _Alone, b: _Alone) -> bool | None:
+    """For an instrument unit's choice (``weigh``): ``True`` when ``a`` in place of ``b`` always
+    makes a strictly better option, ``None`` when at least as good on everything but the units'
+    site and tags, ``False`` when neither can be said."""
+    if a.counts < b.counts:
+        return True
+    return None if a.counts == b.counts and _not_below(a, b) else False
+
+
+def _prune(plan: Plan, derived, reps: list[ModelSpec], pools: dict[int, list[UnitState]],
+           chosen, unit_history, sites) -> tuple[dict[int, int],
+                                                 dict[tuple[int, bool, bool], tuple]]:
+    """The accessory models that no instrument unit's choice and no accessory unit's offer can
+    need, each with the kept model that stands for it, and every accessory model's own findings
+    (by model, whether it touches the circuit, whether the instrument is a discharge tool).
+
+    Accessory models are grouped by everything the checks read of them but their own findings
+    (:data:`~registry.engine.checks.SOLO_CHECKS`: ratings, altitude, tip): models of one group
+    fit the same setups and bring the same other findings to each. In a group, a model is set
+    aside when another one (a) makes every instrument unit's option with it strictly better (fewer
+    fails, unknowns, cautions, in that order; or as many and an ordinary margin at least as
+    large, with the unit handed out at every instrument site ahead on site and tag), and (b)
+    some model before it never ranks another accessory's offer lower (:func:`_ranks_ahead`;
+    before it, so that a tie goes the same way). Both hold whatever the rest of a setup holds,
+    and the model that dominates hands out a unit without history, so the choices and offers of
+    the kept models are those over all of them. The set-aside models' own offers are judged on
+    their group's kept setups with their own findings put in (:func:`_swapped_part`)."""
+    tools = sorted({r.kind == "discharge-tool" for r in reps if r.is_instrument})
+    groups: dict[tuple, list[int]] = {}
+    for rid, r in enumerate(reps):
+        if r.is_instrument:
+            continue
+        lead = r.kind in LEAD_KINDS
+        plain = dataclasses.replace(r, ratings=(), max_altitude=DEFAULT_MAX_ALTITUDE,
+                                    tip_exposure=None, maker="", name="",
+                                    pollution_degree=DEFAULT_POLLUTION_DEGREE)
+        groups.setdefault((lead, plain), []).append(rid)
+    solo: dict[tuple[int, bool, bool], tuple] = {}
+    stand_for: dict[int, int] = {}
+    alone: dict[int, list[_Alone]] = {}
+
+    def chosen_over(x: int, y: int) -> bool:
+        ties = False
+        for a, b in zip(alone[x], alone[y], strict=True):
+            ahead = _chosen_ahead(a, b)
+            if ahead is False:
+                return False
+            ties = ties or ahead is None
+        if not ties:
+            return True
+        for site in sites:
+            ux, uy = chosen(x, site), chosen(y, site)
+            if not (ux.site != site, ux.tag) < (uy.site != site, uy.tag):
+                return False
+        return True
+
+    def offers_over(x: int, y: int) -> bool:
+        return all(_ranks_ahead(a, b) for a, b in zip(alone[x], alone[y], strict=True))
+
+    for (lead, _plain), members in groups.items():
+        touch = ((False,) if reps[members[0]].kind == "current-clamp" else (True, False)) \
+            if lead else (True,)
+        variants = [(t, tool) for t in touch for tool in tools]
+        for rid in members:
+            per = []
+            for t, tool in variants:
+                found = tuple(accessory_findings(reps[rid], plan, derived, touching=t,
+                                                 discharge_tool=tool))
+                solo[(rid, t, tool)] = found
+                per.append(_Alone.of(found))
+            alone[rid] = per
+        if len(members) < 2 or not variants:
+            continue
+        clean = {rid for rid in members if any(not unit_history(u, None) for u in pools[rid])}
+
+        first_kept = members[0]  # nothing before it: never set aside
+        ahead: list[int] = []  # the models before, not set aside by (b), with a clean unit
+        by_choice = sorted(members, key=lambda r: [a.counts for a in alone[r]])
+        for rid in members:
+            if (any(offers_over(x, rid) for x in ahead)
+                    and any(chosen_over(x, rid) for x in by_choice if x != rid and x in clean)):
+                stand_for[rid] = first_kept
+            elif rid in clean:
+                ahead.append(rid)
+    return stand_for, solo
+
+
 def split_units(fleet: Fleet, on: date) -> tuple[list[Excluded], dict[str, list[UnitState]]]:
     """The units kept out of a job on ``on`` and why, and the rest by model key, in the
     fleet's order; a unit of a model the fleet lacks is a :class:`SpecError`. The reason is
@@ -235,7 +366,8 @@ def split_units(fleet: Fleet, on: date) -> tuple[list[Excluded], dict[str, list[
     return excluded, available
 
 
-def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = ()) -> Result:
+def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (),
+             prune: bool = True) -> Result:
     """The whole check of ``plan`` against ``fleet`` (checks 1 to 12): one setup per available
     instrument unit and mode (with the best accessory units for it), ranked; every accessory
     unit with the best setup it takes part in; the units left out and why; the cautions.
@@ -268,13 +400,6 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
             reps.append(content)
         class_of[key] = cid
     rep_id = {id(r): i for i, r in enumerate(reps)}
-
-    options: dict[tuple[int, str], list[_Combo]] = {}
-    n = 0
-    for ctx in enumerate_setups(plan, derived, reps):
-        combo = _Combo(ctx, tuple(rep_id[id(a)] for a in ctx.accessories), extra_checks, n)
-        n += 1
-        options.setdefault((rep_id[id(ctx.instrument)], ctx.mode.key), []).append(combo)
 
     # -- accessory units: their history and the one to hand out per instrument site ------------
     history: dict[str, list[Finding]] = {}
@@ -317,6 +442,22 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
         if k not in chosen_for:
             chosen_for[k] = min(at_sites(cid).values(), key=lambda u: _unit_rank(u, plan, near))
         return chosen_for[k]
+
+    # -- accessory models judged alone, the ones no setup or offer can need set aside ----------
+    stand_for: dict[int, int] = {}
+    solo: dict[tuple[int, bool, bool], tuple[Finding, ...]] = {}
+    if share and prune:
+        sites = {u.site for key, units in available.items() if fleet.models[key].is_instrument
+                 for u in units}
+        stand_for, solo = _prune(plan, derived, reps, pools, chosen, unit_history, sites)
+
+    options: dict[tuple[int, str], list[_Combo]] = {}
+    n = 0
+    kept = [r for i, r in enumerate(reps) if i not in stand_for]
+    for ctx in enumerate_setups(plan, derived, kept):
+        combo = _Combo(ctx, tuple(rep_id[id(a)] for a in ctx.accessories), extra_checks, n)
+        n += 1
+        options.setdefault((rep_id[id(ctx.instrument)], ctx.mode.key), []).append(combo)
 
     # -- the real keys back into the findings that someone reads -------------------------------
     texts: dict[tuple, SharedFindings] = {}
@@ -438,30 +579,89 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
 
     # the unit that stands for its group in an accessory's best setup: the first by tag
     leaders = {g: min(units, key=lambda u: u.tag) for g, units in groups.items()}
+    rests: dict[tuple[int, int, bool], tuple] = {}
+
+    def rest_of(combo: _Combo, i: int) -> tuple:
+        """Where the own findings of accessory ``i`` stand in ``combo``'s findings, and the
+        part of the others, each deciding finding with its place (the first of equals
+        decides)."""
+        k = (combo.index, i, combo.done)
+        if k not in rests:
+            acc_key = combo.ctx.accessories[i].key
+            found = combo.findings
+            places = [j for j, f in enumerate(found)
+                      if f.check in SOLO_CHECKS and f.subject == acc_key]
+            worst, dec, own_worst, own_dec, has_own = 0, None, 0, None, False
+            for j, f in enumerate(found):
+                if j in places:
+                    continue
+                sev, key = SEVERITY[f.status], (_key_of(f), j)
+                worst = max(worst, sev)
+                if dec is None or key < dec[0]:
+                    dec = (key, f)
+                if _own(f, acc_key, None):
+                    has_own, own_worst = True, max(own_worst, sev)
+                    if own_dec is None or key < own_dec[0]:
+                        own_dec = (key, f)
+            rests[k] = (places, worst, dec, own_worst, own_dec, has_own)
+        return rests[k]
+
+    def own_findings(combo: _Combo, i: int, cid: int) -> tuple[Finding, ...]:
+        ctx = combo.ctx
+        acc = ctx.accessories[i]
+        return solo[(cid, _touching_item(ctx) is acc, ctx.is_discharge_tool)]
+
+    def swapped(combo: _Combo, i: int, cid: int) -> _Part:
+        """The part of ``combo`` for accessory ``i`` with the set-aside model ``cid`` in place
+        of the kept one: its own findings where the kept one's stand, the rest the same."""
+        places, worst, dec, own_worst, own_dec, _has = rest_of(combo, i)
+        own = own_findings(combo, i, cid)
+        assert len(own) == len(places)  # the same checks speak of both
+        for j, f in zip(places, own, strict=True):
+            sev, key = SEVERITY[f.status], (_key_of(f), j)
+            worst, own_worst = max(worst, sev), max(own_worst, sev)
+            if dec is None or key < dec[0]:
+                dec = (key, f)
+            if own_dec is None or key < own_dec[0]:
+                own_dec = (key, f)
+        return _Part(worst, None if dec is None else dec[1], own_worst,
+                     None if own_dec is None else own_dec[1], True)
+
+    def swapped_findings(combo: _Combo, i: int, cid: int) -> tuple[Finding, ...]:
+        found = list(combo.findings)
+        for j, f in zip(rest_of(combo, i)[0], own_findings(combo, i, cid), strict=True):
+            found[j] = f
+        return tuple(found)
+
+    # each option that holds an accessory model, by instrument model, mode and that model
+    containing: dict[tuple[int, str, int], list[tuple[_Combo, int]]] = {}
+    for (icid, mode_key), combos in options.items():
+        for combo in combos:
+            for i, slot in enumerate(combo.slots):
+                containing.setdefault((icid, mode_key, slot), []).append((combo, i))
     offers: list[AccessoryResult] = []
     offer_ranks: list[tuple] = []
     for (cid, _tag), members in acc_groups.items():
         sample = members[0]
+        stand = stand_for.get(cid, cid)
         while True:
             found_best = None
             for g, first in leaders.items():
                 icid, mode_key, site, _ = g
-                for combo in options[(icid, mode_key)]:
-                    for i, slot in enumerate(combo.slots):
-                        if slot != cid:
-                            continue
-                        others = [chosen(c, site) for c in combo.slots]
-                        here = others[:i] + [sample] + others[i + 1:]
-                        extra = list(own_of[g])
-                        for x in here:
-                            extra += unit_history(x, None)
-                        acc_key = combo.ctx.accessories[i].key
-                        base = combo.part(i, acc_key)
-                        p = _joined(base, _part(extra, acc_key, sample.tag)) if extra else base
-                        rank, verdict, margin, reason = accessory_rank(p, first.tag, mode_key)
-                        if found_best is None or rank < found_best[0]:
-                            found_best = (rank, verdict, margin, reason, first, combo, here,
-                                          i, tuple(extra))
+                for combo, i in containing.get((icid, mode_key, stand), ()):
+                    others = [chosen(c, site) for c in combo.slots]
+                    here = others[:i] + [sample] + others[i + 1:]
+                    extra = list(own_of[g])
+                    for x in here:
+                        extra += unit_history(x, None)
+                    acc_key = combo.ctx.accessories[i].key
+                    base = combo.part(i, acc_key) if stand == cid else \
+                        swapped(combo, i, cid)
+                    p = _joined(base, _part(extra, acc_key, sample.tag)) if extra else base
+                    rank, verdict, margin, reason = accessory_rank(p, first.tag, mode_key)
+                    if found_best is None or rank < found_best[0]:
+                        found_best = (rank, verdict, margin, reason, first, combo, here,
+                                      i, tuple(extra))
             if found_best is None or not found_best[5].complete():
                 break
         if found_best is None:
@@ -483,10 +683,21 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
                 if reason is not None:
                     names_reason = reason if not share else reason_text(
                         reason, first.model, acc_models)
+                if stand == cid:
+                    text = shared_text(combo, first.model, acc_models)
+                else:
+                    found = swapped_findings(combo, i, cid)
+                    names = _names(first.model, acc_models, fleet)
+                    dec = swapped(combo, i, cid).deciding
+                    text = SharedFindings(
+                        lambda found=found, names=names: tuple(_renamed(f, names)
+                                                               for f in found),
+                        lambda dec=dec, names=names: None if dec is None else _renamed(
+                            dec, names), key=None if dec is None else _key_of(dec))
                 fields = offer_fields[u.model] = dict(
                     model=u.model, kind=kind, verdict=verdict, instrument=first.tag,
                     mode=combo.ctx.mode.key, margin=margin, reason=names_reason,
-                    found=Findings(shared_text(combo, first.model, acc_models), extra_t))
+                    found=Findings(text, extra_t))
             a = new(AccessoryResult)
             d = a.__dict__
             d.update(fields)

@@ -21,7 +21,7 @@ from hypothesis import HealthCheck, given, settings, strategies as st
 from registry.demo import demo_fleet_path
 from registry.engine.evaluate import evaluate
 from registry.engine.exhaustive import evaluate_exhaustive
-from registry.engine.spec import Fleet, PastEvent, UnitState
+from registry.engine.spec import Fleet, ModelSpec, PastEvent, Rating, UnitState
 from registry.formats.fleet import fleet_from_file
 
 from helpers.builders import JOB_DAY
@@ -177,3 +177,120 @@ def test_copies_of_a_model_share_one_evaluation_and_keep_their_names():
         assert [f.message for f in s.findings] == by_unit[(s.instrument, s.mode)]
         assert any(s.instrument_model in f.message or s.instrument_model == f.subject
                    for f in s.findings)
+
+
+# -- many different lead and probe models -------------------------------------------------------
+
+CATEGORY_RATINGS = st.builds(
+    Rating, st.sampled_from(["II", "III", "IV", "none"]),
+    st.sampled_from([150.0, 300.0, 600.0, 1000.0]),
+    st.sampled_from([None, None, 6000.0, 12e3]), st.sampled_from([None, None, 3000.0]))
+EXPOSURES = st.sampled_from([None, 1e-3, 2e-3, 3e-3, 4e-3, 19e-3])
+
+
+@st.composite
+def accessory_fleets(draw):
+    """A lab with many different lead and probe models: random ratings (or none: unverified),
+    connectors that fit some instruments and some tips, tip exposures, current ratings and
+    altitudes; some models copies of others; one to four units of each at random sites and
+    states, some with history. The instruments are the random ones of the other strategies, one
+    of them with integrated leads a tip plugs into."""
+    inst, _lead = draw(models())
+    chosen = [inst]
+    if draw(st.booleans()):
+        chosen.append(dataclasses.replace(
+            inst, key="m-fixed", kind="voltage-tester", integrated_leads=True,
+            connectors=("2mm",), ratings=tuple(draw(st.lists(CATEGORY_RATINGS, min_size=1,
+                                                              max_size=2)))))
+    for i in range(draw(st.integers(2, 12))):
+        if i and draw(st.integers(0, 4)) == 0:
+            chosen.append(dataclasses.replace(draw(st.sampled_from(
+                [m for m in chosen if m.kind == "test-leads"] or [inst])), key=f"lc{i}"))
+            if chosen[-1].is_instrument:
+                chosen.pop()
+            continue
+        chosen.append(ModelSpec(
+            f"l{i}", "test-leads", ratings=tuple(draw(st.lists(CATEGORY_RATINGS, max_size=2))),
+            connector=draw(st.sampled_from(["4mm"] * 5 + ["6mm"])),
+            connectors=draw(st.sampled_from([("2mm",)] * 4 + [(), ("2mm", "4mm")])),
+            tip_exposure=draw(EXPOSURES), max_altitude=draw(st.sampled_from([2000.0, 5000.0])),
+            current_rating=draw(st.sampled_from([10.0] * 4 + [None, 20.0]))))
+    for i in range(draw(st.integers(1, 12))):
+        chosen.append(ModelSpec(
+            f"t{i}", draw(st.sampled_from(["probe", "probe", "clip"])),
+            ratings=tuple(draw(st.lists(CATEGORY_RATINGS, max_size=2))),
+            connector=draw(st.sampled_from(["2mm"] * 4 + ["4mm"])),
+            tip_exposure=draw(EXPOSURES), max_altitude=draw(st.sampled_from([2000.0, 5000.0])),
+            current_rating=draw(st.sampled_from([10.0] * 4 + [None, 20.0]))))
+    units = []
+    for model in chosen:
+        for _ in range(draw(st.integers(1, 4 if model.is_instrument else 2))):
+            history = ()
+            if draw(st.integers(0, 5)) == 0:
+                history = (PastEvent(mode=None, kind="transient",
+                                     within_rating=draw(st.sampled_from([None, False])),
+                                     occurred_at=datetime(2026, 3, 1, 9, 0)),)
+            units.append(UnitState(
+                tag=f"U{len(units):02d}", model=model.key,
+                status=draw(st.sampled_from(["in-service"] * 6 + ["away"])),
+                site=draw(st.sampled_from(SITES)),
+                verification_due=draw(st.sampled_from([date(2027, 1, 1), date(2026, 12, 30),
+                                                       None])), history=history))
+    order = draw(st.permutations(range(len(units))))
+    return Fleet(models={m.key: m for m in chosen}, units=tuple(units[i] for i in order))
+
+
+def _setup_rows(result):
+    """Every setup as a user reads it: its units, verdict, margin, deciding finding and
+    findings, in the result's order."""
+    return [(s.instrument, s.mode, s.accessories, s.verdict, s.margin,
+             _finding_row(s.deciding), [_finding_row(f) for f in s.findings])
+            for s in result.setups]
+
+
+def _offer_rows(result):
+    """Every accessory unit with its best setup, verdict, margin, reason and findings."""
+    return [(a.unit, a.model, a.verdict, a.instrument, a.mode, a.accessories, a.margin,
+             _finding_row(a.reason), [_finding_row(f) for f in a.findings])
+            for a in result.accessories]
+
+
+def _finding_row(f):
+    return None if f is None else (f.check, f.status, f.subject, f.message, f.margin)
+
+
+def _reason(a):
+    r = a.reason
+    return None if r is None else (r.check, r.status, r.margin)
+
+
+@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(accessory_fleets(), plans())
+def test_pruned_accessories_give_the_exhaustive_verdicts(fleet, plan):
+    pruned, full = evaluate(plan, fleet), evaluate_exhaustive(plan, fleet)
+    assert _verdicts(pruned) == _verdicts(full)
+    # every unit and mode: the same margin and deciding check; every accessory unit: the same
+    # best verdict, margin and reason
+    assert ({(s.instrument, s.mode): (s.margin, s.deciding and s.deciding.check)
+             for s in pruned.setups}
+            == {(s.instrument, s.mode): (s.margin, s.deciding and s.deciding.check)
+                for s in full.setups})
+    assert ({a.unit: (a.verdict, a.margin, _reason(a)) for a in pruned.accessories}
+            == {a.unit: (a.verdict, a.margin, _reason(a)) for a in full.accessories})
+    # data missing on an accessory never reads suitable: a setup or offer with an unknown
+    # finding is at best unverified (docs/rules.md, "Verdicts")
+    for row in pruned.setups + pruned.accessories:
+        if any(f.status == "unknown" for f in row.findings):
+            assert row.verdict in ("unverified", "unsuitable")
+
+
+@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(accessory_fleets(), plans())
+def test_setting_accessories_aside_changes_nothing_in_the_result(fleet, plan):
+    """The models set aside before combining change no setup, offer, finding or tie: the
+    result is the one the same evaluation gives with every accessory model combined."""
+    pruned, whole = evaluate(plan, fleet), evaluate(plan, fleet, prune=False)
+    assert _setup_rows(pruned) == _setup_rows(whole)
+    assert _offer_rows(pruned) == _offer_rows(whole)
+    assert pruned.summary == whole.summary
+    assert pruned.combinations <= whole.combinations
