@@ -3,6 +3,9 @@ PYTHON ?= python3
 VENV := .venv
 BIN := $(VENV)/bin
 PORT ?= 5000
+# `make test` spreads the tests over one worker process per core (pytest-xdist); TEST_WORKERS=0
+# runs them in this one process, in order.
+TEST_WORKERS ?= auto
 
 .PHONY: run test bench install clean
 
@@ -29,7 +32,7 @@ run: install
 	$(BIN)/withstand serve --host 127.0.0.1 --port $(PORT)
 
 test: $(VENV)/.installed-test
-	$(BIN)/python -m pytest
+	$(BIN)/python -m pytest -n $(TEST_WORKERS)
 
 bench: $(VENV)/.installed-test
 	$(BIN)/python -m bench
