@@ -148,14 +148,18 @@ def _renamed(f: Finding, names: dict[str, str]) -> Finding:
 class _Combo:
     """One combination of models (each standing for every model of the same content), judged
     once: checks 1 to 9 and the task's rules at once, check 10 only when they leave it
-    standing or when a user reads it (:meth:`complete`)."""
+    standing or when a user reads it (:meth:`complete`). ``core`` and ``front_of``, when
+    given, are those findings already known (from a combination of the same instrument, mode
+    and accessory groups, :func:`_like`) and check 10's, made once for all such."""
 
     __slots__ = ("ctx", "slots", "core", "front", "extra", "done", "worst", "counts",
-                 "deciding", "dec_key", "_parts", "index")
+                 "deciding", "dec_key", "_parts", "index", "_front_of")
 
-    def __init__(self, ctx: SetupContext, slots: tuple[int, ...], extra_checks, index: int):
+    def __init__(self, ctx: SetupContext, slots: tuple[int, ...], extra_checks, index: int,
+                 core: tuple[Finding, ...] | None = None, front_of=None):
         self.ctx, self.slots, self.index = ctx, slots, index
-        self.core = tuple(check_setup(ctx)) + tuple(
+        self._front_of = front_of
+        self.core = core if core is not None else tuple(check_setup(ctx)) + tuple(
             f for check in tuple(CHECKS) + TASK_CHECKS for f in check(ctx))
         self.extra = tuple(f for check in extra_checks for f in check(ctx))
         self.front: tuple[Finding, ...] = ()
@@ -183,7 +187,8 @@ class _Combo:
         if self.done:
             return False
         self.done = True
-        self.front = tuple(f for check in FRONT_END_CHECKS for f in check(self.ctx))
+        self.front = self._front_of() if self._front_of is not None else tuple(
+            f for check in FRONT_END_CHECKS for f in check(self.ctx))
         self._sum()
         return True
 
@@ -191,6 +196,22 @@ class _Combo:
         if slot not in self._parts:
             self._parts[slot] = _part(self.findings, key, None)
         return self._parts[slot]
+
+
+def _like(base: tuple[Finding, ...], ctx: SetupContext, own) -> tuple[Finding, ...]:
+    """The findings of checks 1 to 9 for ``ctx`` from ``base``, those of a combination of the
+    same instrument, mode and accessory groups: each accessory's own findings
+    (:data:`~registry.engine.checks.SOLO_CHECKS`, its key the subject) replaced by ``own(i)``,
+    accessory ``i``'s in this setup, and every other finding the same."""
+    keys = [a.key for a in ctx.accessories]
+    feeds = [iter(own(i)) for i in range(len(keys))]
+    out = []
+    for f in base:
+        if f.check in SOLO_CHECKS and f.subject in keys:
+            f = next(feeds[keys.index(f.subject)])
+        out.append(f)
+    assert all(next(feed, None) is None for feed in feeds)  # as many as the base's
+    return tuple(out)
 
 
 def _stats(combo: _Combo, extra: list[Finding]):
@@ -264,10 +285,12 @@ def _chosen_ahead(a: _Alone, b: _Alone) -> bool | None:
 
 def _prune(plan: Plan, derived, reps: list[ModelSpec], pools: dict[int, list[UnitState]],
            chosen, unit_history, sites) -> tuple[dict[int, int],
-                                                 dict[tuple[int, bool, bool], tuple]]:
+                                                 dict[tuple[int, bool, bool], tuple],
+                                                 dict[int, int]]:
     """The accessory models that no instrument unit's choice and no accessory unit's offer can
     need, each with the kept model that stands for it, and every accessory model's own findings
-    (by model, whether it touches the circuit, whether the instrument is a discharge tool).
+    (by model, whether it touches the circuit, whether the instrument is a discharge tool),
+    and each accessory model's group.
 
     Accessory models are grouped by everything the checks read of them but their own findings
     (:data:`~registry.engine.checks.SOLO_CHECKS`: ratings, altitude, tip): models of one group
@@ -337,7 +360,8 @@ def _prune(plan: Plan, derived, reps: list[ModelSpec], pools: dict[int, list[Uni
                 stand_for[rid] = first_kept
             elif rid in clean:
                 ahead.append(rid)
-    return stand_for, solo
+    group_of = {rid: g for g, members in enumerate(groups.values()) for rid in members}
+    return stand_for, solo, group_of
 
 
 def split_units(fleet: Fleet, on: date) -> tuple[list[Excluded], dict[str, list[UnitState]]]:
@@ -446,18 +470,47 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
     # -- accessory models judged alone, the ones no setup or offer can need set aside ----------
     stand_for: dict[int, int] = {}
     solo: dict[tuple[int, bool, bool], tuple[Finding, ...]] = {}
+    group_of: dict[int, int] = {}
     if share and prune:
         sites = {u.site for key, units in available.items() if fleet.models[key].is_instrument
                  for u in units}
-        stand_for, solo = _prune(plan, derived, reps, pools, chosen, unit_history, sites)
+        stand_for, solo, group_of = _prune(plan, derived, reps, pools, chosen, unit_history,
+                                           sites)
+
+    def own_of_slot(ctx: SetupContext):
+        touching = _touching_item(ctx)
+        return lambda i: solo[(rep_id[id(ctx.accessories[i])], touching is ctx.accessories[i],
+                               ctx.is_discharge_tool)]
 
     options: dict[tuple[int, str], list[_Combo]] = {}
     n = 0
     kept = [r for i, r in enumerate(reps) if i not in stand_for]
+    # one combination judged per instrument, mode and accessory groups; the others of those
+    # groups take its findings with their accessories' own in place (models of one group bring
+    # the same findings but their own, _prune), and share its check 10
+    bases: dict[tuple, tuple[tuple[Finding, ...], Callable]] = {}
+    fronts: dict[tuple, tuple[Finding, ...]] = {}
     for ctx in enumerate_setups(plan, derived, kept):
-        combo = _Combo(ctx, tuple(rep_id[id(a)] for a in ctx.accessories), extra_checks, n)
+        slots = tuple(rep_id[id(a)] for a in ctx.accessories)
+        icid = rep_id[id(ctx.instrument)]
+        if group_of:
+            like = (icid, ctx.mode.key, ctx.lead is None, ctx.tip is None) + tuple(
+                group_of[s] for s in slots)
+            if like in bases:
+                core, front_of = bases[like]
+                combo = _Combo(ctx, slots, extra_checks, n,
+                               core=_like(core, ctx, own_of_slot(ctx)), front_of=front_of)
+            else:
+                def front_of(like=like, ctx=ctx) -> tuple[Finding, ...]:
+                    if like not in fronts:
+                        fronts[like] = tuple(f for check in FRONT_END_CHECKS for f in check(ctx))
+                    return fronts[like]
+                combo = _Combo(ctx, slots, extra_checks, n, front_of=front_of)
+                bases[like] = (combo.core, front_of)
+        else:
+            combo = _Combo(ctx, slots, extra_checks, n)
         n += 1
-        options.setdefault((rep_id[id(ctx.instrument)], ctx.mode.key), []).append(combo)
+        options.setdefault((icid, ctx.mode.key), []).append(combo)
 
     # -- the real keys back into the findings that someone reads -------------------------------
     texts: dict[tuple, SharedFindings] = {}

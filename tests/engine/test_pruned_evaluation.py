@@ -242,21 +242,17 @@ def accessory_fleets(draw):
 
 def _setup_rows(result):
     """Every setup as a user reads it: its units, verdict, margin, deciding finding and
-    findings, in the result's order."""
+    findings (every field of each: a Finding compares by value), in the result's order."""
     return [(s.instrument, s.mode, s.accessories, s.verdict, s.margin,
-             _finding_row(s.deciding), [_finding_row(f) for f in s.findings])
+             s.deciding, list(s.findings))
             for s in result.setups]
 
 
 def _offer_rows(result):
     """Every accessory unit with its best setup, verdict, margin, reason and findings."""
     return [(a.unit, a.model, a.verdict, a.instrument, a.mode, a.accessories, a.margin,
-             _finding_row(a.reason), [_finding_row(f) for f in a.findings])
+             a.reason, list(a.findings))
             for a in result.accessories]
-
-
-def _finding_row(f):
-    return None if f is None else (f.check, f.status, f.subject, f.message, f.margin)
 
 
 def _reason(a):
