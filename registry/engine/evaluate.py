@@ -9,6 +9,7 @@ accessory unit that could join a setup is listed with the best verdict it takes 
 
 from __future__ import annotations
 
+import heapq
 import math
 from collections.abc import Callable, Sequence
 import dataclasses
@@ -581,11 +582,18 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
     new = object.__new__
     for g, members in groups.items():
         icid, mode_key, site, _ = g
-        while True:
-            best = min((weigh(c, site, own_of[g]) + (c,) for c in options[(icid, mode_key)]),
-                       key=lambda w: w[0])
-            if not best[-1].complete():
+        # the options by their key, smallest first; check 10 only adds findings to an option
+        # that fails, so it never moves one ahead: the first whose check 10 has run is the
+        # best (keys differ: they end with the units' tags)
+        opts = options[(icid, mode_key)]
+        heap = [(weigh(c, site, own_of[g])[0], j) for j, c in enumerate(opts)]
+        heapq.heapify(heap)
+        while heap:
+            _k, j = heap[0]
+            if not opts[j].complete():
                 break  # its findings are whole: check 10 had run
+            heapq.heapreplace(heap, (weigh(opts[j], site, own_of[g])[0], j))
+        best = weigh(opts[heap[0][1]], site, own_of[g]) + (opts[heap[0][1]],)
         _key, accs, extra, worst, margin = best[:5]
         combo = best[-1]
         verdict = _VERDICTS[worst]
