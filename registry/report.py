@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from .engine.quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, RESISTANCE, TIME, VOLTAGE,
                               format_quantity as qtext)
-from .engine.result import Result, SetupResult, format_ratio, margin_ratio
+from .engine.result import Result, SetupResult, format_ratio, margin_ratio, result_parts
 
 DEFAULT_LIMIT = 20  # setups shown without --all
 ACCESSORY_FOLD = 40  # above this many accessory units, like rows fold into one without --all
@@ -122,20 +122,24 @@ def accessory_lines(result: Result, *, fold: bool = False) -> list[str]:
 
 
 def _folded_accessory_lines(result: Result) -> list[str]:
+    # the accessory units in order, read as runs of units whose rows are alike but for the
+    # unit (result_parts: each unit alone unless the result keeps them as runs), so a fleet
+    # of thousands of copied leads is folded without a row made per unit
     groups: dict[tuple, list] = {}
-    for a in result.accessories:
+    for a, n in result_parts(result.accessories):
         why = "" if a.reason is None else f"{a.reason.check}: {a.reason.message} " \
                                          f"Source: {a.reason.source}."
-        groups.setdefault((a.model, a.kind, a.verdict, why), []).append(a)
+        groups.setdefault((a.model, a.kind, a.verdict, why), []).append((a, n))
     rows = []
-    for (_, kind, verdict, why), units in groups.items():
-        a = units[0]
+    for (_, kind, verdict, why), parts in groups.items():
+        a = parts[0][0]
+        count = sum(n for _, n in parts)
         setup = f"{a.instrument} {a.mode}" + (
             " with " + ", ".join(t for t in a.accessories if t != a.unit)
             if len(a.accessories) > 1 else "")
-        margins = {u.margin for u in units}
+        margins = {u.margin for u, _ in parts}
         margin = _margin(a.margin) if len(margins) == 1 else "varies"
-        name = a.unit if len(units) == 1 else f"{a.unit} and {len(units) - 1} more {a.model}"
+        name = a.unit if count == 1 else f"{a.unit} and {count - 1} more {a.model}"
         rows.append([name, kind, verdict, margin, setup, why or "fits"])
     return _table(rows, ["unit", "kind", "best verdict", "margin", "in setup (first unit)",
                          "reason when none fits"])

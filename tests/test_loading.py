@@ -7,6 +7,7 @@ on SQLite and on PostgreSQL. The reference is the ORM path the project used befo
 states are the ones ``spec.UnitState`` builds and checks field by field."""
 
 import sqlite3
+from dataclasses import replace
 from datetime import datetime
 
 import pytest
@@ -14,7 +15,10 @@ from sqlalchemy import select
 
 from registry.demo import demo_fleet_path
 from registry.engine import spec
+from registry.engine.evaluate import evaluate
+from registry.engine.result import VERDICT_ORDER, sort_key
 from registry.formats.common import read_document
+from registry.report import render_text
 from registry.services.events import log_event
 from registry.store import models as m
 from registry.store.fleet import import_fleet
@@ -141,3 +145,52 @@ def test_a_status_the_engine_does_not_know_is_refused(database, tmp_path):
     con.close()
     with database.transaction() as session, pytest.raises(spec.SpecError, match="unit.status"):
         engine_fleet(session)
+
+
+def _plans():
+    from importlib import resources
+
+    from registry.plans import load_plan
+    folder = resources.files("registry.seeddata") / "plans"
+    return [load_plan(str(p)) for p in sorted(folder.iterdir(), key=lambda p: p.name)
+            if p.name.endswith(".yaml")]
+
+
+def test_a_check_of_the_loaded_rows_is_the_check_of_the_same_units(database):
+    # The check reads a loaded fleet as rows (UnitRows, cohorts of one state) and a fleet of
+    # unit states as given; both must give the same result, every setup and finding, in the
+    # same order; the order is sort_key's (common practice (no source): the slower path,
+    # a plain sort of every setup made, is the reference).
+    _load_odd(database)
+    with database.transaction() as session:
+        fleet = engine_fleet(session)
+    assert isinstance(fleet.units, spec.UnitRows)
+    as_tuple = spec.Fleet(models=fleet.models, units=tuple(fleet.units))
+    for plan in _plans():
+        plan = replace(plan, on=plan.on or datetime(2026, 12, 2).date())
+        rows, units = evaluate(plan, fleet), evaluate(plan, as_tuple)
+        assert rows.as_json(findings=True) == units.as_json(findings=True), plan.title
+        assert render_text(rows) == render_text(units)
+        assert render_text(rows, show_all=True) == render_text(units, show_all=True)
+        made = list(rows.setups)
+        assert made == sorted(made, key=lambda s: sort_key(s, plan.site, plan.task))
+        assert rows.setups[:3] == tuple(made[:3]) and len(rows.setups) == len(made)
+        offers = list(rows.accessories)
+        assert offers == sorted(offers, key=lambda a: (VERDICT_ORDER.index(a.verdict), a.kind,
+                                                       a.unit))
+        # the units left out keep the fleet's order, with their reasons
+        tags = [u.tag for u in fleet.units]
+        assert [e.unit for e in rows.excluded] == sorted((e.unit for e in rows.excluded),
+                                                         key=tags.index)
+        assert {e.unit: e.reason for e in rows.excluded}["ZZ-0004"] == "away"
+
+
+def test_unit_rows_read_as_the_tuple_of_their_units(database):
+    _load_odd(database)
+    with database.transaction() as session:
+        rows = engine_fleet(session).units
+    units = tuple(rows)
+    assert rows == units and len(rows) == len(units)
+    assert rows[0] == units[0] and rows[-1] == units[-1] and rows[2:5] == units[2:5]
+    with pytest.raises(IndexError):
+        rows[len(units)]

@@ -22,12 +22,12 @@ from .dead_work import check_proving_dead
 from .findings import Finding
 from .history import check_history, exclusion_reason, plan_cautions
 from .protection import protection_path_check
-from .result import (SEVERITY, VERDICT_ORDER, AccessoryResult, Excluded, Findings, Result,
-                     SetupResult, SharedFindings, _key_of, deciding_finding, rank_of_setup,
-                     rank_of_unit, sort_key)
+from .result import (SEVERITY, VERDICT_ORDER, AccessoryResult, Excluded, Findings,
+                     RankedRuns, Result, SetupResult, SharedFindings, _key_of, deciding_finding,
+                     rank_of_setup, rank_of_unit, sort_key)
 from .setups import SetupContext, check_setup, enumerate_setups
 from .spec import (DEFAULT_MAX_ALTITUDE, DEFAULT_POLLUTION_DEGREE, LEAD_KINDS, Fleet, ModelSpec,
-                   Plan, SpecError, UnitState)
+                   Plan, SpecError, UnitRows, UnitState)
 
 ExtraCheck = Callable[[SetupContext], list[Finding]]
 # Rules of the task beside checks 2 to 9 (engine/dead_work.py).
@@ -284,7 +284,7 @@ def _chosen_ahead(a: _Alone, b: _Alone) -> bool | None:
     return None if a.counts == b.counts and _not_below(a, b) else False
 
 
-def _prune(plan: Plan, derived, reps: list[ModelSpec], pools: dict[int, list[UnitState]],
+def _prune(plan: Plan, derived, reps: list[ModelSpec], pools: dict[int, list[_Cohort]],
            chosen, unit_history, sites) -> tuple[dict[int, int],
                                                  dict[tuple[int, bool, bool], tuple],
                                                  dict[int, int]]:
@@ -350,7 +350,10 @@ def _prune(plan: Plan, derived, reps: list[ModelSpec], pools: dict[int, list[Uni
             alone[rid] = per
         if len(members) < 2 or not variants:
             continue
-        clean = {rid for rid in members if any(not unit_history(u, None) for u in pools[rid])}
+        # a model with a unit whose history check 11 finds nothing in (a cohort of them, or
+        # a unit of its own whose findings are none)
+        clean = {rid for rid in members
+                 if any(not c.own or not unit_history(c.state, None) for c in pools[rid])}
 
         first_kept = members[0]  # nothing before it: never set aside
         ahead: list[int] = []  # the models before, not set aside by (b), with a clean unit
@@ -391,6 +394,88 @@ def split_units(fleet: Fleet, on: date) -> tuple[list[Excluded], dict[str, list[
     return excluded, available
 
 
+class _Cohort:
+    """Units that a check cannot tell apart but by their tags: one state (model, status,
+    site, verification due, open hold), no history and a verification due on record, so
+    check 11 finds nothing of their own. A unit with history or without a due date is a
+    cohort of its own (``own``), its findings its own. ``state`` is a unit of the cohort
+    (the first), ``tags`` and ``at`` the units' tags and places in the fleet, in its order."""
+
+    __slots__ = ("state", "tags", "at", "own")
+
+    def __init__(self, state: UnitState, own: bool):
+        self.state, self.own = state, own
+        self.tags: list[str] = []
+        self.at: list[int] = []
+
+    def unit(self, tag: str) -> UnitState:
+        """The cohort's unit ``tag`` as a unit state."""
+        return self.state if tag == self.state.tag else _with_tag(self.state, tag)
+
+
+def _with_tag(state: UnitState, tag: str) -> UnitState:
+    """``state`` (checked when it was made) under another unit's tag, no history."""
+    out = object.__new__(UnitState)
+    out.__dict__.update(state.__dict__, tag=tag, history=())
+    return out
+
+
+def _cohorts(units: Sequence[UnitState]) -> list[_Cohort]:
+    """The fleet's units as cohorts, in the order of their first units. Rows loaded from the
+    database (:class:`UnitRows`) are read as rows: no unit state is made for a unit of a
+    shared cohort."""
+    out: list[_Cohort] = []
+    if isinstance(units, UnitRows):
+        states, tags, histories = units.states, units.tags, units.histories
+        plain = [st.verification_due is not None for st in states]
+        by_state: dict[int, _Cohort] = {}
+        for i, at in enumerate(units.state_of):
+            if plain[at] and i not in histories:
+                c = by_state.get(at)
+                if c is None:
+                    c = by_state[at] = _Cohort(_with_tag(states[at], tags[i]), False)
+                    out.append(c)
+            else:
+                c = _Cohort(units[i], True)
+                out.append(c)
+            c.tags.append(tags[i])
+            c.at.append(i)
+        return out
+    by_key: dict[tuple, _Cohort] = {}
+    for i, u in enumerate(units):
+        if u.history or u.verification_due is None:
+            c = _Cohort(u, True)
+            out.append(c)
+        else:
+            k = (u.model, u.status, u.site, u.verification_due, u.open_hold)
+            c = by_key.get(k)
+            if c is None:
+                c = by_key[k] = _Cohort(u, False)
+                out.append(c)
+        c.tags.append(u.tag)
+        c.at.append(i)
+    return out
+
+
+def _split_cohorts(fleet: Fleet, on: date) -> tuple[list[Excluded], dict[str, list[_Cohort]]]:
+    """As :func:`split_units`, by cohort: the units left out and why (in the fleet's order),
+    and the rest's cohorts by model key."""
+    left_out: list[tuple[int, str, str, str]] = []
+    available: dict[str, list[_Cohort]] = {}
+    for c in _cohorts(fleet.units):
+        u = c.state
+        if u.model not in fleet.models:
+            raise SpecError(f"unit {c.tags[0]}: model {u.model!r} is not in the fleet")
+        reason = exclusion_reason(u, on)  # reads what the cohort's units share
+        if reason is not None:
+            left_out += ((i, tag, reason, u.model) for i, tag in zip(c.at, c.tags, strict=True))
+        else:
+            available.setdefault(u.model, []).append(c)
+    left_out.sort()
+    return [_made(Excluded, {}, unit=tag, reason=reason, model=model)
+            for _, tag, reason, model in left_out], available
+
+
 def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (),
              prune: bool = True) -> Result:
     """The whole check of ``plan`` against ``fleet`` (checks 1 to 12): one setup per available
@@ -409,7 +494,7 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
     """
     on = plan.on or date.today()
     derived = derive(plan)
-    excluded, available = split_units(fleet, on)
+    excluded, available = _split_cohorts(fleet, on)
 
     # -- the models by content -----------------------------------------------------------------
     share = not extra_checks
@@ -438,26 +523,28 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
             history[u.tag] = check_history(u, None)
         return history[u.tag]
 
-    pools: dict[int, list[UnitState]] = {}
-    for key, units in available.items():
+    pools: dict[int, list[_Cohort]] = {}
+    for key, cohorts in available.items():
         if not fleet.models[key].is_instrument:
-            pools.setdefault(class_of[key], []).extend(units)
+            pools.setdefault(class_of[key], []).extend(cohorts)
     chosen_for: dict[tuple[int, str | None], UnitState] = {}
-    best_at: dict[int, dict[str | None, UnitState]] = {}
+    best_at: dict[int, list[UnitState]] = {}
 
-    def at_sites(cid: int) -> dict[str | None, UnitState]:
+    def at_sites(cid: int) -> list[UnitState]:
         """Per site, the pool's unit to hand out from there: within one site the ranking
         below is by worries, due and tag alone, so the choice for an instrument at any site
         is among these."""
         if cid not in best_at:
             best: dict[str | None, tuple] = {}
-            for u in pools[cid]:
-                k = (len(unit_history(u, None)),
-                     -(u.verification_due.toordinal() if u.verification_due else 0), u.tag)
+            for c in pools[cid]:
+                u = c.state
+                tag = u.tag if c.own else min(c.tags)
+                k = (len(unit_history(u, None)) if c.own else 0,
+                     -(u.verification_due.toordinal() if u.verification_due else 0), tag)
                 held = best.get(u.site)
                 if held is None or k < held[0]:
-                    best[u.site] = (k, u)
-            best_at[cid] = {site: kv[1] for site, kv in best.items()}
+                    best[u.site] = (k, c, tag)
+            best_at[cid] = [c.unit(tag) for _k, c, tag in best.values()]
         return best_at[cid]
 
     def chosen(cid: int, near: str | None) -> UnitState:
@@ -465,7 +552,7 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
         ``near`` (:func:`_unit_rank`)."""
         k = (cid, near)
         if k not in chosen_for:
-            chosen_for[k] = min(at_sites(cid).values(), key=lambda u: _unit_rank(u, plan, near))
+            chosen_for[k] = min(at_sites(cid), key=lambda u: _unit_rank(u, plan, near))
         return chosen_for[k]
 
     # -- accessory models judged alone, the ones no setup or offer can need set aside ----------
@@ -473,8 +560,8 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
     solo: dict[tuple[int, bool, bool], tuple[Finding, ...]] = {}
     group_of: dict[int, int] = {}
     if share and prune:
-        sites = {u.site for key, units in available.items() if fleet.models[key].is_instrument
-                 for u in units}
+        sites = {c.state.site for key, cohorts in available.items()
+                 if fleet.models[key].is_instrument for c in cohorts}
         stand_for, solo, group_of = _prune(plan, derived, reps, pools, chosen, unit_history,
                                            sites)
 
@@ -531,32 +618,30 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
         return texts[k]
 
     # -- instrument units, grouped by what decides their choice --------------------------------
-    groups: dict[tuple, list[UnitState]] = {}
+    groups: dict[tuple, list[_Cohort]] = {}
     own_of: dict[tuple, list[Finding]] = {}
     modes_of: dict[int, list[str]] = {}
     for icid, mode_key in options:
         modes_of.setdefault(icid, []).append(mode_key)
-    for key, units in available.items():
+    for key, cohorts in available.items():
         cid = class_of[key]
         mode_keys = modes_of.get(cid) if fleet.models[key].is_instrument else None
         if not mode_keys:
             continue
-        plain: dict[str | None, list[UnitState]] = {}
-        for unit in units:
-            if not unit.history and unit.verification_due is not None:
+        plain: dict[str | None, list[_Cohort]] = {}
+        for c in cohorts:
+            if not c.own:
                 # nothing in check_history can apply: the group of its model, mode and site
-                at = plain.get(unit.site)
-                if at is None:
-                    at = plain[unit.site] = []
-                at.append(unit)
+                plain.setdefault(c.state.site, []).append(c)
                 continue
+            unit = c.state
             for mode_key in mode_keys:
                 own = check_history(unit, mode_key)
                 g = (cid, mode_key, unit.site, unit.tag if own else None)
                 if g not in groups:
                     groups[g] = []
                     own_of[g] = own
-                groups[g].append(unit)
+                groups[g].append(c)
         for site, at in plain.items():
             for mode_key in mode_keys:
                 g = (cid, mode_key, site, None)
@@ -577,9 +662,7 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
                sum(1 for u in accs if u.site != site), tuple(u.tag for u in accs))
         return key, accs, extra, worst, margin
 
-    setups: list[SetupResult] = []
-    ranks: list[tuple] = []
-    new = object.__new__
+    setups = RankedRuns(_setup_of)
     for g, members in groups.items():
         icid, mode_key, site, _ = g
         # the options by their key, smallest first; check 10 only adds findings to an option
@@ -610,26 +693,25 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
         # what the units of one model share (their findings too): each unit adds its tag
         # and verification due to it
         of_model: dict[str, dict] = {}
-        for unit in members:
-            fields = of_model.get(unit.model)
+        for c in members:
+            mkey = c.state.model
+            fields = of_model.get(mkey)
             if fields is None:
-                fields = of_model[unit.model] = dict(
-                    common, instrument_model=unit.model,
-                    found=Findings(shared_text(combo, unit.model, acc_models), extra_t))
-            s = new(SetupResult)
-            d = s.__dict__
-            d.update(fields)
-            d["instrument"] = unit.tag
-            d["verification_due"] = due = unit.verification_due
-            setups.append(s)
-            ranks.append(rank + rank_of_unit(due, unit.tag, mode_key, acc_tags))
-    setups = [setups[i] for i in sorted(range(len(setups)), key=ranks.__getitem__)]
+                fields = of_model[mkey] = dict(
+                    common, instrument_model=mkey,
+                    found=Findings(shared_text(combo, mkey, acc_models), extra_t))
+            due = c.state.verification_due
+            # sort_key = rank_of_setup + rank_of_unit (-due, tag, mode, accessories)
+            by_unit = rank_of_unit(due, "", mode_key, acc_tags)
+            setups.add(rank + by_unit[:1], by_unit[2:], c.tags,
+                       dict(fields, verification_due=due))
 
     # -- accessory units: the best setup each takes part in ------------------------------------
-    acc_groups: dict[tuple[int, str | None], list[UnitState]] = {}
-    for cid, units in pools.items():
-        for u in units:
-            acc_groups.setdefault((cid, u.tag if unit_history(u, None) else None), []).append(u)
+    acc_groups: dict[tuple[int, str | None], list[_Cohort]] = {}
+    for cid, cohorts in pools.items():
+        for c in cohorts:
+            alone = c.own and unit_history(c.state, None)
+            acc_groups.setdefault((cid, c.state.tag if alone else None), []).append(c)
     reasons: dict[tuple, Finding] = {}
 
     def reason_text(reason: Finding, inst_model: str, acc_models: tuple[str, ...]) -> Finding:
@@ -639,7 +721,10 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
         return reasons[k]
 
     # the unit that stands for its group in an accessory's best setup: the first by tag
-    leaders = {g: min(units, key=lambda u: u.tag) for g, units in groups.items()}
+    leaders = {}
+    for g, cohorts in groups.items():
+        tag, c = min((min(c.tags), c) for c in cohorts)
+        leaders[g] = c.unit(tag)
     rests: dict[tuple[int, int, bool], tuple] = {}
 
     def rest_of(combo: _Combo, i: int) -> tuple:
@@ -700,10 +785,9 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
         for combo in combos:
             for i, slot in enumerate(combo.slots):
                 containing.setdefault((icid, mode_key, slot), []).append((combo, i))
-    offers: list[AccessoryResult] = []
-    offer_ranks: list[tuple] = []
+    offers = RankedRuns(_offer_of)
     for (cid, _tag), members in acc_groups.items():
-        sample = members[0]
+        sample = members[0].unit(members[0].tags[0])
         stand = stand_for.get(cid, cid)
         while True:
             found_best = None
@@ -736,10 +820,11 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
         models_after = tuple(x.model for x in after)
         order = VERDICT_ORDER.index(verdict)
         offer_fields: dict[str, dict] = {}
-        for u in members:
-            fields = offer_fields.get(u.model)
+        for c in members:
+            mkey = c.state.model
+            fields = offer_fields.get(mkey)
             if fields is None:
-                acc_models = models_before + (u.model,) + models_after
+                acc_models = models_before + (mkey,) + models_after
                 names_reason = None
                 if reason is not None:
                     names_reason = reason if not share else reason_text(
@@ -755,21 +840,35 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
                                                                for f in found),
                         lambda dec=dec, names=names: None if dec is None else _renamed(
                             dec, names), key=None if dec is None else _key_of(dec))
-                fields = offer_fields[u.model] = dict(
-                    model=u.model, kind=kind, verdict=verdict, instrument=first.tag,
+                fields = offer_fields[mkey] = dict(
+                    model=mkey, kind=kind, verdict=verdict, instrument=first.tag,
                     mode=combo.ctx.mode.key, margin=margin, reason=names_reason,
                     found=Findings(text, extra_t))
-            a = new(AccessoryResult)
-            d = a.__dict__
-            d.update(fields)
-            d["unit"] = u.tag
-            d["accessories"] = tags_before + (u.tag,) + tags_after
-            offers.append(a)
-            offer_ranks.append((order, kind, u.tag))
-    offers = [offers[i] for i in sorted(range(len(offers)), key=offer_ranks.__getitem__)]
-    return Result(plan=plan, derived=derived, setups=tuple(setups), excluded=tuple(excluded),
+            offers.add((order, kind), (), c.tags, (fields, tags_before, tags_after))
+    return Result(plan=plan, derived=derived, setups=setups, excluded=tuple(excluded),
                   cautions=tuple(plan_cautions(plan, derived)), on=on,
-                  accessories=tuple(offers), combinations=n)
+                  accessories=offers, combinations=n)
+
+
+def _setup_of(fields, tag: str) -> SetupResult:
+    """The setup of the instrument unit ``tag`` from the fields its run shares, made without
+    the frozen dataclass's per-field setattr (SetupResult checks nothing in its __init__)."""
+    out = object.__new__(SetupResult)
+    d = out.__dict__
+    d.update(fields)
+    d["instrument"] = tag
+    return out
+
+
+def _offer_of(shared, tag: str) -> AccessoryResult:
+    """The accessory unit ``tag``'s best setup from what its run shares (as _setup_of)."""
+    fields, before, after = shared
+    out = object.__new__(AccessoryResult)
+    d = out.__dict__
+    d.update(fields)
+    d["unit"] = tag
+    d["accessories"] = before + (tag,) + after
+    return out
 
 
 def _made(cls, common: dict, **own):

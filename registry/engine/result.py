@@ -4,8 +4,10 @@ accessory units and the best each takes part in, units left out, cautions."""
 from __future__ import annotations
 
 import math
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from datetime import date
+from itertools import islice
 
 from .dead_work import tester_rank
 from .derived import Derived
@@ -126,6 +128,117 @@ class Findings:
                 return own
             key = _key_of(d)
         return self.shared.deciding() if key <= _key_of(own) else own
+
+
+class RankedRuns(Sequence):
+    """Results kept as runs and made when read, in their ranked order.
+
+    A check of many units gives thousands of results that differ only by a unit's tag: each
+    run holds what its units share (``fields``, the result's other fields, and ``rank``,
+    their place in the order before the tag) and the units' tags; ``make(fields, tag)``
+    makes one result. The order is that of ``rank + (tag,) + tail`` for every unit of every
+    run, as a sort of the made results on that key gives it; the first few (the head of a
+    report, ``any``, ``[0]``) are made without the others, and the whole sequence is made
+    once when something reads all of it (kept; each iteration before that makes its own).
+    Equal to the tuple of the same results.
+    """
+
+    __slots__ = ("_runs", "_make", "_len", "_all", "_ranks")
+
+    def __init__(self, make: Callable[[object, str], object]):
+        self._runs: list[tuple[tuple, tuple, list[str], object]] = []
+        self._make = make
+        self._len = 0
+        self._all: tuple | None = None
+        self._ranks: list | None = None
+
+    def add(self, rank: tuple, tail: tuple, tags: list[str], fields: object) -> None:
+        """A run: units ``tags`` sharing ``fields``, ranked at ``rank``, ``tail`` after the
+        tag (each unit's key is ``rank + (tag,) + tail``)."""
+        if tags:
+            self._runs.append((rank, tail, tags, fields))
+            self._len += len(tags)
+
+    def _buckets(self) -> list:
+        # the runs by rank, in rank order: a list of (rank, [run index]), made once
+        if self._ranks is None:
+            by: dict[tuple, list[int]] = {}
+            for k, run in enumerate(self._runs):
+                by.setdefault(run[0], []).append(k)
+            self._ranks = sorted(by.items())
+        return self._ranks
+
+    def _walk(self):
+        runs, make = self._runs, self._make
+        for _rank, ks in self._buckets():
+            if len(ks) == 1:
+                run = runs[ks[0]]
+                for tag in sorted(run[2]):
+                    yield make(run[3], tag)
+            else:
+                merged = sorted((tag, runs[k][1], k) for k in ks for tag in runs[k][2])
+                for tag, _tail, at in merged:
+                    yield make(runs[at][3], tag)
+
+    def _whole(self) -> tuple:
+        if self._all is None:
+            self._all = tuple(self._walk())
+        return self._all
+
+    def __len__(self) -> int:
+        return self._len
+
+    def __iter__(self):
+        if self._all is not None:
+            return iter(self._all)
+        return self._iter_making()
+
+    def _iter_making(self):
+        made = []
+        for x in self._walk():
+            made.append(x)
+            yield x
+        if self._all is None:
+            self._all = tuple(made)
+
+    def __getitem__(self, i):
+        if self._all is None:
+            if isinstance(i, slice):
+                start, stop, step = i.start, i.stop, i.step
+                if (start in (None, 0) and step in (None, 1) and stop is not None
+                        and 0 <= stop <= _HEAD):
+                    return tuple(islice(self._walk(), stop))
+            elif 0 <= i < min(_HEAD, self._len):
+                return next(islice(self._walk(), i, None))
+        return self._whole()[i]
+
+    def __eq__(self, other):
+        if isinstance(other, (RankedRuns, tuple, list)):
+            return self._whole() == tuple(other)
+        return NotImplemented
+
+    __hash__ = None  # type: ignore[assignment]
+
+    def __repr__(self) -> str:
+        return f"RankedRuns({self._len} results in {len(self._runs)} runs)"
+
+    def parts(self) -> list[tuple[object, int]]:
+        """(the first result of a run, how many units it holds) per run, in the order of
+        their first results: what a report that folds like results reads."""
+        runs, make = self._runs, self._make
+        firsts = sorted((run[0], min(run[2]), run[1], k) for k, run in enumerate(runs))
+        return [(make(runs[k][3], tag), len(runs[k][2])) for _r, tag, _t, k in firsts]
+
+
+_HEAD = 64  # an index or a slice from the start up to this is made without the rest
+
+
+def result_parts(results: Sequence) -> list[tuple[object, int]]:
+    """(result, how many like it follow from one run) in order: a :class:`RankedRuns`'s
+    runs, or each result of another sequence alone."""
+    if isinstance(results, RankedRuns):
+        return results.parts()
+    return [(x, 1) for x in results]
 
 
 @dataclass(frozen=True)
@@ -283,11 +396,11 @@ def plan_as_dict(plan: Plan, d: Derived) -> dict:
 class Result:
     plan: Plan
     derived: Derived
-    setups: tuple[SetupResult, ...]
+    setups: Sequence[SetupResult]  # a tuple, or the evaluation's RankedRuns
     excluded: tuple[Excluded, ...] = ()
     cautions: tuple[str, ...] = ()
     on: date | None = None
-    accessories: tuple[AccessoryResult, ...] = ()
+    accessories: Sequence[AccessoryResult] = ()
     combinations: int = 0  # model combinations judged (after sharing copies of a model)
 
     def setups_for(self, tag: str) -> tuple[SetupResult, ...]:

@@ -13,6 +13,7 @@ from __future__ import annotations
 import copy
 
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass, field
 from datetime import date, datetime
 
@@ -316,6 +317,66 @@ class UnitState:
         _check_choice(self.status, UNIT_STATUSES, "unit.status")
 
 
+class UnitRows(Sequence):
+    """A fleet's units kept as rows, as a fleet of many units is loaded: the distinct states
+    (model, status, site, verification due, open hold) once each, as unit states checked by
+    :class:`UnitState` itself, and per unit its tag, its state and its history. It is a
+    sequence of :class:`UnitState` equal to the tuple of the same units; each is made when
+    first asked for, so a check, which reads the states and the tags (``cohorts``), makes
+    none for the units it does not hand out.
+
+    ``states[i]`` is the state of the units whose ``state_of`` is ``i`` (its tag is the
+    first of them and its history empty); ``histories`` holds the history of the units that
+    have one, by position.
+    """
+
+    __slots__ = ("states", "tags", "state_of", "histories", "_units")
+
+    def __init__(self, states: list[UnitState], tags: list[str], state_of: list[int],
+                 histories: dict[int, tuple[PastEvent, ...]]):
+        self.states, self.tags, self.state_of = states, tags, state_of
+        self.histories = histories
+        self._units: tuple[UnitState, ...] | None = None
+
+    def __len__(self) -> int:
+        return len(self.tags)
+
+    def _unit(self, i: int) -> UnitState:
+        # the state's fields, checked when the state was made, with the unit's own tag and
+        # history (as UnitState's __init__ would set them, without its per-field setattr)
+        out = object.__new__(UnitState)
+        d = out.__dict__
+        d.update(self.states[self.state_of[i]].__dict__)
+        d["tag"] = self.tags[i]
+        if i in self.histories:
+            d["history"] = self.histories[i]
+        return out
+
+    def units(self) -> tuple[UnitState, ...]:
+        """Every unit, made once and kept."""
+        if self._units is None:
+            self._units = tuple(self._unit(i) for i in range(len(self.tags)))
+        return self._units
+
+    def __getitem__(self, i):
+        if self._units is not None or isinstance(i, slice):
+            return self.units()[i]
+        return self._unit(range(len(self.tags))[i])
+
+    def __iter__(self):
+        return iter(self.units())
+
+    def __eq__(self, other):
+        if isinstance(other, (UnitRows, tuple, list)):
+            return self.units() == tuple(other)
+        return NotImplemented
+
+    __hash__ = None  # type: ignore[assignment]
+
+    def __repr__(self) -> str:
+        return f"UnitRows({len(self.tags)} units, {len(self.states)} states)"
+
+
 # -- job plans ---------------------------------------------------------------------------------
 
 # The rules of a job plan: one function each for the circuit and the plan, returning every
@@ -478,4 +539,4 @@ class Fleet:
     """What a check runs against: the models by key and the units."""
 
     models: dict[str, ModelSpec] = field(default_factory=dict)
-    units: tuple[UnitState, ...] = ()
+    units: Sequence[UnitState] = ()  # a tuple, or the rows a fleet is loaded as (UnitRows)

@@ -179,7 +179,9 @@ def model_specs(session: Session) -> dict[int, spec.ModelSpec]:
 
 def engine_fleet(session: Session) -> spec.Fleet:
     """The fleet as the engine sees it: model specs by key and unit states with history (the
-    events in the order logged), in tag order."""
+    events in the order logged), in tag order, kept as rows (:class:`spec.UnitRows`): one
+    checked state per distinct (model, status, site, verification due, open hold) and each
+    unit's tag, its state and its history; a unit state is made when someone reads it."""
     models = model_specs(session)
     sites: dict[int, str] = {i: name for i, name in
                              session.execute(select(m.Site.id, m.Site.name))}
@@ -200,32 +202,25 @@ def engine_fleet(session: Session) -> spec.Fleet:
     ).order_by(u.c.tag), processed=False)
     due_of = processors[-1]
     keys = {i: s.key for i, s in models.items()}
-    states: dict[tuple, dict] = {}
-    new = object.__new__
-    units = []
-    add = units.append
+    index: dict[tuple, int] = {}
+    states: list[spec.UnitState] = []
+    tags: list[str] = []
+    state_of: list[int] = []
+    histories: dict[int, tuple[spec.PastEvent, ...]] = {}
     for uid, tag, model_id, status, site_id, due in rows:
         k = (model_id, status, site_id, due, uid in open_holds)
-        fields = states.get(k)
-        if fields is None:
-            fields = states[k] = _state(tag, keys[model_id], status, sites.get(site_id), due
-                                        if due_of is None or due is None else due_of(due),
-                                        k[-1])
-        unit = new(spec.UnitState)
-        d = unit.__dict__
-        d.update(fields)
-        d["tag"] = tag
+        at = index.get(k)
+        if at is None:
+            # a state's fields, checked once by UnitState itself (its check reads the status
+            # alone, which the state holds); its units differ only by tag and history
+            at = index[k] = len(states)
+            states.append(spec.UnitState(
+                tag=tag, model=keys[model_id], status=status, site=sites.get(site_id),
+                verification_due=due if due_of is None or due is None else due_of(due),
+                open_hold=k[-1]))
         if uid in history:
-            d["history"] = tuple(history[uid])
-        add(unit)
-    return spec.Fleet(models={s.key: s for s in models.values()}, units=tuple(units))
-
-
-def _state(tag, model, status, site, due, held) -> dict:
-    """The fields of a unit state shared by every unit of one (model, status, site,
-    verification due, open hold), checked once by UnitState itself: the units of that state
-    are made from them with only their tag (and history) their own, without the frozen
-    dataclass's per-field setattr and its check per unit (the check reads the status alone,
-    which the state holds)."""
-    return dict(spec.UnitState(tag=tag, model=model, status=status, site=site,
-                               verification_due=due, open_hold=held).__dict__)
+            histories[len(tags)] = tuple(history[uid])
+        tags.append(tag)
+        state_of.append(at)
+    units = spec.UnitRows(states, tags, state_of, histories)
+    return spec.Fleet(models={s.key: s for s in models.values()}, units=units)
