@@ -194,3 +194,19 @@ def test_unit_rows_read_as_the_tuple_of_their_units(database):
     assert rows[0] == units[0] and rows[-1] == units[-1] and rows[2:5] == units[2:5]
     with pytest.raises(IndexError):
         rows[len(units)]
+
+
+def test_ranked_results_read_as_tuples(demo):
+    # common practice (no source): a result's setups and accessory units read as the tuples
+    # they stand for (the engine's callers index, slice, add and compare them)
+    with demo.transaction() as session:
+        fleet = engine_fleet(session)
+    plan = replace(_plans()[0], on=datetime(2026, 12, 2).date())
+    result = evaluate(plan, fleet)
+    setups, offers = tuple(result.setups), tuple(result.accessories)
+    assert result.setups + result.accessories == setups + offers
+    assert () + result.setups == setups and result.setups + () == setups
+    assert result.setups[1] == setups[1] and result.setups[-1] == setups[-1]
+    assert result.setups[:2] == setups[:2] and result.setups[1::2] == setups[1::2]
+    assert list(reversed(result.setups)) == list(reversed(setups))
+    assert result.setups.index(setups[2]) == 2 and setups[2] in result.setups

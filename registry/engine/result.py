@@ -217,6 +217,17 @@ class RankedRuns(Sequence):
             return self._whole() == tuple(other)
         return NotImplemented
 
+    def __add__(self, other):
+        # as a tuple: ``result.setups + result.accessories``
+        if isinstance(other, (RankedRuns, tuple)):
+            return self._whole() + tuple(other)
+        return NotImplemented
+
+    def __radd__(self, other):
+        if isinstance(other, tuple):
+            return other + self._whole()
+        return NotImplemented
+
     __hash__ = None  # type: ignore[assignment]
 
     def __repr__(self) -> str:
