@@ -40,7 +40,9 @@ def _withstand() -> str:
     return str(Path(sys.executable).with_name("withstand"))
 
 
-def start_server(db_path: Path, instance: Path) -> tuple[str, subprocess.Popen]:
+def start_server(db_path: Path, instance: Path, log) -> tuple[str, subprocess.Popen]:
+    """``withstand serve`` on a free port, its output (Flask's log of any error with its
+    traceback) written to ``log``."""
     import socket
     with socket.socket() as s:
         s.bind(("127.0.0.1", 0))
@@ -48,7 +50,7 @@ def start_server(db_path: Path, instance: Path) -> tuple[str, subprocess.Popen]:
     env = dict(os.environ, WITHSTAND_INSTANCE=str(instance),
                WITHSTAND_DATABASE_URL=f"sqlite:///{db_path}")
     proc = subprocess.Popen([_withstand(), "serve", "--port", str(port)], env=env,
-                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+                            stdout=log, stderr=subprocess.STDOUT)
     base = f"http://127.0.0.1:{port}"
     import requests
     for _ in range(300):
@@ -94,7 +96,9 @@ def main(argv=None):
     work = Path(os.environ["WITHSTAND_INSTANCE"])
     db_path = work / "bench.sqlite3"
     shutil.copyfile(fleet_database(units), db_path)
-    base, proc = start_server(db_path, work)
+    log_path = work / "server.log"
+    log = open(log_path, "wb")  # closed once the server has stopped
+    base, proc = start_server(db_path, work, log)
     times: dict[str, list[float]] = {k: [] for k in LIMITS_MS}
     failures: list[str] = []
     lock = threading.Lock()
@@ -140,6 +144,7 @@ def main(argv=None):
             proc.wait(timeout=10)
         except subprocess.TimeoutExpired:
             proc.kill()
+        log.close()
     print(f"{CLIENTS} concurrent clients, {rounds} rounds each, {units} units "
           f"(first {'dashboard' if args.no_check else 'check result'} alone: "
           f"{first_check:.2f} s)")
@@ -152,6 +157,21 @@ def main(argv=None):
                          f"{len(ms)} requests)", p95(ms), limit, "ms"))
     for f in failures[:5]:
         print(f"  failed: {f}")
+    server_errors(log_path)
+
+
+def server_errors(log_path: Path) -> None:
+    """The server's log: every 500 it answered and the first traceback, or that there were
+    none (a 500 under load is a defect, whatever the timings)."""
+    text = log_path.read_text(errors="replace")
+    answered = [line for line in text.splitlines() if "answered 500" in line]
+    print(f"  server log ({log_path}): {len(answered)} answered 500, "
+          f"{text.count('Traceback')} tracebacks")
+    for line in answered[:5]:
+        print(f"    {line}")
+    if "Traceback" in text:
+        start = text.index("Traceback")
+        print("    " + "\n    ".join(text[start:].splitlines()[:40]))
 
 
 if __name__ == "__main__":
