@@ -99,3 +99,25 @@ def test_cache_keeps_the_newest_and_computes_a_miss_once():
         cache.get(key, lambda k=key: calls.append(k) or k.upper())
     # "a" stays (used most recently before "c" came); "b" was pushed out by "c"
     assert calls == ["a", "b", "c", "b"]
+
+
+def _core_digest(session) -> str:
+    """The version as the statement built anew and run through SQLAlchemy gives it."""
+    import hashlib
+
+    from registry.store.versions import version_statement
+    row = session.execute(version_statement()).one()
+    return hashlib.sha256(repr(tuple(row)).encode()).hexdigest()[:24]
+
+
+def test_fleet_version_text_compiled_once_reads_what_the_statement_reads(demo, pg_demo):
+    # the text handed to the driver is the statement compiled for each dialect: SQLite and
+    # PostgreSQL answer it as they answer the statement itself, before and after a write
+    # (the digest is of the same ids and counts)
+    for database in (demo, pg_demo):
+        with database.session() as s:
+            assert fleet_version(s) == _core_digest(s)
+        log_event(database, unit="NB-0002", kind="overvoltage", mode="vdc", voltage=400.0,
+                  symptoms=["smell"], by="tech")
+        with database.session() as s:
+            assert fleet_version(s) == _core_digest(s)
