@@ -4,12 +4,13 @@ from __future__ import annotations
 
 from datetime import date
 
-from flask import Blueprint, render_template
+from flask import Blueprint
 
 from ..engine import rules, spec
 from ..extensions import db
 from ..store import queries
 from .access import role_required
+from .page_cache import page
 from .plots import KIND_MARKS, month_chart_svg
 
 bp = Blueprint("dashboard", __name__)
@@ -21,6 +22,10 @@ DUE_SHOWN = 50  # the soonest units listed; the fleet list's due filter has the 
 @bp.route("/dashboard")
 @role_required("viewer")
 def index():
+    return page("dashboard/index.html", _context)
+
+
+def _context() -> dict:
     session = db.session
     today = date.today()
     overdue_now, due = queries.due_by_month(session, today)
@@ -31,12 +36,12 @@ def index():
         [mo for mo, _ in events],
         {kind: [counts[kind] for _, counts in events] for kind in spec.EVENT_KINDS},
         "Events logged per month, by kind", KIND_MARKS)
-    return render_template("dashboard/index.html", counts=queries.status_counts(session),
-                           due_chart=due_chart, events_chart=events_chart,
-                           overdue_now=overdue_now, due_months=due, event_months=events,
-                           due=queries.due_soon(session, DUE_DAYS, limit=DUE_SHOWN), days=DUE_DAYS,
-                           due_total=queries.due_soon_count(session, DUE_DAYS),
-                           holds=queries.open_holds(session),
-                           events=queries.recent_events(session),
-                           coverage=queries.coverage(session), today=date.today(),
-                           overdue=rules.unit_overdue)
+    return dict(counts=queries.status_counts(session),
+                due_chart=due_chart, events_chart=events_chart,
+                overdue_now=overdue_now, due_months=due, event_months=events,
+                due=queries.due_soon(session, DUE_DAYS, limit=DUE_SHOWN), days=DUE_DAYS,
+                due_total=queries.due_soon_count(session, DUE_DAYS),
+                holds=queries.open_holds(session),
+                events=queries.recent_events(session),
+                coverage=queries.coverage(session), today=today,
+                overdue=rules.unit_overdue)

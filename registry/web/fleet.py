@@ -24,6 +24,7 @@ from ..store.specs import model_spec, unit_record
 from .access import role_required
 from .forms import FieldErrors
 from .limits import check_texts
+from .page_cache import page
 from .params import fleet_query, unit_or_404
 
 bp = Blueprint("fleet", __name__)
@@ -95,27 +96,32 @@ def index():
     errors = FieldErrors()
     filters, typed = fleet_query(request.args, errors)
     filters.size = current_app.config.get("FLEET_PAGE_SIZE", 50)
-    result = queries.fleet_page(db.session, filters)
 
     def link(**changes):
         args = {k: v for k, v in typed.items() if v}
         args.update({k: v for k, v in changes.items()})
         return url_for("fleet.index", **{k: v for k, v in args.items() if v not in ("", None)})
 
-    page = render_template("fleet/index.html", result=result, typed=typed, errors=errors,
-                           kinds=spec.KINDS, statuses=spec.UNIT_STATUSES,
-                           sites=queries.site_names(db.session), link=link,
-                           sort=filters.sort, desc=filters.desc, overdue=_overdue_today())
-    return page, (400 if errors else 200)
+    def context() -> dict:
+        return dict(result=queries.fleet_page(db.session, filters), typed=typed,
+                    errors=errors, kinds=spec.KINDS, statuses=spec.UNIT_STATUSES,
+                    sites=queries.site_names(db.session), link=link, sort=filters.sort,
+                    desc=filters.desc, overdue=_overdue_today())
+
+    if errors:  # a 400 that names the field is rendered as it is, never kept
+        return render_template("fleet/index.html", **context()), 400
+    return page("fleet/index.html", context)
 
 
 @bp.route("/units/<tag>")
 @role_required("viewer")
 def unit(tag: str):
-    row = unit_or_404(tag)
-    hold = next((h for h in row.holds if h.released_at is None), None)
-    return render_template("fleet/unit.html", unit=row, model=model_spec(row.model),
-                           timeline=queries.unit_timeline(db.session, row), hold=hold)
+    def context() -> dict:
+        row = unit_or_404(tag)  # a 404 is raised before anything is kept
+        hold = next((h for h in row.holds if h.released_at is None), None)
+        return dict(unit=row, model=model_spec(row.model),
+                    timeline=queries.unit_timeline(db.session, row), hold=hold)
+    return page("fleet/unit.html", context)
 
 
 @bp.route("/units/<tag>/edit", methods=["GET", "POST"])
