@@ -8,12 +8,13 @@ card and plots) is a plain link that carries the plan as typed.
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 from datetime import date
 
 import yaml
-from flask import Blueprint, Response, abort, render_template, request
+from flask import Blueprint, Response, abort, render_template, request, url_for
 
-from ..engine.result import format_ratio, margin_ratio
+from ..engine.result import VERDICT_ORDER, format_ratio, margin_ratio
 from ..engine.spec import PLAN_WAVEFORMS, SUPPLIES, TASKS
 from ..errors import InvalidInput
 from ..extensions import db
@@ -27,6 +28,7 @@ from ..store.versions import fleet_version
 from .access import role_required
 from .forms import FieldErrors
 from .limits import check_texts, int_arg
+from .page_cache import page
 from .plots import DischargePath, discharge_svg, needs_has_svg
 from .result_cache import results
 
@@ -210,19 +212,97 @@ def form():
 @bp.route("/result")
 @role_required("viewer")
 def result():
+    """The ranked result. Its rendered page is kept per plan, query, role and fleet version
+    (:mod:`.page_cache`), and on a large fleet its long lists come a page at a time, with a
+    count and a link for each verdict and each reason a unit is not offered, so every unit's
+    verdict stays one link away and none that forbids a use is summarised away."""
     fields = fields_from(request.args)
-    res, fleet, errors = checked(fields)
-    if res is None:
-        return _form(fields, errors, 400)
-    show_all = request.args.get("all") == "1"
+
+    def context():
+        res, fleet, errors = checked(fields)
+        if res is None:
+            return _form(fields, errors, 400)
+        return result_context(res, fleet, fields)
+
+    return page("checks/result.html", context)
+
+
+GRID_ROWS = 100  # instrument units in the verdict grid at once
+LIST_ROWS = 100  # accessory units, and units not offered for one reason, at once
+EXCLUDED_INLINE = 20  # units not offered for one reason named before "all N"
+ALL_AT_ONCE = 500  # "show all" setups on one page up to this many; pages beyond
+
+
+@dataclass(frozen=True)
+class Paged:
+    """One page of a list: its items, which page of how many, and the first item's offset."""
+
+    items: list
+    page: int
+    pages: int
+    total: int
+    start: int
+
+
+def paged(items: list, number: int, size: int) -> Paged:
+    pages = max((len(items) + size - 1) // size, 1)
+    number = min(max(number, 1), pages)
+    start = (number - 1) * size
+    return Paged(items[start:start + size], number, pages, len(items), start)
+
+
+def _verdict_arg(name: str) -> str:
+    """A verdict to filter by, or "" for none; any other text is a 400."""
+    value = request.args.get(name, "")
+    if value and value not in VERDICT_ORDER:
+        abort(400)
+    return value
+
+
+def result_context(res, fleet, fields) -> dict:
+    """What the result page shows of ``res``: the plots, and each long list's page (chosen by
+    the query: ``rank``, ``grid_page``, ``acc_page``, ``ex_page``) and filter (``grid``
+    with ``grid_mode``, ``acc``, ``ex``), with the counts by verdict and by reason."""
+    show_all = request.args.get("all") == "1" and len(res.setups) <= ALL_AT_ONCE
     paths = discharge_paths(res, fleet)
     plots = [{"path": p, "index": i, "outcome": p.profile.outcome()}
              for i, p in enumerate(paths, 1)]
-    return render_template("checks/result.html", r=res, f=fields, show_all=show_all,
-                           grid=verdict_grid(res.setups), needs_has=needs_has_svg,
-                           setups=res.setups if show_all else res.setups[:SHOWN],
-                           shown=SHOWN, plots=plots, models=fleet.models,
-                           query=_query(fields))
+    grid = verdict_grid(res.setups)
+    grid_verdict, grid_mode = _verdict_arg("grid"), request.args.get("grid_mode", "")
+    units = grid["units"]
+    if grid_verdict:
+        modes = [grid_mode] if grid_mode else list(grid["modes"])
+        units = [u for u in units if any(grid["cells"].get((u, k)) == grid_verdict
+                                         for k in modes)]
+    acc_verdict = _verdict_arg("acc")
+    accessories = [a for a in res.accessories if not acc_verdict or a.verdict == acc_verdict]
+    reasons: dict[str, list] = {}
+    for e in res.excluded:
+        reasons.setdefault(e.reason, []).append(e)
+    ex_reason = request.args.get("ex", "")
+    ranked = paged(list(res.setups), 1 if show_all else _index_arg("rank"),
+                   ALL_AT_ONCE if show_all else SHOWN)
+    return dict(r=res, f=fields, show_all=show_all, needs_has=needs_has_svg,
+                grid=grid, grid_units=paged(units, _index_arg("grid_page"), GRID_ROWS),
+                grid_whole=len(grid["units"]) <= GRID_ROWS, grid_verdict=grid_verdict,
+                grid_mode=grid_mode, grid_counts=grid_counts(grid),
+                ranked=ranked, shown=SHOWN, all_at_once=ALL_AT_ONCE,
+                acc=paged(accessories, _index_arg("acc_page"), LIST_ROWS),
+                acc_whole=len(res.accessories) <= LIST_ROWS, acc_verdict=acc_verdict,
+                acc_counts={v: sum(1 for a in res.accessories if a.verdict == v)
+                            for v in VERDICT_ORDER},
+                reasons=reasons, ex_reason=ex_reason,
+                ex=paged(reasons.get(ex_reason, []), _index_arg("ex_page"), LIST_ROWS),
+                ex_inline=EXCLUDED_INLINE, plots=plots, models=fleet.models,
+                query=_query(fields), link=_result_link)
+
+
+def _result_link(anchor: str = "", **changes) -> str:
+    """This result page's address with ``changes`` to its query (None drops an argument)."""
+    args = request.args.to_dict()
+    args.update(changes)
+    url = url_for("checks.result", **{k: v for k, v in args.items() if v not in (None, "")})
+    return url + (f"#{anchor}" if anchor else "")
 
 
 def verdict_grid(setups) -> dict:
@@ -236,6 +316,18 @@ def verdict_grid(setups) -> dict:
         modes.setdefault(s.mode, s.mode_label or s.mode)
         cells.setdefault((s.instrument, s.mode), s.verdict)
     return {"units": list(units), "modes": modes, "cells": cells}
+
+
+def grid_counts(grid) -> dict:
+    """(verdict, mode key) -> how many units have that verdict in that mode; (verdict, "")
+    -> how many have it in at least one mode."""
+    counts: dict[tuple[str, str], int] = {}
+    any_mode: dict[str, set] = {v: set() for v in VERDICT_ORDER}
+    for (unit, mode), v in grid["cells"].items():
+        counts[(v, mode)] = counts.get((v, mode), 0) + 1
+        any_mode[v].add(unit)
+    counts.update({(v, ""): len(us) for v, us in any_mode.items()})
+    return counts
 
 
 def _query(fields) -> dict:
