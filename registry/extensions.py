@@ -27,6 +27,8 @@ class DatabaseExtension:
 
     @staticmethod
     def _renew() -> None:
+        if has_app_context():
+            g.pop("fleet_version", None)  # a write moved it (web/page_cache.version)
         session = g.get("db_session") if has_app_context() else None
         if session is None or not session.in_transaction():
             return

@@ -68,11 +68,17 @@ class FleetPage:
     pages: int
 
 
-def fleet_page(session: Session, filters: FleetQuery, today: date | None = None) -> FleetPage:
-    today = today or date.today()
-    stmt = (select(m.Unit).join(m.Unit.model).outerjoin(m.Unit.site)
-            .options(selectinload(m.Unit.model).selectinload(m.Model.ratings),
-                     selectinload(m.Unit.site)))
+def _fleet_select(columns, filters: FleetQuery, today: date):
+    """SELECT ``columns`` of the units the filters keep, joined to the model and the site only
+    when a filter or the sort reads them (the plain list pages through the tag's index)."""
+    by_model = bool(filters.q or filters.kind in spec.KINDS
+                    or filters.sort in ("model", "kind"))
+    by_site = bool(filters.site or filters.sort == "site")
+    stmt = select(*columns).select_from(m.Unit)
+    if by_model:
+        stmt = stmt.join(m.Unit.model)
+    if by_site:
+        stmt = stmt.outerjoin(m.Unit.site)
     if filters.q:
         like = f"%{filters.q.lower()}%"
         stmt = stmt.where(or_(func.lower(m.Unit.tag).like(like),
@@ -94,15 +100,98 @@ def fleet_page(session: Session, filters: FleetQuery, today: date | None = None)
         stmt = stmt.where(_overdue(today))
     elif filters.due in DUE_FILTERS:
         stmt = stmt.where(_due_within(today, int(filters.due)))
-    total = session.scalar(select(func.count()).select_from(stmt.subquery())) or 0
+    return stmt
+
+
+def fleet_count(session: Session, filters: FleetQuery, today: date | None = None) -> int:
+    """How many units the filters keep (every page of the list)."""
+    stmt = _fleet_select([m.Unit.id], filters, today or date.today())
+    return session.scalar(select(func.count()).select_from(stmt.subquery())) or 0
+
+
+def _page_ids(session: Session, filters: FleetQuery, today: date, total: int):
     column = SORTS.get(filters.sort, m.Unit.tag)
     order = [column.desc() if filters.desc else column.asc()]
     if column is not m.Unit.tag:
         order.append(m.Unit.tag.asc())
     pages = max((total + filters.size - 1) // filters.size, 1)
     page = min(max(filters.page, 1), pages)
-    units = list(session.scalars(stmt.order_by(*order).limit(filters.size)
-                                 .offset((page - 1) * filters.size)))
+    ids = list(session.scalars(_fleet_select([m.Unit.id], filters, today).order_by(*order)
+                               .limit(filters.size).offset((page - 1) * filters.size)))
+    return ids, page, pages
+
+
+def fleet_page(session: Session, filters: FleetQuery, today: date | None = None,
+               total: int | None = None) -> FleetPage:
+    """A page of the fleet list as unit rows (with their model, its ratings and the site);
+    ``total`` is :func:`fleet_count` when the caller has it already."""
+    today = today or date.today()
+    if total is None:
+        total = fleet_count(session, filters, today)
+    ids, page, pages = _page_ids(session, filters, today, total)
+    loaded = {u.id: u for u in session.scalars(
+        select(m.Unit).where(m.Unit.id.in_(ids))
+        .options(selectinload(m.Unit.model).selectinload(m.Model.ratings),
+                 selectinload(m.Unit.site)))}
+    return FleetPage(units=[loaded[i] for i in ids], total=total, page=page, pages=pages)
+
+
+@dataclass(frozen=True)
+class RatingLine:
+    category: str
+    voltage: float
+
+
+@dataclass(frozen=True)
+class ModelLine:
+    """What the fleet list shows of a model."""
+
+    key: str
+    maker: str
+    name: str
+    kind: str
+    ratings: tuple[RatingLine, ...]
+
+
+@dataclass(frozen=True)
+class UnitLine:
+    """What the fleet list shows of a unit: plain values, no ORM row."""
+
+    tag: str
+    status: str
+    verification_due: date | None
+    site_name: str | None
+    model: ModelLine
+
+
+def model_lines(session: Session) -> dict[int, ModelLine]:
+    """Every model as the fleet list shows it, by id, its ratings in their order (two plain
+    queries; the page keeps it per fleet version)."""
+    ratings: dict[int, list[RatingLine]] = {}
+    for model_id, cat, volts in session.execute(
+            select(m.Rating.model_id, m.Rating.category, m.Rating.voltage)
+            .order_by(m.Rating.model_id, m.Rating.position)):
+        ratings.setdefault(model_id, []).append(RatingLine(cat, volts))
+    return {i: ModelLine(key, maker, name, kind, tuple(ratings.get(i, ())))
+            for i, key, maker, name, kind in session.execute(
+                select(m.Model.id, m.Model.key, m.Model.maker, m.Model.name, m.Model.kind))}
+
+
+def fleet_lines(session: Session, filters: FleetQuery, models: dict[int, ModelLine],
+                today: date | None = None, total: int | None = None) -> FleetPage:
+    """:func:`fleet_page` as plain lines (:class:`UnitLine`) for the web's list: the page's
+    unit ids, then their columns and sites in one query, the models from ``models``
+    (:func:`model_lines`)."""
+    today = today or date.today()
+    if total is None:
+        total = fleet_count(session, filters, today)
+    ids, page, pages = _page_ids(session, filters, today, total)
+    rows = {r.id: r for r in session.execute(
+        select(m.Unit.id, m.Unit.tag, m.Unit.status, m.Unit.verification_due,
+               m.Unit.model_id, m.Site.name.label("site_name"))
+        .outerjoin(m.Unit.site).where(m.Unit.id.in_(ids)))}
+    units = [UnitLine(r.tag, r.status, r.verification_due, r.site_name, models[r.model_id])
+             for r in (rows[i] for i in ids)]
     return FleetPage(units=units, total=total, page=page, pages=pages)
 
 

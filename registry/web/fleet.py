@@ -24,7 +24,7 @@ from ..store.specs import model_spec, unit_record
 from .access import role_required
 from .forms import FieldErrors
 from .limits import check_texts
-from .page_cache import page
+from .page_cache import kept_data, page
 from .params import fleet_query, unit_or_404
 
 bp = Blueprint("fleet", __name__)
@@ -103,7 +103,13 @@ def index():
         return url_for("fleet.index", **{k: v for k, v in args.items() if v not in ("", None)})
 
     def context() -> dict:
-        return dict(result=queries.fleet_page(db.session, filters), typed=typed,
+        today = date.today()
+        count_key = (tuple(sorted(vars(filters).items() - {("page", filters.page)})), today)
+        total = kept_data("fleet count", count_key,
+                          lambda: queries.fleet_count(db.session, filters, today))
+        models = kept_data("model lines", None, lambda: queries.model_lines(db.session))
+        result = queries.fleet_lines(db.session, filters, models, today, total)
+        return dict(result=result, typed=typed,
                     errors=errors, kinds=spec.KINDS, statuses=spec.UNIT_STATUSES,
                     sites=queries.site_names(db.session), link=link, sort=filters.sort,
                     desc=filters.desc, overdue=_overdue_today())

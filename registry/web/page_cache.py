@@ -29,7 +29,7 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from datetime import date
 
-from flask import current_app, render_template, request
+from flask import current_app, g, render_template, request
 from flask_login import current_user
 from flask_wtf.csrf import generate_csrf
 from markupsafe import Markup
@@ -75,11 +75,26 @@ def pages() -> ResultCache:
     return current_app.extensions.setdefault("withstand.pages", ResultCache(PAGES_KEPT))
 
 
+def version() -> str:
+    """The fleet version as this request's session reads it, looked up once per request (a
+    write through a service renews the session and forgets it: ``extensions._renew``)."""
+    if "fleet_version" not in g:
+        g.fleet_version = fleet_version(db.session)
+    return g.fleet_version
+
+
+def kept_data(name: str, key, compute: Callable[[], object]):
+    """Data a page reads (every model's line, a list's count) kept per (``name``, ``key``,
+    fleet version): read once for an unchanged fleet, whichever page asks."""
+    cache = current_app.extensions.setdefault("withstand.page_data", ResultCache(PAGES_KEPT))
+    return cache.get((name, key, version()), compute)
+
+
 def page_key(*extra) -> tuple:
     """What a kept page of this request depends on (see the module's text)."""
     return (request.endpoint, tuple(sorted((request.view_args or {}).items())),
             tuple(request.args.items(multi=True)), current_user.role, date.today(),
-            fleet_version(db.session), extra)
+            version(), extra)
 
 
 def _render_blocks(template: str, context: dict) -> Kept:
