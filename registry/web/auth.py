@@ -7,24 +7,34 @@ import math
 from flask import (Blueprint, current_app, flash, redirect, render_template, request,
                    session, url_for)
 from flask_login import login_user, logout_user
+from sqlalchemy import bindparam, select
 
 from ..extensions import db, login_manager
 from ..store import models as m
 from ..store.users import authenticate
-from .access import role_required, signed_in
-from .limits import control_problem
+from .access import SignedIn, role_required, signed_in
+from .limits import MAX_ID, control_problem
 from .throttle import LoginThrottle
 
 bp = Blueprint("auth", __name__)
 
 
+_SIGNED_IN = (select(m.User.id, m.User.username, m.User.display_name, m.User.role)
+              .where(m.User.id == bindparam("id"), m.User.active.is_(True)))
+
+
 @login_manager.user_loader
 def load_user(user_id: str):
+    """The active login of the session's id, as the request knows it (every request asks:
+    one plain row, no ORM object)."""
     try:
-        user = db.session.get(m.User, int(user_id))
+        ident = int(user_id)
     except ValueError:
         return None
-    return signed_in(user) if user is not None and user.active else None
+    if abs(ident) > MAX_ID:
+        return None
+    row = db.session.execute(_SIGNED_IN, {"id": ident}).first()
+    return SignedIn(*row) if row is not None else None
 
 
 def _safe_next(target: str | None) -> str:
