@@ -352,9 +352,12 @@ def unit_timeline(session: Session, unit: m.Unit) -> list[TimelineEntry]:
             out.append(TimelineEntry(h.released_at, "hold-released",
                                      f"Hold {h.id} released: {h.result}", h.notes,
                                      who=person(h.released_by), row=h))
-    users = {u.username: u for u in session.scalars(select(m.User))}
-    for c in session.scalars(select(m.Change).where(m.Change.entity == "unit",
-                                                    m.Change.entity_key == unit.tag)):
+    changes = list(session.scalars(select(m.Change).where(m.Change.entity == "unit",
+                                                          m.Change.entity_key == unit.tag)))
+    actors = {c.actor for c in changes}
+    users = {u.username: u for u in session.scalars(
+        select(m.User).where(m.User.username.in_(actors)))} if actors else {}
+    for c in changes:
         out.append(TimelineEntry(c.at, "change", f"Changed {c.field}",
                                  f"{c.old if c.old is not None else '—'} → "
                                  f"{c.new if c.new is not None else '—'}",

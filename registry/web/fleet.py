@@ -19,12 +19,13 @@ from ..errors import InvalidInput
 from ..extensions import db
 from ..formats.fleet import unit_to_document
 from ..services.fleet import EDITABLE, edit_unit, status_choices
+from ..store import models as m
 from ..store import queries
 from ..store.specs import model_spec, unit_record
 from .access import role_required
 from .forms import FieldErrors
 from .limits import check_texts
-from .page_cache import kept_data, page
+from .page_cache import kept_data, page, shared_part
 from .params import fleet_query, unit_or_404
 
 bp = Blueprint("fleet", __name__)
@@ -125,9 +126,20 @@ def unit(tag: str):
     def context() -> dict:
         row = unit_or_404(tag)  # a 404 is raised before anything is kept
         hold = next((h for h in row.holds if h.released_at is None), None)
-        return dict(unit=row, model=model_spec(row.model),
-                    timeline=queries.unit_timeline(db.session, row), hold=hold)
+        models = kept_data("model lines", None, lambda: queries.model_lines(db.session))
+        return dict(unit=row, model=models[row.model_id], hold=hold,
+                    spec_part=model_part(row.model_id),
+                    timeline=queries.unit_timeline(db.session, row))
     return page("fleet/unit.html", context)
+
+
+def model_part(model_id: int) -> Markup:
+    """A model's ratings, modes and front end as the unit page shows them
+    (``library/_spec.html``), rendered once per model and fleet version for all its units."""
+    def render():
+        row = db.session.get(m.Model, model_id)
+        return shared_part("library/_spec.html", model=model_spec(row))
+    return kept_data("model part", model_id, render)
 
 
 @bp.route("/units/<tag>/edit", methods=["GET", "POST"])

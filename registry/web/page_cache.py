@@ -90,6 +90,14 @@ def kept_data(name: str, key, compute: Callable[[], object]):
     return cache.get((name, key, version()), compute)
 
 
+def shared_part(template: str, **context) -> Markup:
+    """A fragment kept for every role and user alike (:func:`kept_data` is keyed by neither):
+    rendered with no ``current_user`` and no CSRF token, so a template that reads either
+    fails instead of keeping one person's view for all."""
+    return Markup(render_template(template, **context, current_user=None,
+                                  csrf_token=_no_token))
+
+
 def page_key(*extra) -> tuple:
     """What a kept page of this request depends on (see the module's text)."""
     return (request.endpoint, tuple(sorted((request.view_args or {}).items())),
