@@ -290,3 +290,52 @@ def test_setting_accessories_aside_changes_nothing_in_the_result(fleet, plan):
     assert _offer_rows(pruned) == _offer_rows(whole)
     assert pruned.summary == whole.summary
     assert pruned.combinations <= whole.combinations
+
+
+@st.composite
+def demo_accessory_fleets(draw):
+    """The demo lab's instruments (discharge tools and the clamp meter among them) with many
+    variants of its leads, divider, current clamp, probes and clip: each variant with random
+    ratings (or none), tip exposure and altitude, so that the groups of alike accessories hold
+    dividers and clamps too; one or two units of each model."""
+    inst_keys = draw(st.lists(st.sampled_from(sorted(k for k, m in DEMO.models.items()
+                                                     if m.is_instrument)),
+                              min_size=1, max_size=5, unique=True))
+    acc_keys = draw(st.lists(st.sampled_from(sorted(k for k, m in DEMO.models.items()
+                                                    if not m.is_instrument)),
+                             min_size=1, max_size=6, unique=True))
+    chosen = [DEMO.models[k] for k in inst_keys]
+    for key in acc_keys:
+        base = DEMO.models[key]
+        for v in range(draw(st.integers(1, 5))):
+            ratings = base.ratings if draw(st.booleans()) else tuple(
+                draw(st.lists(CATEGORY_RATINGS, max_size=2)))
+            chosen.append(dataclasses.replace(
+                base, key=f"{key}-v{v}", ratings=ratings, tip_exposure=draw(EXPOSURES),
+                max_altitude=draw(st.sampled_from([2000.0, 5000.0]))))
+    units = []
+    for model in chosen:
+        for _ in range(draw(st.integers(1, 2))):
+            units.append(UnitState(
+                tag=f"U{len(units):02d}", model=model.key,
+                status=draw(st.sampled_from(["in-service"] * 8 + ["away"])),
+                site=draw(st.sampled_from(SITES)),
+                verification_due=draw(st.sampled_from([date(2027, 1, 1), date(2026, 12, 30),
+                                                       None]))))
+    order = draw(st.permutations(range(len(units))))
+    return Fleet(models={m.key: m for m in chosen}, units=tuple(units[i] for i in order))
+
+
+@settings(max_examples=100, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(demo_accessory_fleets(), st.sampled_from(DEMO_PLANS))
+def test_setting_accessories_aside_on_the_demo_plans(fleet, name):
+    """Dividers, current clamps, discharge tools and integrated leads: the pruned result is the
+    one with every accessory model combined, and has the exhaustive verdicts and reasons."""
+    plan = demo_plan(name)
+    pruned, whole = evaluate(plan, fleet), evaluate(plan, fleet, prune=False)
+    assert _setup_rows(pruned) == _setup_rows(whole)
+    assert _offer_rows(pruned) == _offer_rows(whole)
+    full = evaluate_exhaustive(plan, fleet)
+    assert _verdicts(pruned) == _verdicts(full)
+    assert ({a.unit: (a.verdict, a.margin, _reason(a)) for a in pruned.accessories}
+            == {a.unit: (a.verdict, a.margin, _reason(a)) for a in full.accessories})
