@@ -294,7 +294,8 @@ def _prune(plan: Plan, derived, reps: list[ModelSpec], pools: dict[int, list[_Co
     and each accessory model's group.
 
     Accessory models are grouped by everything the checks read of them but their own findings
-    (:data:`~registry.engine.checks.SOLO_CHECKS`: ratings, altitude, tip): models of one group
+    (:data:`~registry.engine.checks.SOLO_CHECKS`: ratings, altitude, tip), and but the
+    current rating off a current task, which reads it alone (check 5): models of one group
     fit the same setups and bring the same other findings to each. In a group, a model is set
     aside when another one (a) makes every instrument unit's option with it strictly better (fewer
     fails, unknowns, cautions, in that order; or as many and an ordinary margin at least as
@@ -313,6 +314,8 @@ def _prune(plan: Plan, derived, reps: list[ModelSpec], pools: dict[int, list[_Co
         plain = dataclasses.replace(r, ratings=(), max_altitude=DEFAULT_MAX_ALTITUDE,
                                     tip_exposure=None, maker="", name="",
                                     pollution_degree=DEFAULT_POLLUTION_DEGREE)
+        if plan.task != "measure-current":  # only a current task reads a current rating
+            plain = dataclasses.replace(plain, current_rating=None)
         groups.setdefault((lead, plain), []).append(rid)
     solo: dict[tuple[int, bool, bool], tuple] = {}
     stand_for: dict[int, int] = {}
