@@ -401,15 +401,13 @@ class _Cohort:
     """Units that a check cannot tell apart but by their tags: one state (model, status,
     site, verification due, open hold), no history and a verification due on record, so
     check 11 finds nothing of their own. A unit with history or without a due date is a
-    cohort of its own (``own``), its findings its own. ``state`` is a unit of the cohort
-    (the first), ``tags`` and ``at`` the units' tags and places in the fleet, in its order."""
+    cohort of its own (``own``), its findings its own. ``state`` is a unit of the cohort,
+    ``tags`` the units' tags in the fleet's order."""
 
-    __slots__ = ("state", "tags", "at", "own")
+    __slots__ = ("state", "tags", "own")
 
-    def __init__(self, state: UnitState, own: bool):
-        self.state, self.own = state, own
-        self.tags: list[str] = []
-        self.at: list[int] = []
+    def __init__(self, state: UnitState, tags: list[str], own: bool):
+        self.state, self.tags, self.own = state, tags, own
 
     def unit(self, tag: str) -> UnitState:
         """The cohort's unit ``tag`` as a unit state."""
@@ -423,60 +421,66 @@ def _with_tag(state: UnitState, tag: str) -> UnitState:
     return out
 
 
-def _cohorts(units: Sequence[UnitState]) -> list[_Cohort]:
-    """The fleet's units as cohorts, in the order of their first units. Rows loaded from the
-    database (:class:`UnitRows`) are read as rows: no unit state is made for a unit of a
-    shared cohort."""
+def _cohorts(rows: UnitRows, states: list[int]) -> list[_Cohort]:
+    """The cohorts of the units whose states are ``states`` (indices into ``rows.states``),
+    state by state: per state the units without history as one cohort (or each alone when the
+    state has no verification due), and each unit with history alone, in the fleet's order.
+    No unit state is made for a unit of a shared cohort."""
+    wanted = set(states)
+    tags_of: dict[int, list[str]] = {at: [] for at in states}
+    alone: dict[int, list[int]] = {}
+    histories = rows.histories
+    if histories:
+        for i, (tag, at) in enumerate(zip(rows.tags, rows.state_of, strict=True)):
+            if at in wanted:
+                if i in histories:
+                    alone.setdefault(at, []).append(i)
+                else:
+                    tags_of[at].append(tag)
+    else:
+        for tag, at in zip(rows.tags, rows.state_of, strict=True):
+            if at in wanted:
+                tags_of[at].append(tag)
     out: list[_Cohort] = []
-    if isinstance(units, UnitRows):
-        states, tags, histories = units.states, units.tags, units.histories
-        plain = [st.verification_due is not None for st in states]
-        by_state: dict[int, _Cohort] = {}
-        for i, at in enumerate(units.state_of):
-            if plain[at] and i not in histories:
-                c = by_state.get(at)
-                if c is None:
-                    c = by_state[at] = _Cohort(_with_tag(states[at], tags[i]), False)
-                    out.append(c)
-            else:
-                c = _Cohort(units[i], True)
-                out.append(c)
-            c.tags.append(tags[i])
-            c.at.append(i)
-        return out
-    by_key: dict[tuple, _Cohort] = {}
-    for i, u in enumerate(units):
-        if u.history or u.verification_due is None:
-            c = _Cohort(u, True)
-            out.append(c)
-        else:
-            k = (u.model, u.status, u.site, u.verification_due, u.open_hold)
-            c = by_key.get(k)
-            if c is None:
-                c = by_key[k] = _Cohort(u, False)
-                out.append(c)
-        c.tags.append(u.tag)
-        c.at.append(i)
+    for at in states:
+        state, tags = rows.states[at], tags_of[at]
+        if state.verification_due is None:
+            out += (_Cohort(_with_tag(state, tag), [tag], True) for tag in tags)
+        elif tags:
+            out.append(_Cohort(state if state.tag in tags[:1] else _with_tag(state, tags[0]),
+                               tags, False))
+        for i in alone.get(at, ()):
+            u = rows[i]
+            out.append(_Cohort(u, [u.tag], True))
     return out
 
 
 def _split_cohorts(fleet: Fleet, on: date) -> tuple[list[Excluded], dict[str, list[_Cohort]]]:
-    """As :func:`split_units`, by cohort: the units left out and why (in the fleet's order),
-    and the rest's cohorts by model key."""
-    left_out: list[tuple[int, str, str, str]] = []
-    available: dict[str, list[_Cohort]] = {}
-    for c in _cohorts(fleet.units):
-        u = c.state
-        if u.model not in fleet.models:
-            raise SpecError(f"unit {c.tags[0]}: model {u.model!r} is not in the fleet")
-        reason = exclusion_reason(u, on)  # reads what the cohort's units share
-        if reason is not None:
-            left_out += ((i, tag, reason, u.model) for i, tag in zip(c.at, c.tags, strict=True))
+    """As :func:`split_units`, by state: the units left out and why (in the fleet's order),
+    and the rest's cohorts by model key. The fleet's units are read as rows
+    (:class:`UnitRows`), as loaded or made from the tuple."""
+    rows = UnitRows.of(fleet.units)
+    reasons: dict[int, str] = {}
+    kept: list[int] = []
+    for at, state in enumerate(rows.states):
+        if state.model not in fleet.models:
+            first = rows.tags[rows.state_of.index(at)]
+            raise SpecError(f"unit {first}: model {state.model!r} is not in the fleet")
+        reason = exclusion_reason(state, on)  # reads what the state's units share
+        if reason is None:
+            kept.append(at)
         else:
-            available.setdefault(u.model, []).append(c)
-    left_out.sort()
-    return [_made(Excluded, {}, unit=tag, reason=reason, model=model)
-            for _, tag, reason, model in left_out], available
+            reasons[at] = reason
+    excluded = []
+    if reasons:
+        states, tags = rows.states, rows.tags
+        excluded = [_made(Excluded, {}, unit=tags[i], reason=reasons[at],
+                          model=states[at].model)
+                    for i, at in enumerate(rows.state_of) if at in reasons]
+    available: dict[str, list[_Cohort]] = {}
+    for c in _cohorts(rows, kept):
+        available.setdefault(c.state.model, []).append(c)
+    return excluded, available
 
 
 def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (),
@@ -726,7 +730,7 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
     # the unit that stands for its group in an accessory's best setup: the first by tag
     leaders = {}
     for g, cohorts in groups.items():
-        tag, c = min((min(c.tags), c) for c in cohorts)
+        tag, _k, c = min((min(c.tags), k, c) for k, c in enumerate(cohorts))
         leaders[g] = c.unit(tag)
     rests: dict[tuple[int, int, bool], tuple] = {}
 

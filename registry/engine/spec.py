@@ -338,6 +338,28 @@ class UnitRows(Sequence):
         self.histories = histories
         self._units: tuple[UnitState, ...] | None = None
 
+    @classmethod
+    def of(cls, units) -> UnitRows:
+        """The rows of a sequence of unit states (already checked): equal to it."""
+        if isinstance(units, UnitRows):
+            return units
+        index: dict[tuple, int] = {}
+        states: list[UnitState] = []
+        state_of: list[int] = []
+        histories: dict[int, tuple[PastEvent, ...]] = {}
+        for i, u in enumerate(units):
+            k = (u.model, u.status, u.site, u.verification_due, u.open_hold)
+            at = index.get(k)
+            if at is None:
+                at = index[k] = len(states)
+                state = object.__new__(UnitState)
+                state.__dict__.update(u.__dict__, history=())
+                states.append(state)
+            if u.history:
+                histories[i] = u.history
+            state_of.append(at)
+        return cls(states, [u.tag for u in units], state_of, histories)
+
     def __len__(self) -> int:
         return len(self.tags)
 

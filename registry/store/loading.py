@@ -38,7 +38,9 @@ def plain_rows(session: Session, stmt, processed: bool = True
     cursor = conn.connection.cursor()
     try:
         cursor.execute(compiled.string)
-        rows = [tuple(r) for r in cursor.fetchall()]
+        rows = cursor.fetchall()
+        if rows and not isinstance(rows[0], tuple):
+            rows = [tuple(r) for r in rows]
         description = cursor.description
     finally:
         cursor.close()
@@ -202,25 +204,29 @@ def engine_fleet(session: Session) -> spec.Fleet:
     ).order_by(u.c.tag), processed=False)
     due_of = processors[-1]
     keys = {i: s.key for i, s in models.items()}
+    if not rows:
+        return spec.Fleet(models={s.key: s for s in models.values()}, units=())
+    ids, tags, model_ids, statuses, site_ids, dues = (list(c) for c in zip(*rows, strict=True))
+    held = [uid in open_holds for uid in ids] if open_holds else [False] * len(ids)
     index: dict[tuple, int] = {}
-    states: list[spec.UnitState] = []
-    tags: list[str] = []
-    state_of: list[int] = []
-    histories: dict[int, tuple[spec.PastEvent, ...]] = {}
-    for uid, tag, model_id, status, site_id, due in rows:
-        k = (model_id, status, site_id, due, uid in open_holds)
-        at = index.get(k)
-        if at is None:
-            # a state's fields, checked once by UnitState itself (its check reads the status
-            # alone, which the state holds); its units differ only by tag and history
-            at = index[k] = len(states)
-            states.append(spec.UnitState(
-                tag=tag, model=keys[model_id], status=status, site=sites.get(site_id),
-                verification_due=due if due_of is None or due is None else due_of(due),
-                open_hold=k[-1]))
-        if uid in history:
-            histories[len(tags)] = tuple(history[uid])
-        tags.append(tag)
-        state_of.append(at)
+    # each unit's state, numbered in the order first met: (model, status, site, due, held)
+    state_of = [index.setdefault(k, len(index))
+                for k in zip(model_ids, statuses, site_ids, dues, held, strict=True)]
+    states = []
+    first = {}
+    for i, at in enumerate(state_of):
+        if at not in first:
+            first[at] = i
+            if len(first) == len(index):
+                break
+    for (model_id, status, site_id, due, on_hold), at in index.items():
+        # a state's fields, checked once by UnitState itself (its check reads the status
+        # alone, which the state holds); its units differ only by tag and history
+        states.append(spec.UnitState(
+            tag=tags[first[at]], model=keys[model_id], status=status, site=sites.get(site_id),
+            verification_due=due if due_of is None or due is None else due_of(due),
+            open_hold=on_hold))
+    histories = {i: tuple(history[uid]) for i, uid in enumerate(ids) if uid in history} \
+        if history else {}
     units = spec.UnitRows(states, tags, state_of, histories)
     return spec.Fleet(models={s.key: s for s in models.values()}, units=units)
