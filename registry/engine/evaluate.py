@@ -404,10 +404,11 @@ class _Cohort:
     cohort of its own (``own``), its findings its own. ``state`` is a unit of the cohort,
     ``tags`` the units' tags in the fleet's order."""
 
-    __slots__ = ("state", "tags", "own")
+    __slots__ = ("state", "tags", "own", "first")
 
     def __init__(self, state: UnitState, tags: list[str], own: bool):
         self.state, self.tags, self.own = state, tags, own
+        self.first = min(tags)  # the first tag in tag order
 
     def unit(self, tag: str) -> UnitState:
         """The cohort's unit ``tag`` as a unit state."""
@@ -426,21 +427,15 @@ def _cohorts(rows: UnitRows, states: list[int]) -> list[_Cohort]:
     state by state: per state the units without history as one cohort (or each alone when the
     state has no verification due), and each unit with history alone, in the fleet's order.
     No unit state is made for a unit of a shared cohort."""
-    wanted = set(states)
-    tags_of: dict[int, list[str]] = {at: [] for at in states}
+    tags, state_of = rows.tags, rows.state_of
+    tags_of: list[list[str]] = [[] for _ in rows.states]
+    for tag, at in zip(tags, state_of, strict=True):
+        tags_of[at].append(tag)
     alone: dict[int, list[int]] = {}
-    histories = rows.histories
-    if histories:
-        for i, (tag, at) in enumerate(zip(rows.tags, rows.state_of, strict=True)):
-            if at in wanted:
-                if i in histories:
-                    alone.setdefault(at, []).append(i)
-                else:
-                    tags_of[at].append(tag)
-    else:
-        for tag, at in zip(rows.tags, rows.state_of, strict=True):
-            if at in wanted:
-                tags_of[at].append(tag)
+    for i in sorted(rows.histories):
+        at = state_of[i]
+        tags_of[at].remove(tags[i])  # one of that tag: units of one tag and state are alike
+        alone.setdefault(at, []).append(i)
     out: list[_Cohort] = []
     for at in states:
         state, tags = rows.states[at], tags_of[at]
@@ -545,7 +540,7 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
             best: dict[str | None, tuple] = {}
             for c in pools[cid]:
                 u = c.state
-                tag = u.tag if c.own else min(c.tags)
+                tag = u.tag if c.own else c.first
                 k = (len(unit_history(u, None)) if c.own else 0,
                      -(u.verification_due.toordinal() if u.verification_due else 0), tag)
                 held = best.get(u.site)
@@ -730,7 +725,7 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
     # the unit that stands for its group in an accessory's best setup: the first by tag
     leaders = {}
     for g, cohorts in groups.items():
-        tag, _k, c = min((min(c.tags), k, c) for k, c in enumerate(cohorts))
+        tag, _k, c = min((c.first, k, c) for k, c in enumerate(cohorts))
         leaders[g] = c.unit(tag)
     rests: dict[tuple[int, int, bool], tuple] = {}
 

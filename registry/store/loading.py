@@ -208,17 +208,13 @@ def engine_fleet(session: Session) -> spec.Fleet:
         return spec.Fleet(models={s.key: s for s in models.values()}, units=())
     ids, tags, model_ids, statuses, site_ids, dues = (list(c) for c in zip(*rows, strict=True))
     held = [uid in open_holds for uid in ids] if open_holds else [False] * len(ids)
-    index: dict[tuple, int] = {}
-    # each unit's state, numbered in the order first met: (model, status, site, due, held)
-    state_of = [index.setdefault(k, len(index))
-                for k in zip(model_ids, statuses, site_ids, dues, held, strict=True)]
+    # each unit's state, numbered in the order first met: (model, status, site, due, held);
+    # the loops over units are the dict and map builtins'
+    of_unit = list(zip(model_ids, statuses, site_ids, dues, held, strict=True))
+    index = {k: at for at, k in enumerate(dict.fromkeys(of_unit))}
+    state_of = list(map(index.__getitem__, of_unit))
+    first = dict(zip(reversed(state_of), range(len(of_unit) - 1, -1, -1), strict=True))
     states = []
-    first = {}
-    for i, at in enumerate(state_of):
-        if at not in first:
-            first[at] = i
-            if len(first) == len(index):
-                break
     for (model_id, status, site_id, due, on_hold), at in index.items():
         # a state's fields, checked once by UnitState itself (its check reads the status
         # alone, which the state holds); its units differ only by tag and history
