@@ -19,8 +19,11 @@ from datetime import date, datetime
 from hypothesis import HealthCheck, given, settings, strategies as st
 
 from registry.demo import demo_fleet_path
-from registry.engine.evaluate import evaluate
+from registry.engine.checks import SOLO_CHECKS, _touching_item, accessory_findings
+from registry.engine.derived import derive
+from registry.engine.evaluate import evaluate, findings_for
 from registry.engine.exhaustive import evaluate_exhaustive
+from registry.engine.setups import enumerate_setups
 from registry.engine.spec import Fleet, ModelSpec, PastEvent, Rating, UnitState
 from registry.formats.fleet import fleet_from_file
 
@@ -339,3 +342,28 @@ def test_setting_accessories_aside_on_the_demo_plans(fleet, name):
     assert _verdicts(pruned) == _verdicts(full)
     assert ({a.unit: (a.verdict, a.margin, _reason(a)) for a in pruned.accessories}
             == {a.unit: (a.verdict, a.margin, _reason(a)) for a in full.accessories})
+
+
+@settings(max_examples=80, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(accessory_fleets(), plans(), st.data())
+def test_an_accessory_brings_its_own_findings_and_nothing_else_of_its_ratings(fleet, plan,
+                                                                              data):
+    """What pruning rests on: in every setup, the findings of checks 2 to 4 and the tip rule on
+    an accessory are `accessory_findings` of it alone; and an accessory with other ratings,
+    altitude and tip exposure (the fields only those read) changes no other finding."""
+    derived = derive(plan)
+    for ctx in list(enumerate_setups(plan, derived, fleet.models.values()))[:40]:
+        found = findings_for(ctx)
+        for acc in ctx.accessories:
+            own = [f for f in found if f.check in SOLO_CHECKS and f.subject == acc.key]
+            assert own == accessory_findings(acc, plan, derived,
+                                             touching=_touching_item(ctx) is acc,
+                                             discharge_tool=ctx.is_discharge_tool)
+            other = dataclasses.replace(
+                acc, ratings=tuple(data.draw(st.lists(CATEGORY_RATINGS, max_size=2))),
+                tip_exposure=data.draw(EXPOSURES),
+                max_altitude=data.draw(st.sampled_from([2000.0, 5000.0])))
+            swapped = dataclasses.replace(ctx, **{"lead" if acc is ctx.lead else "tip": other})
+            rest = [f for f in found if not (f.check in SOLO_CHECKS and f.subject == acc.key)]
+            assert rest == [f for f in findings_for(swapped)
+                            if not (f.check in SOLO_CHECKS and f.subject == acc.key)]
