@@ -263,7 +263,7 @@ def _reason(a):
     return None if r is None else (r.check, r.status, r.margin)
 
 
-@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=100, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(accessory_fleets(), plans())
 def test_pruned_accessories_give_the_exhaustive_verdicts(fleet, plan):
     pruned, full = evaluate(plan, fleet), evaluate_exhaustive(plan, fleet)
@@ -283,7 +283,7 @@ def test_pruned_accessories_give_the_exhaustive_verdicts(fleet, plan):
             assert row.verdict in ("unverified", "unsuitable")
 
 
-@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=100, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(accessory_fleets(), plans())
 def test_setting_accessories_aside_changes_nothing_in_the_result(fleet, plan):
     """The models set aside before combining change no setup, offer, finding or tie: the
@@ -344,7 +344,7 @@ def test_setting_accessories_aside_on_the_demo_plans(fleet, name):
             == {a.unit: (a.verdict, a.margin, _reason(a)) for a in full.accessories})
 
 
-@settings(max_examples=80, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=50, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(accessory_fleets(), plans(), st.data())
 def test_an_accessory_brings_its_own_findings_and_nothing_else_of_its_ratings(fleet, plan,
                                                                               data):
