@@ -412,7 +412,8 @@ class Result:
     cautions: tuple[str, ...] = ()
     on: date | None = None
     accessories: Sequence[AccessoryResult] = ()
-    combinations: int = 0  # model combinations judged (after sharing copies of a model)
+    combinations: int = 0  # model combinations judged (after sharing copies of a model and
+    # setting aside the accessory models no choice can need)
 
     def setups_for(self, tag: str) -> tuple[SetupResult, ...]:
         """The setups whose instrument or accessory is the unit ``tag``."""
