@@ -2,7 +2,8 @@
 check 10 included): checks per model combination, then mapped onto units.
 
 The checks depend on the models (instrument, mode, accessories) and the plan only, so each
-combination is evaluated once however many units share it; units then bring their state
+combination is evaluated once however many units share it, and an accessory model that no
+choice can need is judged alone and not combined at all; units then bring their state
 (exclusions), their history (check 11), their site and verification date (ranking). Every
 accessory unit that could join a setup is listed with the best verdict it takes part in.
 """
@@ -489,10 +490,14 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
     under stand-in keys and the real keys put back into the findings someone reads; each
     combination is judged once and check 10 runs only for those that checks 1 to 9 leave
     standing, or that a unit's best setup ends up being; units of one model, site and (empty)
-    history share one choice. The verdict of every unit and mode is the one
+    history share one choice. Accessory models are judged alone first and only those a choice
+    or an offer can need are combined (:func:`_prune`; ``prune=False`` combines every one, to
+    the same result); of the kept combinations of one instrument, mode and accessory groups
+    one runs the checks and the others take its findings with their accessories' own
+    (:func:`_like`). The verdict of every unit and mode is the one
     :func:`~registry.engine.exhaustive.evaluate_exhaustive` gives (the property tests hold it
-    to that). With ``extra_checks`` every model is judged under its own key, so a check sees
-    the real keys.
+    to that). With ``extra_checks`` every model is judged under its own key and none is set
+    aside, so a check sees the real keys and every combination.
     """
     on = plan.on or date.today()
     derived = derive(plan)
