@@ -5,6 +5,7 @@ from __future__ import annotations
 import io
 import re
 from datetime import date, datetime
+from urllib.parse import quote
 
 import segno
 from flask import (Blueprint, Response, flash, redirect, render_template, request,
@@ -84,6 +85,27 @@ def category_choices():
     return {"category_choices": [(c, f"CAT {c}") for c in spec.MAINS_CATEGORIES]}
 
 
+def ratings_text(model) -> str:
+    """A model's ratings as the fleet list writes them ("CAT III 1 kV, 600 V (not mains)"),
+    made once per model and fleet version rather than for every row."""
+    parts = [f"{format_quantity(r.voltage, VOLTAGE)} (not mains)" if r.category == "none"
+             else f"CAT {r.category} {format_quantity(r.voltage, VOLTAGE)}"
+             for r in model.ratings]
+    return ", ".join(parts) or "—"
+
+
+# what werkzeug's default converter leaves unquoted in a path segment (BaseConverter.to_url)
+_SEGMENT_SAFE = "!$&'()*+,/:;=@"
+
+
+def unit_links():
+    """``url_for("fleet.unit", tag=...)`` for the many tags of a list: the route's prefix
+    built once, each tag quoted as the route's converter quotes it (a test holds the two to
+    the same address for awkward tags)."""
+    prefix = url_for("fleet.unit", tag="x")[:-1]
+    return lambda tag: prefix + quote(str(tag), safe=_SEGMENT_SAFE)
+
+
 def _overdue_today():
     """The engine's overdue rule for a unit row, on today's date."""
     today = date.today()
@@ -109,8 +131,10 @@ def index():
         total = kept_data("fleet count", count_key,
                           lambda: queries.fleet_count(db.session, filters, today))
         models = kept_data("model lines", None, lambda: queries.model_lines(db.session))
+        ratings = kept_data("ratings texts", None,
+                            lambda: {ml.key: ratings_text(ml) for ml in models.values()})
         result = queries.fleet_lines(db.session, filters, models, today, total)
-        return dict(result=result, typed=typed,
+        return dict(result=result, typed=typed, ratings=ratings, unit_url=unit_links(),
                     errors=errors, kinds=spec.KINDS, statuses=spec.UNIT_STATUSES,
                     sites=queries.site_names(db.session), link=link, sort=filters.sort,
                     desc=filters.desc, overdue=_overdue_today())

@@ -117,3 +117,25 @@ def test_a_kept_page_knows_the_role_and_nothing_of_the_person():
     assert user.may("viewer") and user.may("technician") and not user.may("steward")
     with pytest.raises(AttributeError):
         user.display_name  # noqa: B018 - reading it is the point
+
+
+def test_fleet_list_rows_as_the_fleet_file_gives_them(client, demo):
+    # the ratings as the fleet file states them (seeddata/fleet.yaml): kx-7 CAT III 900 V and
+    # CAT IV 500 V; the tm-sc2 bench oscilloscope 300 V with no measurement category, which
+    # the list writes as not for mains
+    login_as(client, "viewer")
+    page = _get(client, "/", q="NB-000")
+    row = page[page.index('href="/units/NB-0001"'):]
+    row = row[:row.index("</tr>")]
+    assert "CAT III 900 V, CAT IV 500 V" in row and "status-in-service" in row
+    scope = page[page.index('href="/units/NB-0006"'):]
+    assert "300 V (not mains)" in scope[:scope.index("</tr>")]
+
+
+@pytest.mark.parametrize("tag", ["NB-0001", "a b", "x/y", "ü-1", "50%", "q?r#s", "a&b;c"])
+def test_unit_links_are_the_routes_own(app, tag):
+    from flask import url_for
+
+    from registry.web.fleet import unit_links
+    with app.test_request_context("/"):
+        assert unit_links()(tag) == url_for("fleet.unit", tag=tag)
