@@ -12,6 +12,7 @@ from flask import (Blueprint, Response, flash, redirect, render_template, reques
                    url_for)
 from flask_login import current_user
 from markupsafe import Markup, escape
+from sqlalchemy.orm import joinedload
 
 from ..engine import rules, spec
 from ..engine.quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, POWER, RESISTANCE, TIME,
@@ -148,12 +149,15 @@ def index():
 @role_required("viewer")
 def unit(tag: str):
     def context() -> dict:
-        row = unit_or_404(tag)  # a 404 is raised before anything is kept
-        hold = next((h for h in row.holds if h.released_at is None), None)
+        row = unit_or_404(tag, joinedload(m.Unit.site))  # a 404 before anything is kept
+        timeline = queries.unit_timeline(db.session, row)
+        # the open hold, from the holds the timeline read (the first opened, as row.holds)
+        hold = min((e.row for e in timeline
+                    if e.kind == "hold-opened" and e.row.released_at is None),
+                   key=lambda h: h.id, default=None)
         models = kept_data("model lines", None, lambda: queries.model_lines(db.session))
         return dict(unit=row, model=models[row.model_id], hold=hold,
-                    spec_part=model_part(row.model_id),
-                    timeline=queries.unit_timeline(db.session, row))
+                    spec_part=model_part(row.model_id), timeline=timeline)
     return page("fleet/unit.html", context)
 
 

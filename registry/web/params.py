@@ -20,10 +20,11 @@ from .forms import FieldErrors, quantity_or_none
 from .limits import check_texts, control_problem, int_arg
 
 
-def unit_or_404(tag: str) -> m.Unit:
+def unit_or_404(tag: str, *options) -> m.Unit:
+    """The unit with ``tag`` (loaded with the ORM ``options`` given), or a 404."""
     if control_problem(tag, multiline=False):
         abort(404)  # no tag holds a control character (and PostgreSQL refuses a NUL)
-    row = db.session.scalar(select(m.Unit).where(m.Unit.tag == tag))
+    row = db.session.scalar(select(m.Unit).where(m.Unit.tag == tag).options(*options))
     if row is None:
         abort(404)
     return row
