@@ -224,7 +224,7 @@ def result():
             return _form(fields, errors, 400)
         return result_context(res, fleet, fields)
 
-    return page("checks/result.html", context)
+    return page("checks/result.html", context, large=True)
 
 
 GRID_ROWS = 100  # instrument units in the verdict grid at once

@@ -39,7 +39,8 @@ from ..store.versions import fleet_version
 from .access import ROLE_RANK
 from .result_cache import ResultCache
 
-PAGES_KEPT = 512  # rendered pages (the result pages are cut to a few hundred kB at most)
+PAGES_KEPT = 512  # rendered pages of tens of kB (a fleet page, a unit page, the dashboard)
+LARGE_PAGES_KEPT = 48  # pages of up to a few hundred kB (a check result): about 16 MB
 
 
 @dataclass(frozen=True)
@@ -70,8 +71,11 @@ class _Answer(Exception):  # noqa: N818 - not an error: carries a response past 
         self.response = response
 
 
-def pages() -> ResultCache:
-    """The app's kept pages."""
+def pages(large: bool = False) -> ResultCache:
+    """The app's kept pages (``large``: those of a few hundred kB, kept fewer)."""
+    if large:
+        return current_app.extensions.setdefault("withstand.large_pages",
+                                                 ResultCache(LARGE_PAGES_KEPT))
     return current_app.extensions.setdefault("withstand.pages", ResultCache(PAGES_KEPT))
 
 
@@ -119,10 +123,11 @@ def _render_blocks(template: str, context: dict) -> Kept:
     return Kept(Markup(title.strip()), Markup(content))
 
 
-def page(template: str, compute: Callable[[], object], *extra):
+def page(template: str, compute: Callable[[], object], *extra, large: bool = False):
     """The page ``template`` for this request, its own part kept per :func:`page_key`
-    (``extra``: anything else it depends on). ``compute`` gives the template's context (a
-    dict), or a response of its own, which is answered as it is and not kept."""
+    (``extra``: anything else it depends on; ``large``: a page of a few hundred kB, kept in
+    the smaller store). ``compute`` gives the template's context (a dict), or a response of
+    its own, which is answered as it is and not kept."""
     def render() -> Kept:
         context = compute()
         if not isinstance(context, dict):
@@ -130,7 +135,7 @@ def page(template: str, compute: Callable[[], object], *extra):
         return _render_blocks(template, context)
 
     try:
-        kept = pages().get(page_key(*extra), render)
+        kept = pages(large).get(page_key(*extra), render)
     except _Answer as answer:
         return answer.response
     return render_template("_page.html", kept=kept)

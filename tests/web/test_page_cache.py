@@ -17,8 +17,8 @@ from registry.web.page_cache import RoleOnly
 
 def _kept(app) -> int:
     """How many pages were rendered to be kept (each a miss)."""
-    cache = app.extensions.get("withstand.pages")
-    return cache.computed if cache else 0
+    caches = (app.extensions.get(k) for k in ("withstand.pages", "withstand.large_pages"))
+    return sum(c.computed for c in caches if c)
 
 
 def _main(page: str) -> str:
