@@ -305,7 +305,8 @@ def _prune(plan: Plan, derived, reps: list[ModelSpec], pools: dict[int, list[_Co
     before it, so that a tie goes the same way). Both hold whatever the rest of a setup holds,
     and the model that dominates hands out a unit without history, so the choices and offers of
     the kept models are those over all of them. The set-aside models' own offers are judged on
-    their group's kept setups with their own findings put in (:func:`_swapped_part`)."""
+    their group's kept setups with their own findings put in (``swapped`` in
+    :func:`evaluate`)."""
     tools = sorted({r.kind == "discharge-tool" for r in reps if r.is_instrument})
     groups: dict[tuple, list[int]] = {}
     for rid, r in enumerate(reps):
