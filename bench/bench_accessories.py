@@ -114,7 +114,7 @@ def main(argv=None) -> None:
           f"({sliced.combinations} combinations): ratio {slice_whole / slice_pruned:.1f}x, "
           f"the same result")
     print(f"  every accessory combined on the whole lab, at that cost per combination: about "
-          f"{projected:.0f} s, against {pruned:.3f} s: ratio {projected / pruned:.0f}x")
+          f"{projected:.3g} s, against {pruned:.3f} s: ratio {projected / pruned:.0f}x")
 
 
 if __name__ == "__main__":
