@@ -701,6 +701,10 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
         # what the units of one model share (their findings too): each unit adds its tag
         # and verification due to it
         of_model: dict[str, dict] = {}
+        # sort_key = rank_of_setup + rank_of_unit (-due, tag, mode, accessories): the part
+        # after the tag is the group's, the part before it the group's and the due's
+        tail = rank_of_unit(None, "", mode_key, acc_tags)[2:]
+        by_due: dict = {}
         for c in members:
             mkey = c.state.model
             fields = of_model.get(mkey)
@@ -709,10 +713,10 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
                     common, instrument_model=mkey,
                     found=Findings(shared_text(combo, mkey, acc_models), extra_t))
             due = c.state.verification_due
-            # sort_key = rank_of_setup + rank_of_unit (-due, tag, mode, accessories)
-            by_unit = rank_of_unit(due, "", mode_key, acc_tags)
-            setups.add(rank + by_unit[:1], by_unit[2:], c.tags,
-                       dict(fields, verification_due=due))
+            ahead = by_due.get(due)
+            if ahead is None:
+                ahead = by_due[due] = rank + rank_of_unit(due, "", mode_key, acc_tags)[:1]
+            setups.add(ahead, tail, c.tags, (fields, due))
 
     # -- accessory units: the best setup each takes part in ------------------------------------
     acc_groups: dict[tuple[int, str | None], list[_Cohort]] = {}
@@ -859,12 +863,15 @@ def evaluate(plan: Plan, fleet: Fleet, *, extra_checks: Sequence[ExtraCheck] = (
 
 
 def _setup_of(fields, tag: str) -> SetupResult:
-    """The setup of the instrument unit ``tag`` from the fields its run shares, made without
+    """The setup of the instrument unit ``tag`` from the fields its run shares (those of its
+    group and model, and its cohort's verification due), made without
     the frozen dataclass's per-field setattr (SetupResult checks nothing in its __init__)."""
+    shared, due = fields
     out = object.__new__(SetupResult)
     d = out.__dict__
-    d.update(fields)
+    d.update(shared)
     d["instrument"] = tag
+    d["verification_due"] = due
     return out
 
 
