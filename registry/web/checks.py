@@ -16,7 +16,7 @@ from flask import Blueprint, Response, abort, render_template, request, url_for
 
 from ..engine.result import VERDICT_ORDER, format_ratio, margin_ratio
 from ..engine.spec import PLAN_WAVEFORMS, SUPPLIES, TASKS
-from ..errors import InvalidInput
+from ..errors import InvalidInput, shown
 from ..extensions import db
 from ..formats.common import not_utf8, parse_date, parse_text
 from ..plans import CIRCUIT_QUANTITIES, FORMAT
@@ -251,48 +251,70 @@ def paged(items: list, number: int, size: int) -> Paged:
     return Paged(items[start:start + size], number, pages, len(items), start)
 
 
-def _verdict_arg(name: str) -> str:
-    """A verdict to filter by, or "" for none; any other text is a 400."""
-    value = request.args.get(name, "")
-    if value and value not in VERDICT_ORDER:
-        abort(400)
-    return value
+LIST_VERDICTS = ("grid", "acc")  # filters by verdict
+LIST_PAGES = ("rank", "grid_page", "acc_page", "ex_page")  # page numbers, from 1
+
+
+def list_args(errors: FieldErrors) -> dict:
+    """The result page's list arguments: a verdict (or "") for each of ``LIST_VERDICTS``, a
+    whole number for each of ``LIST_PAGES`` (1 when blank); each problem named by its
+    argument in ``errors``."""
+    out: dict = {}
+    for name in LIST_VERDICTS:
+        value = request.args.get(name, "")
+        if value and value not in VERDICT_ORDER:
+            errors.add("_form", f"{name}: '{shown(value)}' is not a verdict; it is one of "
+                                f"{', '.join(VERDICT_ORDER)}")
+            value = ""
+        out[name] = value
+    for name in LIST_PAGES:
+        try:
+            out[name] = int_arg(request.args, name, 1)
+        except InvalidInput as exc:
+            for p in exc.problems:
+                errors.add("_form", f"{name}: {p.message}")
+            out[name] = 1
+    return out
 
 
 def result_context(res, fleet, fields) -> dict:
     """What the result page shows of ``res``: the plots, and each long list's page (chosen by
     the query: ``rank``, ``grid_page``, ``acc_page``, ``ex_page``) and filter (``grid``
     with ``grid_mode``, ``acc``, ``ex``), with the counts by verdict and by reason."""
+    errors = FieldErrors()
+    args = list_args(errors)
+    if errors:  # the plan was fine, a list's argument was not: the form says which
+        return _form(fields, errors, 400)
     show_all = request.args.get("all") == "1" and len(res.setups) <= ALL_AT_ONCE
     paths = discharge_paths(res, fleet)
     plots = [{"path": p, "index": i, "outcome": p.profile.outcome()}
              for i, p in enumerate(paths, 1)]
     grid = verdict_grid(res.setups)
-    grid_verdict, grid_mode = _verdict_arg("grid"), request.args.get("grid_mode", "")
+    grid_verdict, grid_mode = args["grid"], request.args.get("grid_mode", "")
     units = grid["units"]
     if grid_verdict:
         modes = [grid_mode] if grid_mode else list(grid["modes"])
         units = [u for u in units if any(grid["cells"].get((u, k)) == grid_verdict
                                          for k in modes)]
-    acc_verdict = _verdict_arg("acc")
+    acc_verdict = args["acc"]
     accessories = [a for a in res.accessories if not acc_verdict or a.verdict == acc_verdict]
     reasons: dict[str, list] = {}
     for e in res.excluded:
         reasons.setdefault(e.reason, []).append(e)
     ex_reason = request.args.get("ex", "")
-    ranked = paged(list(res.setups), 1 if show_all else _index_arg("rank"),
+    ranked = paged(list(res.setups), 1 if show_all else args["rank"],
                    ALL_AT_ONCE if show_all else SHOWN)
     return dict(r=res, f=fields, show_all=show_all, needs_has=needs_has_svg,
-                grid=grid, grid_units=paged(units, _index_arg("grid_page"), GRID_ROWS),
+                grid=grid, grid_units=paged(units, args["grid_page"], GRID_ROWS),
                 grid_whole=len(grid["units"]) <= GRID_ROWS, grid_verdict=grid_verdict,
                 grid_mode=grid_mode, grid_counts=grid_counts(grid),
                 ranked=ranked, shown=SHOWN, all_at_once=ALL_AT_ONCE,
-                acc=paged(accessories, _index_arg("acc_page"), LIST_ROWS),
+                acc=paged(accessories, args["acc_page"], LIST_ROWS),
                 acc_whole=len(res.accessories) <= LIST_ROWS, acc_verdict=acc_verdict,
                 acc_counts={v: sum(1 for a in res.accessories if a.verdict == v)
                             for v in VERDICT_ORDER},
                 reasons=reasons, ex_reason=ex_reason,
-                ex=paged(reasons.get(ex_reason, []), _index_arg("ex_page"), LIST_ROWS),
+                ex=paged(reasons.get(ex_reason, []), args["ex_page"], LIST_ROWS),
                 ex_inline=EXCLUDED_INLINE, plots=plots, models=fleet.models,
                 query=_query(fields), link=_result_link)
 

@@ -134,13 +134,18 @@ def test_units_not_offered_counted_by_reason_each_with_its_list(client, demo, sm
             assert f"/units/{tags[0]}" in item
 
 
-def test_a_filter_that_is_no_verdict_is_refused(client, demo):
+def test_a_filter_that_is_no_verdict_is_refused_naming_it(client, demo):
     login_as(client, "viewer")
     for arg in ("grid", "acc"):
         response = client.get("/checks/result", query_string=dict(MAINS_PLAN, **{arg: "fine"}))
         assert response.status_code == 400
-    bad = client.get("/checks/result", query_string=dict(MAINS_PLAN, rank="two"))
-    assert bad.status_code == 400
+        page = html.unescape(response.get_data(as_text=True))
+        assert f"{arg}: 'fine' is not a verdict" in page
+        assert 'value="480 V"' in page  # the plan as typed, on its form
+    for arg in ("rank", "grid_page", "acc_page", "ex_page"):
+        bad = client.get("/checks/result", query_string=dict(MAINS_PLAN, **{arg: "two"}))
+        assert bad.status_code == 400
+        assert f"{arg}: " in html.unescape(bad.get_data(as_text=True))
 
 
 def test_ranked_pages_keep_the_job_card_numbers(client, demo, monkeypatch):
