@@ -206,22 +206,36 @@ def engine_fleet(session: Session) -> spec.Fleet:
     keys = {i: s.key for i, s in models.items()}
     if not rows:
         return spec.Fleet(models={s.key: s for s in models.values()}, units=())
-    ids, tags, model_ids, statuses, site_ids, dues = (list(c) for c in zip(*rows, strict=True))
-    held = [uid in open_holds for uid in ids] if open_holds else [False] * len(ids)
+    ids, tag_column, model_ids, statuses, site_ids, dues = zip(*rows, strict=True)
+    tags = list(tag_column)
+    del rows
     # each unit's state, numbered in the order first met: (model, status, site, due, held);
     # the loops over units are the dict and map builtins'
-    of_unit = list(zip(model_ids, statuses, site_ids, dues, held, strict=True))
+    if open_holds:
+        held = [uid in open_holds for uid in ids]
+        of_unit = list(zip(model_ids, statuses, site_ids, dues, held, strict=True))
+    else:  # no unit is held: the same states without the flag
+        of_unit = list(zip(model_ids, statuses, site_ids, dues, strict=True))
     index = {k: at for at, k in enumerate(dict.fromkeys(of_unit))}
     state_of = list(map(index.__getitem__, of_unit))
     first = dict(zip(reversed(state_of), range(len(of_unit) - 1, -1, -1), strict=True))
     states = []
-    for (model_id, status, site_id, due, on_hold), at in index.items():
-        # a state's fields, checked once by UnitState itself (its check reads the status
-        # alone, which the state holds); its units differ only by tag and history
-        states.append(spec.UnitState(
-            tag=tags[first[at]], model=keys[model_id], status=status, site=sites.get(site_id),
-            verification_due=due if due_of is None or due is None else due_of(due),
-            open_hold=on_hold))
+    day: dict = {None: None}  # each distinct due through the column's processor once
+    new = object.__new__
+    for k, at in index.items():
+        model_id, status, site_id, due = k[:4]
+        on_hold = bool(open_holds) and k[4]
+        # a state's fields as UnitState's __init__ sets them (without the frozen dataclass's
+        # per-field setattr), checked by its own __post_init__ (it reads the status); the
+        # units of a state differ only by tag and history
+        if due not in day:
+            day[due] = due if due_of is None else due_of(due)
+        state = new(spec.UnitState)
+        state.__dict__.update(tag=tags[first[at]], model=keys[model_id], status=status,
+                              site=sites.get(site_id), verification_due=day[due],
+                              open_hold=on_hold, history=())
+        state.__post_init__()
+        states.append(state)
     histories = {i: tuple(history[uid]) for i, uid in enumerate(ids) if uid in history} \
         if history else {}
     units = spec.UnitRows(states, tags, state_of, histories)
