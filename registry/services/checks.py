@@ -52,11 +52,15 @@ def run_check(plan: Plan, fleet: Fleet) -> Result:
         return evaluate(plan, fleet)
 
 
-def check_registry(plan: Plan, session: Session) -> Result:
+def check_registry(plan: Plan, session: Session, *, solves: list | None = None) -> Result:
     """The whole check of ``plan`` against the fleet in the database, its front-end solves
-    read from and kept in the database's solve cache (:mod:`registry.store.solves`)."""
+    read from and kept in the database's solve cache (:mod:`registry.store.solves`). Given a
+    list, ``solves`` gets the check's store (how many solves it looked up, found and wrote:
+    the bench says where its solves came from)."""
     from ..store.solves import kept_solves
     with _collector_paused():
         fleet = engine_fleet(session)
-        with kept_solves(session.get_bind().engine):
+        with kept_solves(session.get_bind().engine) as store:
+            if solves is not None:
+                solves.append(store)
             return run_check(plan, fleet)

@@ -1,13 +1,15 @@
-"""Keeping solves beyond the process: a small pluggable store for the results of the costly
-front-end integrations, looked up by a content hash.
+"""Keeping solves beyond the process: a small pluggable store for the results of the front-end
+solves (the steady state, the impulse and the discharge integration of check 10), looked up by
+a content hash.
 
 The engine knows nothing of where the store keeps them. Whoever runs a check may plug in an
-object with ``get(key) -> str | None`` and ``put(key, text)`` for the duration of the check
+object with ``get(key) -> str | None`` and ``put(key, text, kind)`` for the duration of the check
 (:func:`using_store`); the database's implementation is ``registry.store.solves``, so the
 CLI and the web share their solves, and a cold process reads a solve another one made instead
 of integrating again. Without a store the in-process caches alone apply.
 
-The key is the SHA-256 of the canonical JSON of: what is solved (``discharge``), the netlist
+The key is the SHA-256 of the canonical JSON of: what is solved (``steady``, ``impulse`` or
+``discharge``), the netlist
 (every element with its type, nodes and parameters; the driven and return terminals; the
 switches closed in the mode), the scenario's values as exact float text, and a digest of the
 engine's own solver source, so a changed solver never reads a result of the old one.
@@ -31,7 +33,7 @@ T = TypeVar("T")
 class SolveStore(Protocol):
     def get(self, key: str) -> str | None: ...
 
-    def put(self, key: str, text: str) -> None: ...
+    def put(self, key: str, text: str, kind: str) -> None: ...
 
 
 _store: ContextVar[SolveStore | None] = ContextVar("withstand_solve_store", default=None)
@@ -59,9 +61,11 @@ def netlist_doc(net: Netlist) -> dict:
 
 
 def solve_key(kind: str, net: Netlist, values: tuple) -> str:
-    """The content hash of one solve: ``kind``, the netlist and the scenario's ``values``."""
+    """The content hash of one solve: ``kind``, the netlist and the scenario's ``values``
+    (floats as their exact text, None, or a text such as the waveform)."""
     doc = {"kind": kind, "solver": SOLVER_DIGEST, "net": netlist_doc(net),
-           "values": [None if v is None else repr(float(v)) for v in values]}
+           "values": [None if v is None else v if isinstance(v, str) else repr(float(v))
+                      for v in values]}
     text = json.dumps(doc, sort_keys=True, separators=(",", ":"))
     return hashlib.sha256(text.encode("utf-8")).hexdigest()
 
@@ -81,5 +85,5 @@ def stored(kind: str, net: Netlist, values: tuple, compute: Callable[[], T],
         except (ValueError, TypeError, KeyError):
             pass  # not a result this code can read: solved again below
     result = compute()
-    store.put(key, dump(result))
+    store.put(key, dump(result), kind)
     return result

@@ -210,10 +210,77 @@ def _tube_notes(net: Netlist, key: str) -> list[tuple[str, str]]:
     return out
 
 
+# -- kept solves: the results as JSON text and back (floats by repr, so exact) -------------
+
+def _state_doc(st: State) -> dict:
+    return {"ptc": [list(p) for p in st.ptc], "arcs": [list(a) for a in st.arcs],
+            "blown": sorted(st.blown)}
+
+
+def _state_of(d: dict) -> State:
+    return State(tuple((str(i), float(r)) for i, r in d["ptc"]),
+                 tuple((str(i), float(v)) for i, v in d["arcs"]), frozenset(d["blown"]))
+
+
+def _solution_doc(sol: Solution) -> dict:
+    """A solve without its warm-start data (``raw``), which only a solve's next step reads."""
+    return {"node_voltage": sol.node_voltage, "voltage": sol.voltage, "current": sol.current,
+            "source_current": sol.source_current, "iterations": sol.iterations}
+
+
+def _solution_of(d: dict) -> Solution:
+    return Solution(dict(d["node_voltage"]), dict(d["voltage"]), dict(d["current"]),
+                    float(d["source_current"]), int(d["iterations"]))
+
+
+def _event_of(d: dict) -> Event:
+    return Event(d["element"], d["text"], d["time"], d["current"], dict(d["cold_powers"]))
+
+
+def _dump_steady(res: SteadyResult) -> str:
+    snaps = [{"label": s.label, "state": _state_doc(s.state), "heat": _solution_doc(s.heat),
+              "peak": None if s.peak is s.heat else _solution_doc(s.peak)}
+             for s in res.snapshots]
+    return json.dumps({"snapshots": snaps, "events": [dataclasses.asdict(e) for e in res.events],
+                       "notes": res.notes})
+
+
+def _load_steady(text: str) -> SteadyResult:
+    d = json.loads(text)
+    snaps = []
+    for s in d["snapshots"]:
+        heat = _solution_of(s["heat"])
+        peak = heat if s["peak"] is None else _solution_of(s["peak"])
+        snaps.append(Snapshot(str(s["label"]), _state_of(s["state"]), heat, peak))
+    return SteadyResult(snaps, [_event_of(e) for e in d["events"]],
+                        [(str(i), str(t)) for i, t in d["notes"]])
+
+
+def _dump_impulse(res: ImpulseResult) -> str:
+    return json.dumps({"solution": _solution_doc(res.solution), "state": _state_doc(res.state),
+                       "notes": res.notes})
+
+
+def _load_impulse(text: str) -> ImpulseResult:
+    d = json.loads(text)
+    return ImpulseResult(_solution_of(d["solution"]), _state_of(d["state"]),
+                         [(str(i), str(t)) for i, t in d["notes"]])
+
+
 # -- 1. steady --------------------------------------------------------------------------------
 
 def steady(net: Netlist, voltage: float, waveform: str, rs: float | None,
            duration: float) -> SteadyResult:
+    """:func:`solve_steady`, or the same solve kept by a plugged-in store (:mod:`.cache`),
+    keyed by the netlist (its switches closed in the mode included) and these values."""
+    from .cache import stored
+    return stored("steady", net, (voltage, waveform, rs, duration),
+                  lambda: solve_steady(net, voltage, waveform, rs, duration),
+                  _dump_steady, _load_steady)
+
+
+def solve_steady(net: Netlist, voltage: float, waveform: str, rs: float | None,
+                 duration: float) -> SteadyResult:
     """The working voltage behind the source impedance: PTCs cold first; a PTC whose current
     exceeds its trip current trips after the adiabatic trip time (if within ``duration``), a
     fuse whose current exceeds its rating opens; solve again until nothing changes."""
@@ -305,6 +372,13 @@ class ImpulseResult:
 
 
 def impulse(net: Netlist, peak: float, rg: float | None) -> ImpulseResult:
+    """:func:`solve_impulse`, or the same solve kept by a plugged-in store (:mod:`.cache`)."""
+    from .cache import stored
+    return stored("impulse", net, (peak, rg), lambda: solve_impulse(net, peak, rg),
+                  _dump_impulse, _load_impulse)
+
+
+def solve_impulse(net: Netlist, peak: float, rg: float | None) -> ImpulseResult:
     """The expected transient's peak behind the generator impedance, PTCs cold, solved at the
     peak (the elements are taken as resistive at the 1.2/50 us wave's time scale)."""
     notes = _tube_notes(net, "sparkover_impulse")
