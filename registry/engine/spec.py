@@ -10,8 +10,6 @@ takes them as they are and touches neither.
 
 from __future__ import annotations
 
-import copy
-
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass, field
@@ -277,8 +275,13 @@ class ModelSpec:
         is new, so only the key is checked."""
         if not key:
             raise SpecError("model.key must not be empty")
-        out = copy.copy(self)
-        object.__setattr__(out, "key", key)
+        # what copy.copy makes of it (a new object holding the same fields), without its
+        # generic reduce and reconstruct: a lab's copies of its models and the check's
+        # stand-in keys make hundreds of these
+        out = object.__new__(type(self))
+        fields = out.__dict__
+        fields.update(self.__dict__)
+        fields["key"] = key
         return out
 
 
