@@ -117,11 +117,10 @@ def _form(fields, errors, status=200):
                            sites=queries.site_names(db.session), examples=EXAMPLES), status
 
 
-def check_with_fleet(session, doc, on):
-    """The shared job check (check 10 included), with the fleet it ran against, whose models
-    the discharge curves and the job card need; a result already computed for this plan on
-    this fleet version is reused (:mod:`.result_cache`)."""
-    plan = plan_from(doc, session, on)
+def check_with_fleet(session, plan):
+    """The shared job check (check 10 included) of ``plan``, with the fleet it ran against,
+    whose models the discharge curves and the job card need; a result already computed for
+    this plan on this fleet version is reused (:mod:`.result_cache`)."""
 
     def check():
         fleet = engine_fleet(session)
@@ -141,13 +140,16 @@ def checked(fields: dict):
         return None, None, errors
     on = parse_on(fields["on"], errors)
     try:
-        result, fleet = check_with_fleet(db.session, doc_from_fields(fields), on)
+        plan = plan_from(doc_from_fields(fields), db.session, on)
     except InvalidInput as exc:
         for p in exc.problems:
             errors.add(field_of(p.path), p.message)
         return None, None, errors
     if errors:
+        # a refused request runs no check: the check keeps its solves in the database, and a
+        # refused request writes nothing (the plan's own problems are reported beside these)
         return None, None, errors
+    result, fleet = check_with_fleet(db.session, plan)
     return result, fleet, errors
 
 
