@@ -5,7 +5,7 @@ from __future__ import annotations
 import io
 import re
 from datetime import date, datetime
-from urllib.parse import quote
+from urllib.parse import quote, urlencode
 
 import segno
 from flask import (Blueprint, Response, flash, redirect, render_template, request,
@@ -107,6 +107,57 @@ def unit_links():
     return lambda tag: prefix + quote(str(tag), safe=_SEGMENT_SAFE)
 
 
+# what werkzeug's url_for leaves unquoted in a query string (werkzeug.urls._urlencode)
+_QUERY_SAFE = "!$'()*,/:;?@"
+
+
+def list_links(endpoint: str, typed: dict):
+    """``link(**changes)``: ``url_for(endpoint, ...)`` of the list's arguments as typed with
+    ``changes`` over them (a value of ``""`` or ``None`` left out), for the many sort and page
+    links of a list: the route's address built once, the query encoded as url_for encodes it
+    (a test holds the two to the same address for awkward text)."""
+    base = url_for(endpoint)
+    kept = {k: v for k, v in typed.items() if v}
+
+    def link(**changes) -> str:
+        args = {**kept, **changes}
+        items = [(k, v) for k, v in args.items() if v not in ("", None)]
+        return base + "?" + urlencode(items, safe=_QUERY_SAFE) if items else base
+    return link
+
+
+_OVERDUE_MARK = ' <span class="overdue"><span aria-hidden="true">⚠</span> overdue</span>'
+
+
+def model_cells(model: queries.ModelLine) -> Markup:
+    """A model's cells in a fleet list row (maker and name, kind, ratings), escaped; made
+    once per model and fleet version rather than for every row."""
+    return Markup(f"<td>{escape(model.maker)} {escape(model.name)}</td>"
+                  f"<td>{escape(model.kind)}</td><td>{escape(ratings_text(model))}</td>")
+
+
+def fleet_rows(units, cells: dict, unit_url, overdue) -> Markup:
+    """The fleet list's rows (``fleet/index.html`` places them): per unit its tag as a link
+    to its page, its model's ``cells`` (:func:`model_cells`, by model key), site, status and
+    verification due with the overdue mark (``overdue``: the engine's rule on today's date).
+    Written here rather than in the template, where each of the 50 rows cost a dozen filter
+    and escape calls; every text is escaped as the template would (tests/web/test_security.py
+    puts markup in every stored field)."""
+    dues: dict = {}
+    out = []
+    for u in units:
+        due = u.verification_due
+        shown = dues.get(due)
+        if shown is None:
+            shown = dues[due] = when_filter(due)
+        status = escape(u.status)
+        out.append(f'<tr><td class="tag"><a href="{escape(unit_url(u.tag))}">{escape(u.tag)}'
+                   f'</a></td>{cells[u.model.key]}<td>{escape(u.site_name or "—")}</td>'
+                   f'<td><span class="status status-{status}">{status}</span></td>'
+                   f'<td class="date">{shown}{_OVERDUE_MARK if overdue(u) else ""}</td></tr>\n')
+    return Markup("".join(out))
+
+
 def _overdue_today():
     """The engine's overdue rule for a unit row, on today's date."""
     today = date.today()
@@ -121,28 +172,36 @@ def index():
     filters, typed = fleet_query(request.args, errors)
     filters.size = current_app.config.get("FLEET_PAGE_SIZE", 50)
 
-    def link(**changes):
-        args = {k: v for k, v in typed.items() if v}
-        args.update({k: v for k, v in changes.items()})
-        return url_for("fleet.index", **{k: v for k, v in args.items() if v not in ("", None)})
-
     def context() -> dict:
         today = date.today()
         count_key = (tuple(sorted(vars(filters).items() - {("page", filters.page)})), today)
         total = kept_data("fleet count", count_key,
                           lambda: queries.fleet_count(db.session, filters, today))
         models = kept_data("model lines", None, lambda: queries.model_lines(db.session))
-        ratings = kept_data("ratings texts", None,
-                            lambda: {ml.key: ratings_text(ml) for ml in models.values()})
+        cells = kept_data("model cells", None,
+                          lambda: {ml.key: model_cells(ml) for ml in models.values()})
         result = queries.fleet_lines(db.session, filters, models, today, total)
-        return dict(result=result, typed=typed, ratings=ratings, unit_url=unit_links(),
-                    errors=errors, kinds=spec.KINDS, statuses=spec.UNIT_STATUSES,
-                    sites=queries.site_names(db.session), link=link, sort=filters.sort,
-                    desc=filters.desc, overdue=_overdue_today())
+        rows = fleet_rows(result.units, cells, unit_links(), _overdue_today())
+        return dict(result=result, rows=rows, filters_form=filters_form(typed, errors),
+                    link=list_links("fleet.index", typed), sort=filters.sort,
+                    desc=filters.desc)
 
     if errors:  # a 400 that names the field is rendered as it is, never kept
         return render_template("fleet/index.html", **context()), 400
     return page("fleet/index.html", context)
+
+
+def filters_form(typed: dict, errors: FieldErrors) -> Markup:
+    """The fleet list's filter form (``fleet/_filters.html``) with the text as typed: kept per
+    query and fleet version (the sites it offers) for every page of a list; rendered afresh
+    when a field was refused, to show the problem beside it."""
+    def render() -> Markup:
+        return shared_part("fleet/_filters.html", typed=typed, errors=errors,
+                           kinds=spec.KINDS, statuses=spec.UNIT_STATUSES,
+                           sites=queries.site_names(db.session))
+    if errors:
+        return render()
+    return kept_data("fleet filters", tuple(typed.items()), render)
 
 
 @bp.route("/units/<tag>")

@@ -139,3 +139,20 @@ def test_unit_links_are_the_routes_own(app, tag):
     from registry.web.fleet import unit_links
     with app.test_request_context("/"):
         assert unit_links()(tag) == url_for("fleet.unit", tag=tag)
+
+
+@pytest.mark.parametrize("typed", [{}, {"q": "a b&c", "site": "ü/x?y#z"},
+                                   {"q": "50%+1", "dir": "desc"},
+                                   {"voltage": "600 V", "sort": "due", "kind": ""}])
+@pytest.mark.parametrize("changes", [{}, {"page": 3}, {"sort": "tag", "dir": "asc", "page": None},
+                                     {"q": ""}])
+def test_list_links_are_url_for_of_the_same_arguments(app, typed, changes):
+    from flask import url_for
+
+    from registry.web.fleet import list_links
+    with app.test_request_context("/"):
+        args = {k: v for k, v in typed.items() if v}
+        args.update(changes)
+        expected = url_for("fleet.index",
+                           **{k: v for k, v in args.items() if v not in ("", None)})
+        assert list_links("fleet.index", typed)(**changes) == expected

@@ -88,6 +88,8 @@ def test_hostile_text_is_escaped_in_every_stored_field(client, demo):
         assert "<img src=x" not in page, path
     unit_page = client.get("/units/NB-0001").get_data(as_text=True)
     assert "&lt;script&gt;alert" in unit_page  # shown, as text
+    listed = client.get("/?q=NB-0001").get_data(as_text=True)  # the maker, name and site
+    assert listed.count("&lt;script&gt;alert") >= 3
     # the job card and the drawing and the plot carry the title and labels too
     card = client.get("/checks/card?" + "&".join(f"{k}={v}" for k, v in dict(
         DISCHARGE_PLAN, title=HOSTILE).items())).get_data(as_text=True)
