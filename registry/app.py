@@ -52,9 +52,28 @@ def register_blueprints(app: Flask) -> None:
     for module in (auth, fleet, dashboard, library, checks, events, audit, rulebook, users, api):
         app.register_blueprint(module.bp)
 
+    navigations: dict = {}
+
+    def navigation(role: str):
+        """The navigation bar of ``role`` on this request's page (``_nav.html``), rendered
+        once per role, endpoint and script root: it names no user and holds no token."""
+        from flask import render_template, request
+        from markupsafe import Markup
+
+        from .web.access import ROLE_RANK
+        key = (role, request.endpoint, request.script_root)
+        html = navigations.get(key)
+        if html is None:
+            if len(navigations) > 1000:  # roles x endpoints: never near this; a bound all the same
+                navigations.clear()
+            html = navigations[key] = Markup(render_template(
+                "_nav.html", nav_endpoints=app.view_functions,
+                may=lambda needed: ROLE_RANK[role] >= ROLE_RANK[needed]).strip())
+        return html
+
     @app.context_processor
-    def navigation():
-        return {"nav_endpoints": app.view_functions}
+    def frame():
+        return {"navigation": navigation}
 
 
 def register_security(app: Flask) -> None:

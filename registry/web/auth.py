@@ -33,7 +33,8 @@ def load_user(user_id: str):
         return None
     if abs(ident) > MAX_ID:
         return None
-    row = db.session.execute(_SIGNED_IN, {"id": ident}).first()
+    # a Core statement on the session's connection (its transaction, none of the ORM's work)
+    row = db.session.connection().execute(_SIGNED_IN, {"id": ident}).first()
     return SignedIn(*row) if row is not None else None
 
 
