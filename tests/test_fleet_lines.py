@@ -35,3 +35,33 @@ def test_fleet_lines_list_what_fleet_page_lists(demo, case):
                 (row.model.key, row.model.maker, row.model.name, row.model.kind)
             assert [(r.category, r.voltage) for r in line.model.ratings] == \
                 [(r.category, r.voltage) for r in row.model.ratings]
+
+
+def test_the_unit_pages_model_read_as_plain_rows_is_the_rows_spec(demo):
+    # specs.model_spec_by_id (four Core statements) against specs.model_spec of the ORM row
+    # with its relationships, for every demo model (front ends, fuses, modes, ratings)
+    from sqlalchemy import select
+
+    from registry.store import models as m
+    from registry.store.specs import model_spec, model_spec_by_id
+    with demo.session() as s:
+        rows = list(s.scalars(select(m.Model)))
+        assert rows
+        for row in rows:
+            assert model_spec_by_id(s, row.id) == model_spec(row), row.key
+        assert model_spec_by_id(s, max(r.id for r in rows) + 1) is None
+
+
+def test_the_unit_line_is_the_units_row_with_its_sites_name(demo):
+    from sqlalchemy import select
+
+    from registry.store import models as m
+    with demo.session() as s:
+        for unit in s.scalars(select(m.Unit)):
+            line = queries.unit_line(s, unit.tag)
+            assert (line.id, line.tag, line.model_id, line.serial, line.custodian,
+                    line.status, line.verified_on, line.verification_due, line.notes) == \
+                (unit.id, unit.tag, unit.model_id, unit.serial, unit.custodian, unit.status,
+                 unit.verified_on, unit.verification_due, unit.notes)
+            assert line.site_name == (unit.site.name if unit.site else None)
+        assert queries.unit_line(s, "no-such-tag") is None

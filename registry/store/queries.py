@@ -6,7 +6,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from datetime import date, datetime
 
-from sqlalchemy import and_, exists, func, or_, select
+from sqlalchemy import and_, bindparam, exists, func, or_, select
 from sqlalchemy.orm import Session, selectinload
 
 from ..engine import rules, spec
@@ -330,38 +330,73 @@ def person(user: m.User | None, username: str | None = None) -> str:
     """The one way a person is named in a history: "Display Name (username)"; a recorded actor
     that is no login (an import script) keeps its own word."""
     if user is not None:
-        return f"{user.display_name} ({user.username})" if user.display_name else user.username
+        return _named(user.display_name, user.username)
     return username or ""
 
 
-def unit_timeline(session: Session, unit: m.Unit) -> list[TimelineEntry]:
-    """The unit's events, holds and recorded changes, newest first."""
+def _named(display_name: str | None, username: str) -> str:
+    return f"{display_name} ({username})" if display_name else username
+
+
+def _with_login(table, user_id, by_name: bool = False):
+    """SELECT every column of ``table`` with the display name and username of the login it
+    names (``user_id``: the column that holds the login's id, or with ``by_name`` its
+    username), as ``by_name`` and ``by_username`` (``None`` for no login)."""
+    user = m.User.__table__.alias()
+    on = (user.c.username if by_name else user.c.id) == user_id
+    return (select(*table.__table__.columns, user.c.display_name.label("by_name"),
+                   user.c.username.label("by_username")).outerjoin(user, on))
+
+
+# built once: building a statement costs more than SQLite answering it for one unit
+_UNIT_LINE = (select(*m.Unit.__table__.columns, m.Site.name.label("site_name"))
+              .outerjoin(m.Site, m.Site.id == m.Unit.site_id)
+              .where(m.Unit.tag == bindparam("tag")))
+_HOLDS = (_with_login(m.Hold, m.Hold.released_by_id)
+          .where(m.Hold.unit_id == bindparam("unit_id")).order_by(m.Hold.id))
+_EVENTS = (_with_login(m.Event, m.Event.logged_by_id)
+           .where(m.Event.unit_id == bindparam("unit_id")).order_by(m.Event.id))
+_CHANGES = (_with_login(m.Change, m.Change.actor, by_name=True)
+            .where(m.Change.entity == "unit", m.Change.entity_key == bindparam("tag"))
+            .order_by(m.Change.id))
+
+
+def unit_line(session: Session, tag: str):
+    """The unit page's unit: its columns and its site's name (``site_name``, ``None`` for no
+    site) as one plain row, or ``None``."""
+    return session.connection().execute(_UNIT_LINE, {"tag": tag}).first()
+
+
+def unit_timeline(session: Session, unit) -> list[TimelineEntry]:
+    """The unit's events, holds and recorded changes, newest first; ``unit`` is a unit row
+    or :func:`unit_line`'s row (its ``id`` and ``tag`` are read). Three plain statements,
+    each with the login that logged, released or changed (no ORM objects): the rows carry
+    the table's columns by name, as the ORM's would."""
+    conn = session.connection()
+    holds = conn.execute(_HOLDS, {"unit_id": unit.id}).all()
+    events = conn.execute(_EVENTS, {"unit_id": unit.id}).all()
+    changes = conn.execute(_CHANGES, {"tag": unit.tag}).all()
+
+    def who(row, fallback: str = "") -> str:
+        return fallback if row.by_username is None else _named(row.by_name, row.by_username)
+
     out: list[TimelineEntry] = []
-    holds = list(session.scalars(select(m.Hold).where(m.Hold.unit_id == unit.id)
-                                 .options(selectinload(m.Hold.released_by))))
     opened_by_event = {h.event_id: h for h in holds if h.event_id is not None}
-    for ev in session.scalars(select(m.Event).where(m.Event.unit_id == unit.id)
-                              .options(selectinload(m.Event.logged_by))):
-        out.append(TimelineEntry(ev.occurred_at, "event", f"Event: {ev.kind}",
-                                 who=person(ev.logged_by), row=ev,
-                                 hold=opened_by_event.get(ev.id)))
+    for ev in events:
+        out.append(TimelineEntry(ev.occurred_at, "event", f"Event: {ev.kind}", who=who(ev),
+                                 row=ev, hold=opened_by_event.get(ev.id)))
     for h in holds:
         out.append(TimelineEntry(h.opened_at, "hold-opened", f"Hold {h.id} opened", h.reason,
                                  row=h))
         if h.released_at is not None:
             out.append(TimelineEntry(h.released_at, "hold-released",
                                      f"Hold {h.id} released: {h.result}", h.notes,
-                                     who=person(h.released_by), row=h))
-    changes = list(session.scalars(select(m.Change).where(m.Change.entity == "unit",
-                                                          m.Change.entity_key == unit.tag)))
-    actors = {c.actor for c in changes}
-    users = {u.username: u for u in session.scalars(
-        select(m.User).where(m.User.username.in_(actors)))} if actors else {}
+                                     who=who(h), row=h))
     for c in changes:
         out.append(TimelineEntry(c.at, "change", f"Changed {c.field}",
                                  f"{c.old if c.old is not None else '—'} → "
                                  f"{c.new if c.new is not None else '—'}",
-                                 who=person(users.get(c.actor), c.actor), row=c))
+                                 who=who(c, c.actor), row=c))
     out.sort(key=lambda e: (e.at, e.kind), reverse=True)
     return out
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any
 
-from sqlalchemy import select
+from sqlalchemy import bindparam, select
 from sqlalchemy.orm import Session, selectinload
 
 from ..engine import spec
@@ -44,6 +44,34 @@ def model_spec(row: m.Model) -> spec.ModelSpec:
                                      tuple((k, float(v)) for k, v in (e.params or {}).items()))
                         for e in row.elements),
         **row_fields(row))
+
+
+def model_spec_by_id(session: Session, model_id: int) -> spec.ModelSpec | None:
+    """:func:`model_spec` of the model ``model_id`` (``None`` for none), read as plain rows:
+    the model's and each child table's in order of position, four Core statements on the
+    session's connection and no ORM objects (the unit page renders a model this way)."""
+    conn = session.connection()
+    row = conn.execute(_MODEL, {"id": model_id}).first()
+    if row is None:
+        return None
+    children = {name: conn.execute(statement, {"id": model_id}).all()
+                for name, statement in _CHILDREN.items()}
+    return model_spec(_Plain(**row._mapping, **children))
+
+
+_MODEL = select(m.Model.__table__).where(m.Model.id == bindparam("id"))
+_CHILDREN = {name: select(table.__table__).where(table.model_id == bindparam("id"))
+             .order_by(table.position)
+             for name, table in (("ratings", m.Rating), ("modes", m.Mode),
+                                 ("elements", m.FrontEndElement))}
+
+
+class _Plain:
+    """A model's columns and children as attributes, the way :func:`model_spec` reads an ORM
+    row."""
+
+    def __init__(self, **fields):
+        self.__dict__.update(fields)
 
 
 _SCALARS = ("maker", "name", "kind", "integrated_leads", "max_altitude", "pollution_degree",

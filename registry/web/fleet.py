@@ -12,7 +12,6 @@ from flask import (Blueprint, Response, flash, redirect, render_template, reques
                    url_for)
 from flask_login import current_user
 from markupsafe import Markup, escape
-from sqlalchemy.orm import joinedload
 
 from ..engine import rules, spec
 from ..engine.quantity import (CAPACITANCE, CURRENT, ENERGY, LENGTH, POWER, RESISTANCE, TIME,
@@ -21,14 +20,13 @@ from ..errors import InvalidInput
 from ..extensions import db
 from ..formats.fleet import unit_to_document
 from ..services.fleet import EDITABLE, edit_unit, status_choices
-from ..store import models as m
 from ..store import queries
-from ..store.specs import model_spec, unit_record
+from ..store.specs import model_spec_by_id, unit_record
 from .access import role_required
 from .forms import FieldErrors
 from .limits import check_texts
 from .page_cache import kept_data, page, shared_part
-from .params import fleet_query, unit_or_404
+from .params import fleet_query, unit_line_or_404, unit_or_404
 
 bp = Blueprint("fleet", __name__)
 
@@ -208,7 +206,7 @@ def filters_form(typed: dict, errors: FieldErrors) -> Markup:
 @role_required("viewer")
 def unit(tag: str):
     def context() -> dict:
-        row = unit_or_404(tag, joinedload(m.Unit.site))  # a 404 before anything is kept
+        row = unit_line_or_404(tag)  # a 404 before anything is kept
         timeline = queries.unit_timeline(db.session, row)
         # the open hold, from the holds the timeline read (the first opened, as row.holds)
         hold = min((e.row for e in timeline
@@ -224,8 +222,8 @@ def model_part(model_id: int) -> Markup:
     """A model's ratings, modes and front end as the unit page shows them
     (``library/_spec.html``), rendered once per model and fleet version for all its units."""
     def render():
-        row = db.session.get(m.Model, model_id)
-        return shared_part("library/_spec.html", model=model_spec(row))
+        return shared_part("library/_spec.html",
+                           model=model_spec_by_id(db.session, model_id))
     return kept_data("model part", model_id, render)
 
 

@@ -30,6 +30,17 @@ def unit_or_404(tag: str, *options) -> m.Unit:
     return row
 
 
+def unit_line_or_404(tag: str):
+    """The unit with ``tag`` as a plain row with its site's name (``queries.unit_line``), or
+    a 404."""
+    if control_problem(tag, multiline=False):
+        abort(404)
+    row = queries.unit_line(db.session, tag)
+    if row is None:
+        abort(404)
+    return row
+
+
 def fleet_query(args, errors: FieldErrors) -> tuple[queries.FleetQuery, dict]:
     """The filters from a query string; ``typed`` keeps the text as typed for the form."""
     typed = {k: args.get(k, "").strip() for k in

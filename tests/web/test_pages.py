@@ -277,3 +277,46 @@ def test_steward_cannot_lock_themself_out(client, demo):
                        data={"csrf_token": token, "active": "0"}).status_code == 400
     assert client.post(f"/users/{me.id}/role",
                        data={"csrf_token": token, "role": "viewer"}).status_code == 400
+
+
+def test_unit_history_names_who_logged_released_and_changed(client, demo):
+    # the timeline (queries.unit_timeline) as the unit page shows it, newest first: the event
+    # with its logger, the hold it opened and its release with the releaser, an edit with its
+    # login, and a change recorded by an actor that is no login, in its own word
+    from datetime import datetime
+
+    from sqlalchemy import select
+
+    from registry.services.events import log_event
+    from registry.services.fleet import EDITABLE, edit_unit
+    from registry.services.holds import release_hold
+    from registry.store import models as m
+    from registry.store.queries import person
+    with demo.transaction() as s:
+        names = {u.username: person(u) for u in s.scalars(select(m.User))}
+    # a symptom after an overvoltage opens a hold (docs/rules.md, check 11; common practice
+    # (no source))
+    logged = log_event(demo, unit="NB-0002", kind="overvoltage", mode="vdc", voltage=400.0,
+                       symptoms=["smell"], by="tech", at=datetime(2026, 11, 2, 9, 0))
+    release_hold(demo, unit="NB-0002", result="pass", by="steward", note="inspected")
+    fields = {k: "" for k in EDITABLE}
+    fields.update(status="in-service", custodian="Someone Else", site="North bench",
+                  serial="22-0412", verified_on="2026-06-15", verification_due="2027-06-15")
+    edit_unit(demo, "NB-0002", fields, by="steward")
+    with demo.transaction() as s:
+        s.add(m.Change(at=datetime(2001, 1, 1), actor="import script", entity="unit",
+                       entity_key="NB-0002", field="notes", old=None, new="from the old sheet"))
+    login_as(client, "viewer")
+    page = client.get("/units/NB-0002").get_data(as_text=True)
+    history = page[page.index("<h2>History</h2>"):]
+    assert f"Event: overvoltage</strong> · {names['tech']}" in history
+    assert f"Hold {logged.hold_id} opened" in history
+    assert f"This event opened hold {logged.hold_id} (released" in history
+    assert f"Hold {logged.hold_id} released: pass</strong> · {names['steward']}" in history
+    assert f"Changed custodian</strong> · {names['steward']}" in history
+    assert "Changed notes</strong> · import script" in history
+    assert "— → from the old sheet" in history
+    # newest first: the release after the event, the 2001 change last
+    assert history.index("released: pass") < history.index("Event: overvoltage") \
+        < history.index("Changed notes")
+    assert "On hold" not in page
