@@ -116,8 +116,9 @@ def _page_ids(session: Session, filters: FleetQuery, today: date, total: int):
         order.append(m.Unit.tag.asc())
     pages = max((total + filters.size - 1) // filters.size, 1)
     page = min(max(filters.page, 1), pages)
-    ids = list(session.scalars(_fleet_select([m.Unit.id], filters, today).order_by(*order)
-                               .limit(filters.size).offset((page - 1) * filters.size)))
+    ids = list(session.connection().scalars(
+        _fleet_select([m.Unit.id], filters, today).order_by(*order)
+        .limit(filters.size).offset((page - 1) * filters.size)))
     return ids, page, pages
 
 
@@ -177,19 +178,21 @@ def model_lines(session: Session) -> dict[int, ModelLine]:
                 select(m.Model.id, m.Model.key, m.Model.maker, m.Model.name, m.Model.kind))}
 
 
+_LINES = (select(m.Unit.id, m.Unit.tag, m.Unit.status, m.Unit.verification_due,
+                 m.Unit.model_id, m.Site.name.label("site_name"))
+          .outerjoin(m.Unit.site).where(m.Unit.id.in_(bindparam("ids", expanding=True))))
+
+
 def fleet_lines(session: Session, filters: FleetQuery, models: dict[int, ModelLine],
                 today: date | None = None, total: int | None = None) -> FleetPage:
     """:func:`fleet_page` as plain lines (:class:`UnitLine`) for the web's list: the page's
     unit ids, then their columns and sites in one query, the models from ``models``
-    (:func:`model_lines`)."""
+    (:func:`model_lines`); Core statements on the session's connection (no ORM work)."""
     today = today or date.today()
     if total is None:
         total = fleet_count(session, filters, today)
     ids, page, pages = _page_ids(session, filters, today, total)
-    rows = {r.id: r for r in session.execute(
-        select(m.Unit.id, m.Unit.tag, m.Unit.status, m.Unit.verification_due,
-               m.Unit.model_id, m.Site.name.label("site_name"))
-        .outerjoin(m.Unit.site).where(m.Unit.id.in_(ids)))}
+    rows = {r.id: r for r in session.connection().execute(_LINES, {"ids": ids})}
     units = [UnitLine(r.tag, r.status, r.verification_due, r.site_name, models[r.model_id])
              for r in (rows[i] for i in ids)]
     return FleetPage(units=units, total=total, page=page, pages=pages)

@@ -124,6 +124,13 @@ def list_links(endpoint: str, typed: dict):
     return link
 
 
+def shown_pages(page: int, pages: int) -> list[int]:
+    """The page numbers a list's pager links: the first, the last and those within 3 of
+    ``page``, in order (made without walking every page of a long list)."""
+    near = range(max(page - 3, 1), min(page + 3, pages) + 1)
+    return sorted({1, pages, *near})
+
+
 _OVERDUE_MARK = ' <span class="overdue"><span aria-hidden="true">⚠</span> overdue</span>'
 
 
@@ -181,7 +188,8 @@ def index():
         result = queries.fleet_lines(db.session, filters, models, today, total)
         rows = fleet_rows(result.units, cells, unit_links(), _overdue_today())
         return dict(result=result, rows=rows, filters_form=filters_form(typed, errors),
-                    link=list_links("fleet.index", typed), sort=filters.sort,
+                    link=list_links("fleet.index", typed), shown_pages=shown_pages,
+                    sort=filters.sort,
                     desc=filters.desc)
 
     if errors:  # a 400 that names the field is rendered as it is, never kept

@@ -156,3 +156,13 @@ def test_list_links_are_url_for_of_the_same_arguments(app, typed, changes):
         expected = url_for("fleet.index",
                            **{k: v for k, v in args.items() if v not in ("", None)})
         assert list_links("fleet.index", typed)(**changes) == expected
+
+
+@pytest.mark.parametrize("pages", [1, 2, 5, 8, 9, 400])
+def test_the_pager_links_the_first_last_and_near_pages(pages):
+    # the rule the fleet list's pager states (the first and last pages and those within 3)
+    # as a filter over every page, against the list made without walking them
+    from registry.web.fleet import shown_pages
+    for page in range(1, pages + 1):
+        assert shown_pages(page, pages) == [
+            p for p in range(1, pages + 1) if p in (1, pages) or abs(p - page) <= 3]
