@@ -32,6 +32,12 @@ def default_url(instance_path: str | os.PathLike) -> str:
     return f"sqlite:///{Path(instance_path) / 'withstand.sqlite3'}"
 
 
+# Connections kept open in the pool: at least the web server's threads (cli._serve, 8), so
+# that requests in flight together never open and close a connection of their own (SQLite
+# parses the schema on each new one, and the pragmas run); beyond it, overflow as before.
+POOL_SIZE = 10
+
+
 def _sqlite_pragmas(dbapi_connection, _record):
     cur = dbapi_connection.cursor()
     # WAL lets readers go on while one writer writes; foreign keys are off by default in SQLite.
@@ -47,7 +53,8 @@ def make_engine(url: str) -> Engine:
     except Exception:
         raise InvalidInput(f"'{url}' is not a database URL", "WITHSTAND_DATABASE_URL") from None
     if parsed.get_backend_name() == "sqlite":
-        engine = create_engine(parsed, connect_args={"timeout": SQLITE_BUSY_TIMEOUT_MS / 1000})
+        engine = create_engine(parsed, connect_args={"timeout": SQLITE_BUSY_TIMEOUT_MS / 1000},
+                               pool_size=POOL_SIZE)
         event.listen(engine, "connect", _sqlite_pragmas)
         # pysqlite's own transaction handling defers BEGIN; let SQLAlchemy emit it so that
         # `BEGIN IMMEDIATE` (used to serialise appends) works.
@@ -58,7 +65,7 @@ def make_engine(url: str) -> Engine:
     if parsed.get_backend_name() == "postgresql":
         if parsed.get_driver_name() in ("psycopg2", "postgresql", ""):
             parsed = parsed.set(drivername="postgresql+psycopg")
-        return create_engine(parsed, pool_pre_ping=True)
+        return create_engine(parsed, pool_pre_ping=True, pool_size=POOL_SIZE)
     raise InvalidInput(f"'{parsed.get_backend_name()}' databases are not supported; use "
                        "SQLite or PostgreSQL", "WITHSTAND_DATABASE_URL")
 
