@@ -83,6 +83,14 @@ def test_fleet_verification_due_filter(client, demo):
     assert "NB-0002" in overdue and "NB-0001" not in overdue
     dash = client.get("/dashboard").get_data(as_text=True)
     assert "NB-0002" in dash and "overdue" in dash
+    # the list's rows mark it, and only it (rules.unit_overdue: due before today, not retired)
+    listed = client.get("/?q=NB-000").get_data(as_text=True)
+
+    def row_of(tag):
+        row = listed[listed.index(f'href="/units/{tag}"'):]
+        return row[:row.index("</tr>")]
+    assert 'class="overdue"' in row_of("NB-0002")
+    assert 'class="overdue"' not in row_of("NB-0001")
 
 
 def test_fleet_filter_error_keeps_what_was_typed(client, demo):
