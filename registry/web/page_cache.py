@@ -63,6 +63,7 @@ def _no_token(*_args, **_kwargs):
 class Kept:
     title: Markup
     content: Markup
+    body: bytes = b""  # ``content`` in UTF-8, encoded once when kept
 
 
 class _Answer(Exception):  # noqa: N818 - not an error: carries a response past the cache
@@ -120,7 +121,7 @@ def _render_blocks(template: str, context: dict) -> Kept:
     assert found, "a kept page extends layout|default(\"base.html\")"
     if generate_csrf() in content:  # a macro imported without the context reads the global
         raise RuntimeError(f"{template}: a kept page may not hold a per-session CSRF token")
-    return Kept(Markup(title.strip()), Markup(content))
+    return Kept(Markup(title.strip()), Markup(content), content.encode("utf-8"))
 
 
 def page(template: str, compute: Callable[[], object], *extra, large: bool = False):
@@ -138,4 +139,22 @@ def page(template: str, compute: Callable[[], object], *extra, large: bool = Fal
         kept = pages(large).get(page_key(*extra), render)
     except _Answer as answer:
         return answer.response
-    return render_template("_page.html", kept=kept)
+    return _framed(kept)
+
+
+# where the kept part goes in this request's frame: a marker of this process's own, which no
+# text can know; the last one is taken, and the frame holds nothing typed after the content
+_SLOT = "<!--kept-" + secrets.token_hex(16) + "-->"
+
+
+def _framed(kept: Kept):
+    """The response: this request's frame (``_page.html``) around the kept part, the frame
+    rendered with a marker where the content goes and the kept part's UTF-8 bytes put there,
+    so the content (a few hundred kB for a check result) is neither copied into the frame's
+    text nor encoded again for every request."""
+    frame = render_template("_page.html", kept=Kept(kept.title, Markup(_SLOT)))
+    head, found, tail = frame.rpartition(_SLOT)
+    assert found, "_page.html places the kept content"
+    return current_app.response_class(
+        b"".join((head.encode("utf-8"), kept.body, tail.encode("utf-8"))),
+        mimetype="text/html")
