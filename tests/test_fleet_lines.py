@@ -65,3 +65,24 @@ def test_the_unit_line_is_the_units_row_with_its_sites_name(demo):
                  unit.verified_on, unit.verification_due, unit.notes)
             assert line.site_name == (unit.site.name if unit.site else None)
         assert queries.unit_line(s, "no-such-tag") is None
+
+
+@pytest.mark.parametrize("on", [date(2020, 1, 1), date(2026, 12, 3), date(2027, 6, 1),
+                                date(2040, 1, 1)])
+def test_dashboard_counts_from_one_scan_are_the_sql_counts(demo, on):
+    # the dashboard's counts made from (status, due) pairs by the engine's rules
+    # (rules.unit_due_within) against the SQL filter and GROUP BY they replace
+    from sqlalchemy import func, select
+
+    from registry.store import models as m
+    with demo.session() as s:
+        groups = queries.status_due_groups(s)
+        assert sum(n for *_, n in groups) == s.scalar(select(func.count()).select_from(m.Unit))
+        by_status = dict(s.execute(select(m.Unit.status, func.count())
+                                   .group_by(m.Unit.status)).all())
+        assert queries.status_counts(s, groups) == \
+            {st: by_status.get(st, 0) for st in queries.spec.UNIT_STATUSES}
+        for days in (0, 30, 90, 400):
+            assert queries.due_soon_count(s, days, on, groups=groups) == \
+                queries.due_soon_count(s, days, on) == len(queries.due_soon(s, days, on))
+        assert queries.due_by_month(s, on, groups=groups) == queries.due_by_month(s, on)

@@ -198,10 +198,22 @@ def fleet_lines(session: Session, filters: FleetQuery, models: dict[int, ModelLi
     return FleetPage(units=units, total=total, page=page, pages=pages)
 
 
-def status_counts(session: Session) -> dict[str, int]:
-    rows = {s: n for s, n in session.execute(select(m.Unit.status, func.count())
-                                                .group_by(m.Unit.status))}
-    return {s: rows.get(s, 0) for s in spec.UNIT_STATUSES}
+def status_due_groups(session: Session) -> list[tuple[str, date | None, int]]:
+    """(status, verification due, units) for every pair the units hold: one scan, from which
+    the dashboard's counts by status, due and overdue units and due by month are made with
+    the engine's rules (a few dozen pairs for a lab of thousands of units)."""
+    return [tuple(r) for r in session.connection().execute(
+        select(m.Unit.status, m.Unit.verification_due, func.count())
+        .group_by(m.Unit.status, m.Unit.verification_due))]
+
+
+def status_counts(session: Session, groups=None) -> dict[str, int]:
+    """Units per status (``groups``: :func:`status_due_groups`, read when not given)."""
+    out = dict.fromkeys(spec.UNIT_STATUSES, 0)
+    for status, _due, n in (groups if groups is not None else status_due_groups(session)):
+        if status in out:
+            out[status] += n
+    return out
 
 
 def due_soon(session: Session, days: int = 30, today: date | None = None,
@@ -215,10 +227,15 @@ def due_soon(session: Session, days: int = 30, today: date | None = None,
     return list(session.scalars(q if limit is None else q.limit(limit)))
 
 
-def due_soon_count(session: Session, days: int = 30, today: date | None = None) -> int:
-    """How many units :func:`due_soon` would list."""
-    return session.scalar(select(func.count()).select_from(m.Unit)
-                          .where(_due_within(today or date.today(), days)))
+def due_soon_count(session: Session, days: int = 30, today: date | None = None,
+                   groups=None) -> int:
+    """How many units :func:`due_soon` would list (``groups``: :func:`status_due_groups`,
+    counted by rules.unit_due_within, the rule :func:`due_soon`'s SQL is held to)."""
+    today = today or date.today()
+    if groups is None:
+        return session.scalar(select(func.count()).select_from(m.Unit)
+                              .where(_due_within(today, days)))
+    return sum(n for status, due, n in groups if rules.unit_due_within(status, due, today, days))
 
 
 def month_starts(today: date, months: int, back: bool = False) -> list[date]:
@@ -234,17 +251,17 @@ def _month_of(d: date) -> date:
     return d.replace(day=1)
 
 
-def due_by_month(session: Session, today: date | None = None, months: int = 12):
+def due_by_month(session: Session, today: date | None = None, months: int = 12,
+                 groups=None):
     """(overdue count, [(month, units falling due in it)]) over the next ``months`` calendar
-    months, this one first; the engine's rules say which units count and which are overdue."""
+    months, this one first; the engine's rules say which units count and which are overdue
+    (``groups``: :func:`status_due_groups`, read when not given)."""
     today = today or date.today()
     starts = month_starts(today, months)
     counts = dict.fromkeys(starts, 0)
     overdue = 0
     # one row per (status, due date) with its count: the rules run per distinct pair
-    for status, due, n in session.execute(select(m.Unit.status, m.Unit.verification_due,
-                                                 func.count())
-                                          .group_by(m.Unit.status, m.Unit.verification_due)):
+    for status, due, n in (groups if groups is not None else status_due_groups(session)):
         if rules.unit_overdue(status, due, today):
             overdue += n
         elif status in rules.VERIFIED_STATUSES and due is not None \
@@ -307,10 +324,14 @@ def coverage(session: Session) -> Coverage:
     for model_id, cat, volts in session.execute(select(m.Rating.model_id, m.Rating.category,
                                                        m.Rating.voltage)):
         ratings.setdefault(model_id, []).append((cat, volts))
-    in_service = session.execute(select(m.Model.id, m.Model.kind, func.count())
-                                 .join(m.Unit.model).where(m.Unit.status == "in-service")
-                                 .group_by(m.Model.id, m.Model.kind))
-    for model_id, kind, units in in_service:
+    # the units counted per model id alone (one scan of the units, no join), the kinds
+    # from the models table
+    kinds = dict(session.execute(select(m.Model.id, m.Model.kind)).all())
+    in_service = session.execute(select(m.Unit.model_id, func.count())
+                                 .where(m.Unit.status == "in-service")
+                                 .group_by(m.Unit.model_id))
+    for model_id, units in in_service:
+        kind = kinds[model_id]
         table = out.instruments if kind in spec.INSTRUMENT_KINDS else out.accessories
         for cat, v in table:
             if any(rules.rating_covers(rc, rv, cat, v) for rc, rv in ratings.get(model_id, ())):

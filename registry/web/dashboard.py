@@ -28,7 +28,8 @@ def index():
 def _context() -> dict:
     session = db.session
     today = date.today()
-    overdue_now, due = queries.due_by_month(session, today)
+    groups = queries.status_due_groups(session)  # one scan for the counts, due and overdue
+    overdue_now, due = queries.due_by_month(session, today, groups=groups)
     due_chart = month_chart_svg([mo for mo, _ in due], {"units due": [n for _, n in due]},
                                 "Units whose verification falls due, by month")
     events = queries.events_by_month(session, today)
@@ -36,11 +37,11 @@ def _context() -> dict:
         [mo for mo, _ in events],
         {kind: [counts[kind] for _, counts in events] for kind in spec.EVENT_KINDS},
         "Events logged per month, by kind", KIND_MARKS)
-    return dict(counts=queries.status_counts(session),
+    return dict(counts=queries.status_counts(session, groups),
                 due_chart=due_chart, events_chart=events_chart,
                 overdue_now=overdue_now, due_months=due, event_months=events,
                 due=queries.due_soon(session, DUE_DAYS, limit=DUE_SHOWN), days=DUE_DAYS,
-                due_total=queries.due_soon_count(session, DUE_DAYS),
+                due_total=queries.due_soon_count(session, DUE_DAYS, groups=groups),
                 holds=queries.open_holds(session),
                 events=queries.recent_events(session),
                 coverage=queries.coverage(session), today=today,
