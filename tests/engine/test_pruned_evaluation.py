@@ -34,6 +34,21 @@ SITES = ("North bench", "Substation yard", None)
 DEMO_FRONT_END = fleet_from_file(demo_fleet_path()).models["kx-7"].front_end
 
 
+def random_unit(draw, tag: str, model: str, statuses: list[str]) -> UnitState:
+    """A unit of ``model`` at a random site, status (from ``statuses``) and due date, one in
+    six with a logged transient that was not (or not known to be) within rating."""
+    history = ()
+    if draw(st.integers(0, 5)) == 0:
+        history = (PastEvent(mode=None, kind="transient",
+                             within_rating=draw(st.sampled_from([None, False])),
+                             occurred_at=datetime(2026, 3, 1, 9, 0)),)
+    return UnitState(tag=tag, model=model, status=draw(st.sampled_from(statuses)),
+                     site=draw(st.sampled_from(SITES)),
+                     verification_due=draw(st.sampled_from([date(2027, 1, 1),
+                                                            date(2026, 12, 30), None])),
+                     history=history)
+
+
 @st.composite
 def fleets(draw):
     """Copies of a random instrument and lead (some exact, some with one rating changed, one
@@ -96,18 +111,8 @@ def demo_fleets(draw):
             chosen.append(m)
     units = []
     for n in range(draw(st.integers(2, 14))):
-        model = draw(st.sampled_from(chosen))
-        history = ()
-        if draw(st.integers(0, 5)) == 0:
-            history = (PastEvent(mode=None, kind="transient",
-                                 within_rating=draw(st.sampled_from([None, False])),
-                                 occurred_at=datetime(2026, 3, 1, 9, 0)),)
-        units.append(UnitState(
-            tag=f"U{n}", model=model.key,
-            status=draw(st.sampled_from(["in-service"] * 5 + ["retired"])),
-            site=draw(st.sampled_from(SITES)),
-            verification_due=draw(st.sampled_from([date(2027, 1, 1), date(2026, 12, 30),
-                                                   None])), history=history))
+        units.append(random_unit(draw, f"U{n}", draw(st.sampled_from(chosen)).key,
+                                 ["in-service"] * 5 + ["retired"]))
     return Fleet(models={m.key: m for m in chosen}, units=tuple(units))
 
 
@@ -228,17 +233,8 @@ def accessory_fleets(draw):
     units = []
     for model in chosen:
         for _ in range(draw(st.integers(1, 4 if model.is_instrument else 2))):
-            history = ()
-            if draw(st.integers(0, 5)) == 0:
-                history = (PastEvent(mode=None, kind="transient",
-                                     within_rating=draw(st.sampled_from([None, False])),
-                                     occurred_at=datetime(2026, 3, 1, 9, 0)),)
-            units.append(UnitState(
-                tag=f"U{len(units):02d}", model=model.key,
-                status=draw(st.sampled_from(["in-service"] * 6 + ["away"])),
-                site=draw(st.sampled_from(SITES)),
-                verification_due=draw(st.sampled_from([date(2027, 1, 1), date(2026, 12, 30),
-                                                       None])), history=history))
+            units.append(random_unit(draw, f"U{len(units):02d}", model.key,
+                                     ["in-service"] * 6 + ["away"]))
     order = draw(st.permutations(range(len(units))))
     return Fleet(models={m.key: m for m in chosen}, units=tuple(units[i] for i in order))
 
