@@ -12,7 +12,7 @@ from dataclasses import dataclass
 from datetime import date
 
 import yaml
-from flask import Blueprint, Response, abort, render_template, request, url_for
+from flask import Blueprint, Response, abort, render_template, request
 
 from ..engine.result import VERDICT_ORDER, format_ratio, margin_ratio
 from ..engine.spec import PLAN_WAVEFORMS, SUPPLIES, TASKS
@@ -28,6 +28,7 @@ from ..store.versions import fleet_version
 from .access import role_required
 from .forms import FieldErrors
 from .limits import check_texts, int_arg
+from .params import list_links
 from .page_cache import page
 from .plots import DischargePath, discharge_svg, needs_has_svg
 from .result_cache import results
@@ -323,9 +324,7 @@ def result_context(res, fleet, fields) -> dict:
 
 def _result_link(anchor: str = "", **changes) -> str:
     """This result page's address with ``changes`` to its query (None drops an argument)."""
-    args = request.args.to_dict()
-    args.update(changes)
-    url = url_for("checks.result", **{k: v for k, v in args.items() if v not in (None, "")})
+    url = list_links("checks.result", request.args.to_dict())(**changes)
     return url + (f"#{anchor}" if anchor else "")
 
 

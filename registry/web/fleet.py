@@ -5,7 +5,7 @@ from __future__ import annotations
 import io
 import re
 from datetime import date, datetime
-from urllib.parse import quote, urlencode
+from urllib.parse import quote
 
 import segno
 from flask import (Blueprint, Response, flash, redirect, render_template, request,
@@ -26,7 +26,7 @@ from .access import role_required
 from .forms import FieldErrors
 from .limits import check_texts
 from .page_cache import kept_data, page, shared_part
-from .params import fleet_query, unit_line_or_404, unit_or_404
+from .params import fleet_query, list_links, unit_line_or_404, unit_or_404
 
 bp = Blueprint("fleet", __name__)
 
@@ -103,25 +103,6 @@ def unit_links():
     the same address for awkward tags)."""
     prefix = url_for("fleet.unit", tag="x")[:-1]
     return lambda tag: prefix + quote(str(tag), safe=_SEGMENT_SAFE)
-
-
-# what werkzeug's url_for leaves unquoted in a query string (werkzeug.urls._urlencode)
-_QUERY_SAFE = "!$'()*,/:;?@"
-
-
-def list_links(endpoint: str, typed: dict):
-    """``link(**changes)``: ``url_for(endpoint, ...)`` of the list's arguments as typed with
-    ``changes`` over them (a value of ``""`` or ``None`` left out), for the many sort and page
-    links of a list: the route's address built once, the query encoded as url_for encodes it
-    (a test holds the two to the same address for awkward text)."""
-    base = url_for(endpoint)
-    kept = {k: v for k, v in typed.items() if v}
-
-    def link(**changes) -> str:
-        args = {**kept, **changes}
-        items = [(k, v) for k, v in args.items() if v not in ("", None)]
-        return base + "?" + urlencode(items, safe=_QUERY_SAFE) if items else base
-    return link
 
 
 def shown_pages(page: int, pages: int) -> list[int]:

@@ -5,8 +5,9 @@ pages and the API share it without importing each other."""
 from __future__ import annotations
 
 from datetime import date
+from urllib.parse import urlencode
 
-from flask import abort
+from flask import abort, url_for
 from sqlalchemy import select
 
 from ..engine import spec
@@ -20,25 +21,25 @@ from .forms import FieldErrors, quantity_or_none
 from .limits import check_texts, control_problem, int_arg
 
 
-def unit_or_404(tag: str, *options) -> m.Unit:
-    """The unit with ``tag`` (loaded with the ORM ``options`` given), or a 404."""
+def _found_or_404(tag: str, find):
+    """``find(tag)``, or a 404 when it finds nothing or the tag could be none's."""
     if control_problem(tag, multiline=False):
         abort(404)  # no tag holds a control character (and PostgreSQL refuses a NUL)
-    row = db.session.scalar(select(m.Unit).where(m.Unit.tag == tag).options(*options))
+    row = find(tag)
     if row is None:
         abort(404)
     return row
+
+
+def unit_or_404(tag: str) -> m.Unit:
+    """The unit with ``tag`` as an ORM row, or a 404."""
+    return _found_or_404(tag, lambda t: db.session.scalar(select(m.Unit).where(m.Unit.tag == t)))
 
 
 def unit_line_or_404(tag: str):
     """The unit with ``tag`` as a plain row with its site's name (``queries.unit_line``), or
     a 404."""
-    if control_problem(tag, multiline=False):
-        abort(404)
-    row = queries.unit_line(db.session, tag)
-    if row is None:
-        abort(404)
-    return row
+    return _found_or_404(tag, lambda t: queries.unit_line(db.session, t))
 
 
 def fleet_query(args, errors: FieldErrors) -> tuple[queries.FleetQuery, dict]:
@@ -81,3 +82,22 @@ def audit_args(args, errors: FieldErrors) -> tuple[date | None, str | None, dict
     if typed["site"] and typed["site"] not in sites:
         errors.add("site", f"'{typed['site']}' is not a site of the fleet")
     return since, typed["site"] or None, typed
+
+
+# what werkzeug's url_for leaves unquoted in a query string (werkzeug.urls._urlencode)
+_QUERY_SAFE = "!$'()*,/:;?@"
+
+
+def list_links(endpoint: str, typed: dict):
+    """``link(**changes)``: ``url_for(endpoint, ...)`` of the list's arguments as typed with
+    ``changes`` over them (a value of ``""`` or ``None`` left out), for the many sort and page
+    links of a list: the route's address built once, the query encoded as url_for encodes it
+    (a test holds the two to the same address for awkward text)."""
+    base = url_for(endpoint)
+    kept = {k: v for k, v in typed.items() if v}
+
+    def link(**changes) -> str:
+        args = {**kept, **changes}
+        items = [(k, v) for k, v in args.items() if v not in ("", None)]
+        return base + "?" + urlencode(items, safe=_QUERY_SAFE) if items else base
+    return link

@@ -149,7 +149,7 @@ def test_unit_links_are_the_routes_own(app, tag):
 def test_list_links_are_url_for_of_the_same_arguments(app, typed, changes):
     from flask import url_for
 
-    from registry.web.fleet import list_links
+    from registry.web.params import list_links
     with app.test_request_context("/"):
         args = {k: v for k, v in typed.items() if v}
         args.update(changes)
